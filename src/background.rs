@@ -1,0 +1,73 @@
+//! The [`Background`] seam: an equilibrium state that can be evaluated at any
+//! coordinate. Closures build backgrounds; samplers, checks and tables read
+//! them. This module owns the trait and the point state, not any solver.
+
+/// Which one-dimensional balance a background satisfies, and so which
+/// coordinate [`Background::at`] takes.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[non_exhaustive]
+pub enum Shape {
+    /// Plane-parallel slab along `z`: dP/dz = −ρ dΦ/dz.
+    Slab,
+    /// Spherically symmetric hydrostatic balance along `r`: dP/dr = −ρ dΦ/dr.
+    Spherical,
+    /// Midplane of an axisymmetric rotating disk along `R`:
+    /// v_φ²/R = ∂Φ/∂R + (1/ρ) ∂P/∂R.
+    DiskMidplane,
+}
+
+impl Shape {
+    /// The name of the background coordinate (`z`, `r` or `R`).
+    pub fn coordinate(self) -> &'static str {
+        match self {
+            Shape::Slab => "z",
+            Shape::Spherical => "r",
+            Shape::DiskMidplane => "R",
+        }
+    }
+}
+
+/// The equilibrium at one point. Velocities other than the azimuthal
+/// rotation are zero in every background built so far.
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct PointState {
+    /// Mass density ρ (a surface density Σ for vertically integrated disks).
+    pub density: f64,
+    /// Pressure P (vertically integrated for vertically integrated disks).
+    pub pressure: f64,
+    /// Azimuthal velocity v_φ (zero for slabs and spheres).
+    pub rotation: f64,
+    /// Gravitational potential Φ.
+    pub potential: f64,
+}
+
+impl PointState {
+    /// Isothermal sound speed squared, c² = P/ρ.
+    pub fn sound_speed_sq(&self) -> f64 {
+        self.pressure / self.density
+    }
+}
+
+/// An equilibrium state that can be evaluated at any coordinate inside the
+/// domain it was built for.
+///
+/// ```
+/// use stillpoint::background::{Background, PointState, Shape};
+/// /// An isothermal slab ρ = e^(−z), P = ρ, Φ = z (g = c² = 1).
+/// struct Slab;
+/// impl Background for Slab {
+///     fn shape(&self) -> Shape { Shape::Slab }
+///     fn at(&self, z: f64) -> PointState {
+///         let rho = (-z).exp();
+///         PointState { density: rho, pressure: rho, rotation: 0.0, potential: z }
+///     }
+/// }
+/// assert!((Slab.at(1.0).sound_speed_sq() - 1.0).abs() < 1e-15);
+/// ```
+pub trait Background: Sync {
+    /// The balance this background satisfies.
+    fn shape(&self) -> Shape;
+    /// The state at coordinate `s` (`z`, `r` or `R`, see [`Shape::coordinate`]).
+    /// Outside the domain the background was built for, fields may be NaN.
+    fn at(&self, s: f64) -> PointState;
+}

@@ -1,0 +1,242 @@
+//! The formula engine: our own small computer-algebra system for the laws a
+//! profile states. It parses plain mathematical text, differentiates,
+//! simplifies, compiles to a flat instruction program and prints back as text
+//! and LaTeX. It knows nothing of physics: names are just names.
+//!
+//! SKELETON: the API below is the contract other modules code against. The
+//! bodies marked `todo!` are being implemented (issue 2, formula engine).
+
+use std::collections::{BTreeMap, BTreeSet};
+use std::fmt;
+use std::ops::Range;
+
+/// A function the formula language knows.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+#[non_exhaustive]
+pub enum Func {
+    Sqrt,
+    Exp,
+    Log,
+    Log10,
+    Sin,
+    Cos,
+    Tan,
+    Asin,
+    Acos,
+    Atan,
+    Atan2,
+    Sinh,
+    Cosh,
+    Tanh,
+    Abs,
+    Min,
+    Max,
+}
+
+/// A comparison operator inside a condition.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum CmpOp {
+    Lt,
+    Le,
+    Gt,
+    Ge,
+    Eq,
+    Ne,
+}
+
+/// A condition of `if(condition, a, b)`.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Cond {
+    /// `a < b` and the other comparisons.
+    Cmp(CmpOp, Expr, Expr),
+    /// `c and d`.
+    And(Box<Cond>, Box<Cond>),
+    /// `c or d`.
+    Or(Box<Cond>, Box<Cond>),
+}
+
+/// A formula as a tree. Sums and products are n-ary so that simplification
+/// can flatten and collect; subtraction is `a + (-1)*b`, division `a * b^-1`.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Expr {
+    /// A number.
+    Num(f64),
+    /// A name: a parameter, a coordinate or a built-in constant (`pi`).
+    Name(String),
+    /// A sum of terms.
+    Add(Vec<Expr>),
+    /// A product of factors.
+    Mul(Vec<Expr>),
+    /// A power `base ^ exponent`.
+    Pow(Box<Expr>, Box<Expr>),
+    /// A function call.
+    Call(Func, Vec<Expr>),
+    /// `if(condition, then, else)`.
+    If(Box<Cond>, Box<Expr>, Box<Expr>),
+}
+
+/// Everything that can go wrong with a formula.
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum FormulaError {
+    /// The text does not parse; `span` is the byte range at fault.
+    #[error("{message}")]
+    Syntax { span: Range<usize>, message: String },
+    /// A name that is neither known nor built in.
+    #[error("unknown name `{name}`{}", suggestion.as_ref().map(|s| format!(" (did you mean `{s}`?)")).unwrap_or_default())]
+    UnknownName { name: String, span: Range<usize>, suggestion: Option<String> },
+    /// Parameters defined in terms of each other; the cycle is listed in order,
+    /// first name repeated at the end (`a -> b -> a`).
+    #[error("parameters depend on each other in a cycle: {}", cycle.join(" -> "))]
+    Cycle { cycle: Vec<String> },
+    /// A function called with the wrong number of arguments.
+    #[error("`{name}` takes {expected} argument(s), found {found}")]
+    Arity { name: String, span: Range<usize>, expected: usize, found: usize },
+}
+
+impl FormulaError {
+    /// The byte span at fault, if the error has one.
+    pub fn span(&self) -> Option<Range<usize>> {
+        todo!()
+    }
+    /// The formula on one line, a caret line under the fault, and the message.
+    pub fn render(&self, _source: &str) -> String {
+        todo!()
+    }
+}
+
+/// Parse a formula. Any name is accepted.
+pub fn parse(_source: &str) -> Result<Expr, FormulaError> {
+    todo!()
+}
+
+/// Parse a formula whose names must all be in `known` (or built in, like
+/// `pi`); an unknown name is reported with its span and the closest known name.
+pub fn parse_with_names(_source: &str, _known: &[&str]) -> Result<Expr, FormulaError> {
+    todo!()
+}
+
+/// Resolve parameters defined as formulas of each other into numbers, in
+/// dependency order. `defs` is (name, formula); `constants` are names with
+/// fixed values available to every parameter (e.g. `G`). A cycle is an error
+/// naming it.
+pub fn resolve_parameters(
+    _defs: &[(String, Expr)],
+    _constants: &[(String, f64)],
+) -> Result<Vec<(String, f64)>, FormulaError> {
+    todo!()
+}
+
+impl Expr {
+    /// A number.
+    pub fn num(v: f64) -> Expr {
+        Expr::Num(v)
+    }
+    /// A name.
+    pub fn name(n: &str) -> Expr {
+        Expr::Name(n.to_string())
+    }
+    /// `self ^ e`.
+    pub fn pow(self, _e: Expr) -> Expr {
+        todo!()
+    }
+    /// A function call.
+    pub fn call(_f: Func, _args: Vec<Expr>) -> Expr {
+        todo!()
+    }
+    /// The derivative by `name`, simplified.
+    pub fn diff(&self, _name: &str) -> Expr {
+        todo!()
+    }
+    /// A simplified equal formula.
+    pub fn simplify(&self) -> Expr {
+        todo!()
+    }
+    /// Replace names by formulas (simultaneously), then simplify.
+    pub fn substitute(&self, _map: &BTreeMap<String, Expr>) -> Expr {
+        todo!()
+    }
+    /// The names the formula uses (built-in constants such as `pi` excluded).
+    pub fn names(&self) -> BTreeSet<String> {
+        todo!()
+    }
+    /// The value if the formula is a number.
+    pub fn as_number(&self) -> Option<f64> {
+        todo!()
+    }
+    /// Evaluate by walking the tree; names come from `lookup`. Returns an
+    /// error naming the first name that `lookup` does not know.
+    pub fn eval(&self, _lookup: &dyn Fn(&str) -> Option<f64>) -> Result<f64, FormulaError> {
+        todo!()
+    }
+    /// Evaluate in extended precision (at least 200 bits) and round the result
+    /// to f64. Used for probabilistic identity testing.
+    pub fn eval_extended(
+        &self,
+        _lookup: &dyn Fn(&str) -> Option<f64>,
+    ) -> Result<f64, FormulaError> {
+        todo!()
+    }
+    /// LaTeX for the formula.
+    pub fn to_latex(&self) -> String {
+        todo!()
+    }
+}
+
+impl fmt::Display for Expr {
+    /// Plain text that [`parse`] reads back to an equal-valued formula.
+    fn fmt(&self, _f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        todo!()
+    }
+}
+
+/// A formula compiled to a flat instruction list over a fixed list of
+/// variables; names that are not variables are folded in as constants.
+#[derive(Clone, Debug)]
+pub struct Program {
+    _private: (),
+}
+
+impl Program {
+    /// Compile `expr` with `vars` as the run-time inputs, in that order;
+    /// every other name must be given by `constants`.
+    pub fn compile(
+        _expr: &Expr,
+        _vars: &[&str],
+        _constants: &dyn Fn(&str) -> Option<f64>,
+    ) -> Result<Program, FormulaError> {
+        todo!()
+    }
+    /// Evaluate at one point (`args` in the order of `vars`).
+    pub fn eval(&self, _args: &[f64]) -> f64 {
+        todo!()
+    }
+    /// Evaluate over columns of inputs (one slice per variable, equal lengths)
+    /// into `out`.
+    pub fn eval_columns(&self, _columns: &[&[f64]], _out: &mut [f64]) {
+        todo!()
+    }
+}
+
+// Operator overloads so closures can build formulas: `a.clone() * b / c`.
+macro_rules! binop {
+    ($tr:ident, $m:ident, $body:expr) => {
+        impl std::ops::$tr for Expr {
+            type Output = Expr;
+            fn $m(self, rhs: Expr) -> Expr {
+                let f: fn(Expr, Expr) -> Expr = $body;
+                f(self, rhs)
+            }
+        }
+    };
+}
+binop!(Add, add, |a, b| Expr::Add(vec![a, b]));
+binop!(Sub, sub, |a, b| Expr::Add(vec![a, Expr::Mul(vec![Expr::Num(-1.0), b])]));
+binop!(Mul, mul, |a, b| Expr::Mul(vec![a, b]));
+binop!(Div, div, |a, b| Expr::Mul(vec![a, Expr::Pow(Box::new(b), Box::new(Expr::Num(-1.0)))]));
+impl std::ops::Neg for Expr {
+    type Output = Expr;
+    fn neg(self) -> Expr {
+        Expr::Mul(vec![Expr::Num(-1.0), self])
+    }
+}

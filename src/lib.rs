@@ -1,0 +1,32 @@
+//! stillpoint: exact equilibrium states and initial conditions for
+//! astrophysical gas-dynamics simulations.
+//!
+//! The library follows one data flow (see `DEVELOPERS.md`):
+//!
+//! ```text
+//! profile (JSON) ─▶ model ─▶ background ─▶ sampler ─▶ fields ─▶ writers
+//!                     │          └─▶ checks / tables
+//!                     └─▶ derive (formulas)
+//! ```
+//!
+//! * [`formula`] — our own symbolic engine: parse, differentiate, simplify,
+//!   compile, print. It knows nothing of physics.
+//! * [`units`] — unit systems and physical constants with their sources.
+//! * [`physics`] — gravity (potentials) and gas (closures of state).
+//! * [`model`] — the resolved description of one equilibrium problem.
+//! * [`closure`] — solvers that turn given laws into a [`background::Background`].
+//! * [`grid`] and [`sample`] — axes, cells and sampling rules that turn a
+//!   background into arrays of numbers ([`fields`]).
+//! * [`output`] — writers (HDF5, CSV); a writer never computes physics.
+//! * [`check`], [`table`] — the symbolic balance check and rotation tables.
+//! * [`profile`] — the JSON profile schema with exact error paths.
+//! * [`cli`] — the command line (the binary is a thin shell around it).
+#![deny(clippy::float_cmp)]
+
+pub mod background;
+pub mod fields;
+pub mod formula;
+pub mod grid;
+pub mod output;
+pub mod sample;
+pub mod units;

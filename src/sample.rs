@@ -1,0 +1,1 @@
+//! SKELETON: being implemented (issue 2).
