@@ -1,4 +1,20 @@
-//! The `stillpoint` binary: a thin shell around the library's command line.
-fn main() {
-    println!("stillpoint (skeleton)");
+//! The `stillpoint` binary: parse the command line, run the library's
+//! command, turn an error into a message on stderr and a non-zero exit.
+
+use std::process::ExitCode;
+
+use clap::Parser;
+use stillpoint::cli::{run, Cli, Outcome};
+
+fn main() -> ExitCode {
+    let argv: Vec<String> = std::env::args().collect();
+    let cli = Cli::parse();
+    match run(cli, &argv.join(" ")) {
+        Ok(Outcome::Ok) => ExitCode::SUCCESS,
+        Ok(Outcome::Failed) => ExitCode::from(1),
+        Err(e) => {
+            eprintln!("error: {e}");
+            ExitCode::from(2)
+        }
+    }
 }

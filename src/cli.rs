@@ -1,0 +1,233 @@
+//! The command line: argument definitions (clap) and one function per verb.
+//! The binary only calls [`run`] and turns its error into an exit code.
+//!
+//! Owns: options, help texts with an example for every verb, what each verb
+//! prints, and the refusal to overwrite files. Does not own: physics.
+
+use std::path::{Path, PathBuf};
+
+use clap::{Args, Parser, Subcommand};
+
+use crate::check;
+use crate::closure::derived_laws;
+use crate::output::{self, Document};
+use crate::pipeline::{self, Error};
+use crate::profile::{self, bundled, Loaded};
+use crate::table;
+
+/// stillpoint: exact equilibrium states and initial conditions for
+/// gas-dynamics simulations.
+#[derive(Debug, Parser)]
+#[command(name = "stillpoint", version, about, long_about = None)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The verbs.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Build the equilibrium on the profile's grid and write it (HDF5, and CSV for 1D grids).
+    #[command(after_help = "Example:\n  stillpoint build profiles/quiet-slab.json -o slab.h5 --set g0=2")]
+    Build {
+        #[command(flatten)]
+        common: Common,
+        /// Output HDF5 file (default: the profile's output.file, else NAME.h5).
+        #[arg(short, long, value_name = "FILE")]
+        output: Option<PathBuf>,
+        /// Also write a CSV table beside the HDF5 file (1D grids only).
+        #[arg(long)]
+        csv: bool,
+        /// Overwrite existing output files.
+        #[arg(long)]
+        force: bool,
+    },
+    /// Check the balance with exact symbolic derivatives; exits non-zero when it fails.
+    #[command(after_help = "Example:\n  stillpoint check profiles/powerlaw-disk.json --tolerance 1e-12")]
+    Check {
+        #[command(flatten)]
+        common: Common,
+        /// Largest relative residual accepted.
+        #[arg(long, value_name = "T", default_value_t = 1e-10)]
+        tolerance: f64,
+    },
+    /// Print the background along its coordinate (rotation curve for disks).
+    #[command(after_help = "Examples:\n  stillpoint table profiles/powerlaw-disk.json --points 8\n  stillpoint table profiles/quiet-slab.json --at 0,1,2.5 --csv")]
+    Table {
+        #[command(flatten)]
+        common: Common,
+        /// Number of evenly spaced points over the grid's range.
+        #[arg(long, value_name = "N", conflicts_with = "at")]
+        points: Option<usize>,
+        /// Comma-separated coordinates (numbers or formulas of parameters).
+        #[arg(long, value_name = "LIST")]
+        at: Option<String>,
+        /// Print CSV instead of aligned text.
+        #[arg(long)]
+        csv: bool,
+    },
+    /// Print the derived laws and the derivatives used, as formulas.
+    #[command(after_help = "Example:\n  stillpoint derive profiles/ring-disk.json --latex")]
+    Derive {
+        #[command(flatten)]
+        common: Common,
+        /// Print LaTeX instead of plain text.
+        #[arg(long)]
+        latex: bool,
+    },
+    /// List the bundled profiles, a line each.
+    #[command(after_help = "Example:\n  stillpoint profiles")]
+    Profiles,
+}
+
+/// Options every profile verb takes.
+#[derive(Debug, Args)]
+pub struct Common {
+    /// A profile file, or the name of a bundled profile.
+    pub profile: String,
+    /// Override a parameter: NAME=VALUE (a number or a formula); repeatable.
+    #[arg(long = "set", value_name = "NAME=VALUE", value_parser = profile::parse_override)]
+    pub set: Vec<(String, String)>,
+}
+
+impl Common {
+    fn load(&self) -> Result<Loaded, Error> {
+        Ok(profile::load(&self.profile, &self.set)?)
+    }
+}
+
+/// What a verb asks the process to do at exit.
+#[derive(Debug, PartialEq, Eq)]
+pub enum Outcome {
+    /// Success.
+    Ok,
+    /// The verb ran but its verdict is negative (a failed check).
+    Failed,
+}
+
+/// Run a parsed command line, printing to stdout. `argv` is recorded in files.
+pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
+    match cli.command {
+        Command::Build { common, output, csv, force } => build(&common, output, csv, force, argv),
+        Command::Check { common, tolerance } => {
+            let loaded = common.load()?;
+            let (bg, domain) = pipeline::solve(&loaded)?;
+            let centres = pipeline::centres_for(&loaded.grid);
+            let report = check::run(&loaded.model, &bg, &domain, &centres, tolerance).map_err(
+                |error| Error::Closure { source_label: loaded.source.clone(), error },
+            )?;
+            println!("{} ({})", loaded.model.name, loaded.source);
+            println!("{report}");
+            for c in pipeline::cautions(&loaded, &bg, &domain) {
+                println!("caution: {c}");
+            }
+            Ok(if report.passed() { Outcome::Ok } else { Outcome::Failed })
+        }
+        Command::Table { common, points, at, csv } => {
+            let loaded = common.load()?;
+            let (bg, domain) = pipeline::solve(&loaded)?;
+            let xs = match at {
+                Some(list) => parse_list(&loaded, &list)?,
+                None => {
+                    let n = points.unwrap_or(11).max(2);
+                    (0..n).map(|i| domain.lo + (domain.hi - domain.lo) * i as f64 / (n - 1) as f64).collect()
+                }
+            };
+            let t = table::tabulate(&loaded.model, &bg, &xs)
+                .map_err(|error| Error::Closure { source_label: loaded.source.clone(), error })?;
+            print!("{}", if csv { t.to_csv() } else { t.to_text() });
+            Ok(Outcome::Ok)
+        }
+        Command::Derive { common, latex } => {
+            let loaded = common.load()?;
+            let m = &loaded.model;
+            let laws = derived_laws(m)
+                .map_err(|error| Error::Closure { source_label: loaded.source.clone(), error })?;
+            let show = |e: &crate::formula::Expr| if latex { e.to_latex() } else { e.to_string() };
+            println!("{} ({}): solve a {:?} balance for {}", m.name, loaded.source, m.shape, m.unknown.key());
+            println!("given");
+            println!("  Phi = {}", show(&m.potential.expr));
+            for (n, l) in [("rho", &m.density), ("c^2", &m.sound_speed_sq), ("v_phi", &m.rotation), ("P", &m.pressure)] {
+                if let Some(l) = l {
+                    println!("  {n} = {}", show(&l.expr));
+                }
+            }
+            println!("derived");
+            for d in laws {
+                println!("  {} = {}", d.name, show(&d.expr));
+                println!("      ({})", d.note);
+            }
+            Ok(Outcome::Ok)
+        }
+        Command::Profiles => {
+            for (name, text) in bundled::BUNDLED {
+                println!("{name:<24} {}", bundled::about(text));
+            }
+            Ok(Outcome::Ok)
+        }
+    }
+}
+
+fn parse_list(loaded: &Loaded, list: &str) -> Result<Vec<f64>, Error> {
+    list.split(',')
+        .map(|item| {
+            let item = item.trim();
+            let e = profile::formula_for(&loaded.model, item).map_err(|e| {
+                Error::Usage(format!("--at: {e}\n{}", e.render(item)))
+            })?;
+            e.eval(&|n| loaded.model.lookup(n)).map_err(|e| Error::Usage(format!("--at: {e}")))
+        })
+        .collect()
+}
+
+fn build(common: &Common, output: Option<PathBuf>, csv: bool, force: bool, argv: &str) -> Result<Outcome, Error> {
+    let loaded = common.load()?;
+    let h5 = output
+        .or_else(|| loaded.output.file.clone())
+        .unwrap_or_else(|| PathBuf::from(format!("{}.h5", loaded.model.name)));
+    let want_csv = csv || loaded.output.csv;
+    let csv_path = want_csv.then(|| h5.with_extension("csv"));
+    for p in std::iter::once(&h5).chain(csv_path.as_ref()) {
+        if p.exists() && !force {
+            return Err(Error::Usage(format!(
+                "{}: the file exists; pass --force to overwrite it",
+                p.display()
+            )));
+        }
+    }
+    if want_csv && loaded.grid.axes.len() != 1 {
+        return Err(Error::Usage("--csv: a CSV table is written for 1D grids only".into()));
+    }
+    let built = pipeline::build(&loaded, argv)?;
+    let doc = Document {
+        grid: &loaded.grid,
+        background: &built.background,
+        state: &built.state,
+        metadata: &built.metadata,
+    };
+    output::commit(&h5, force, |tmp| output::write_hdf5(&doc, tmp, loaded.output.precision))?;
+    if let Some(c) = &csv_path {
+        output::commit(c, force, |tmp| output::write_csv(&doc, tmp))?;
+    }
+    report_written(&loaded, &h5, csv_path.as_deref(), &built.metadata.cautions);
+    Ok(Outcome::Ok)
+}
+
+fn report_written(loaded: &Loaded, h5: &Path, csv: Option<&Path>, cautions: &[String]) {
+    let shape: Vec<String> = loaded.grid.shape().iter().map(|n| n.to_string()).collect();
+    println!(
+        "{}: {} cells ({}), {}",
+        loaded.model.name,
+        shape.join(" x "),
+        loaded.grid.axes.iter().map(|a| a.coord.name()).collect::<Vec<_>>().join(", "),
+        loaded.sampling.describe()
+    );
+    println!("wrote {}", h5.display());
+    if let Some(c) = csv {
+        println!("wrote {}", c.display());
+    }
+    for c in cautions {
+        println!("caution: {c}");
+    }
+}

@@ -1,0 +1,246 @@
+//! The symbolic side of a closure: from the model's laws, the formulas the
+//! solver evaluates (closed forms and integrands) and the derivatives they
+//! use, all by exact symbolic differentiation.
+//!
+//! Owns: which laws each closure requires (errors name the missing profile
+//! key) and the formulas for `stillpoint derive`. Does not own: numbers.
+
+use super::ClosureError;
+use crate::background::Shape;
+use crate::formula::{Expr, Func};
+use crate::model::{Model, Unknown};
+
+/// The formulas a closure evaluates, in the background coordinate.
+#[derive(Clone, Debug)]
+pub struct Laws {
+    /// Φ on the background coordinate (z = 0 for disks).
+    pub potential: Expr,
+    /// ρ, when closed form.
+    pub density: Option<Expr>,
+    /// c², when given.
+    pub sound_speed_sq: Option<Expr>,
+    /// P, when closed form.
+    pub pressure: Option<Expr>,
+    /// v_φ² for disks.
+    pub rotation_sq: Option<Expr>,
+    /// The integrand of integrated closures (d ln ρ/ds, dP/ds or d ln P/ds).
+    pub integrand: Option<Expr>,
+    /// Everything derived, for printing.
+    pub derived: Vec<DerivedLaw>,
+}
+
+/// A formula the solver derived or differentiated, for printing.
+#[derive(Clone, Debug, PartialEq)]
+pub struct DerivedLaw {
+    /// What it is, e.g. `dPhi/dR` or `v_phi^2`.
+    pub name: String,
+    /// The formula.
+    pub expr: Expr,
+    /// How it was obtained.
+    pub note: String,
+}
+
+fn need(law: &Option<crate::model::Law>, key: &str, why: &str) -> Result<Expr, ClosureError> {
+    law.as_ref().map(|l| l.expr.clone()).ok_or_else(|| {
+        ClosureError::Incomplete(format!("balance.{key} is required when {why}"))
+    })
+}
+
+fn refuse(law: &Option<crate::model::Law>, key: &str, why: &str) -> Result<(), ClosureError> {
+    match law {
+        Some(l) => Err(ClosureError::Incomplete(format!(
+            "{}: a {key} law cannot be given when {why} (it would over-determine the balance)",
+            l.origin
+        ))),
+        None => Ok(()),
+    }
+}
+
+impl Laws {
+    /// Build the formulas of the model's closure.
+    pub fn build(m: &Model) -> Result<Laws, ClosureError> {
+        let s = m.coordinate();
+        let phi = m.potential.expr.clone();
+        let phi_s = phi.diff(s);
+        let mut derived = vec![DerivedLaw {
+            name: format!("dPhi/d{s}"),
+            expr: phi_s.clone(),
+            note: "derivative of the potential".into(),
+        }];
+        let mut laws = Laws {
+            potential: phi,
+            density: None,
+            sound_speed_sq: m.sound_speed_sq.as_ref().map(|l| l.expr.clone()),
+            pressure: None,
+            rotation_sq: None,
+            integrand: None,
+            derived: Vec::new(),
+        };
+        let disk = m.shape == Shape::DiskMidplane;
+        let r = Expr::name(s);
+        if !disk {
+            refuse(&m.rotation, "rotation", "the balance is a slab or a sphere")?;
+        }
+        let why = format!("solving a {} for {}", shape_word(m.shape), m.unknown.key());
+        match (disk, m.unknown) {
+            (true, Unknown::Rotation) => {
+                let rho = need(&m.density, "density", &why)?;
+                let c2 = need(&m.sound_speed_sq, "sound_speed_sq (or gas.temperature)", &why)?;
+                refuse(&m.rotation, "rotation", &why)?;
+                let p = (rho.clone() * c2).simplify();
+                let p_r = p.diff(s);
+                let v2 = (r.clone() * (phi_s.clone() + p_r.clone() / rho.clone())).simplify();
+                derived.push(DerivedLaw {
+                    name: "P".into(),
+                    expr: p.clone(),
+                    note: "P = rho c^2".into(),
+                });
+                derived.push(DerivedLaw {
+                    name: format!("dP/d{s}"),
+                    expr: p_r,
+                    note: "exact derivative".into(),
+                });
+                derived.push(DerivedLaw {
+                    name: "v_phi^2".into(),
+                    expr: v2.clone(),
+                    note: format!("v_phi^2 = {s} (dPhi/d{s} + (1/rho) dP/d{s})"),
+                });
+                laws.density = Some(rho);
+                laws.pressure = Some(p);
+                laws.rotation_sq = Some(v2);
+            }
+            (true, Unknown::Density) => {
+                let v = need(&m.rotation, "rotation", &why)?;
+                let c2 = need(&m.sound_speed_sq, "sound_speed_sq (or gas.temperature)", &why)?;
+                refuse(&m.density, "density", &why)?;
+                let v2 = (v.clone() * v).simplify();
+                let c2_r = c2.diff(s);
+                let f = ((v2.clone() / r.clone() - phi_s.clone() - c2_r.clone()) / c2).simplify();
+                derived.push(DerivedLaw {
+                    name: format!("dc^2/d{s}"),
+                    expr: c2_r,
+                    note: "exact derivative".into(),
+                });
+                derived.push(DerivedLaw {
+                    name: format!("d ln(rho)/d{s}"),
+                    expr: f.clone(),
+                    note: "integrated from the anchor (double-exponential rule)".into(),
+                });
+                laws.rotation_sq = Some(v2);
+                laws.integrand = Some(f);
+            }
+            (true, Unknown::Pressure) => {
+                let v = need(&m.rotation, "rotation", &why)?;
+                let rho = need(&m.density, "density", &why)?;
+                refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
+                let v2 = (v.clone() * v).simplify();
+                let f = (rho.clone() * (v2.clone() / r.clone() - phi_s.clone())).simplify();
+                derived.push(DerivedLaw {
+                    name: format!("dP/d{s}"),
+                    expr: f.clone(),
+                    note: "integrated from the anchor (double-exponential rule)".into(),
+                });
+                laws.density = Some(rho);
+                laws.rotation_sq = Some(v2);
+                laws.integrand = Some(f);
+            }
+            (false, Unknown::Density) => {
+                let c2 = need(&m.sound_speed_sq, "sound_speed_sq (or gas.temperature)", &why)?;
+                refuse(&m.density, "density", &why)?;
+                let f = (-(phi_s.clone() / c2)).simplify();
+                derived.push(DerivedLaw {
+                    name: format!("d ln(P)/d{s}"),
+                    expr: f.clone(),
+                    note: "integrated from the anchor (double-exponential rule); rho = P/c^2"
+                        .into(),
+                });
+                laws.integrand = Some(f);
+            }
+            (false, Unknown::Pressure) => {
+                let rho = need(&m.density, "density", &why)?;
+                refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
+                let f = (-(rho.clone() * phi_s.clone())).simplify();
+                derived.push(DerivedLaw {
+                    name: format!("dP/d{s}"),
+                    expr: f.clone(),
+                    note: "integrated from the anchor (double-exponential rule)".into(),
+                });
+                laws.density = Some(rho);
+                laws.integrand = Some(f);
+            }
+            (_, Unknown::Nothing) => {
+                let rho = need(&m.density, "density", "auditing a set of laws")?;
+                let p = match (&m.pressure, &m.sound_speed_sq) {
+                    (Some(p), None) => p.expr.clone(),
+                    (None, Some(c2)) => (rho.clone() * c2.expr.clone()).simplify(),
+                    _ => {
+                        return Err(ClosureError::Incomplete(
+                            "auditing needs exactly one of balance.pressure and a sound speed \
+                             (gas.sound_speed_sq or gas.temperature)"
+                                .into(),
+                        ))
+                    }
+                };
+                if disk {
+                    let v = need(&m.rotation, "rotation", "auditing a disk")?;
+                    laws.rotation_sq = Some((v.clone() * v).simplify());
+                }
+                laws.density = Some(rho);
+                laws.pressure = Some(p);
+            }
+            (false, Unknown::Rotation) => {
+                return Err(ClosureError::Incomplete(
+                    "balance.solve_for: a slab or a sphere has no rotation to solve for".into(),
+                ))
+            }
+        }
+        laws.derived = derived;
+        Ok(laws)
+    }
+
+    /// The balance residual and its terms as formulas, when the pressure is
+    /// closed form: disk v²/R − Φ_R − P_R/ρ; slab/sphere P_s/ρ + Φ_s.
+    pub fn residual(&self, m: &Model) -> Option<(Expr, Vec<(String, Expr)>)> {
+        let s = m.coordinate();
+        let rho = self.density.clone()?;
+        let p = self.pressure.clone()?;
+        let phi_s = self.potential.diff(s);
+        let grad = (p.diff(s) / rho).simplify();
+        if m.shape == Shape::DiskMidplane {
+            let cen = (self.rotation_sq.clone()? / Expr::name(s)).simplify();
+            let res = (cen.clone() - phi_s.clone() - grad.clone()).simplify();
+            Some((
+                res,
+                vec![
+                    ("v_phi^2/R".into(), cen),
+                    ("dPhi/dR".into(), phi_s),
+                    ("(1/rho) dP/dR".into(), grad),
+                ],
+            ))
+        } else {
+            let res = (grad.clone() + phi_s.clone()).simplify();
+            Some((
+                res,
+                vec![(format!("(1/rho) dP/d{s}"), grad), (format!("dPhi/d{s}"), phi_s)],
+            ))
+        }
+    }
+}
+
+/// The formulas `stillpoint derive` prints for a model.
+pub fn derived_laws(m: &Model) -> Result<Vec<DerivedLaw>, ClosureError> {
+    Ok(Laws::build(m)?.derived)
+}
+
+fn shape_word(s: Shape) -> &'static str {
+    match s {
+        Shape::Slab => "slab",
+        Shape::Spherical => "sphere",
+        _ => "disk",
+    }
+}
+
+#[allow(dead_code)]
+fn sqrt(e: Expr) -> Expr {
+    Expr::call(Func::Sqrt, vec![e])
+}

@@ -1,0 +1,233 @@
+//! Closures: solvers that take the laws a model gives and find the missing
+//! one, producing a [`Background`] that can be evaluated anywhere in the
+//! domain (design.md §2, the one-dimensional rows of the closure table).
+//!
+//! | shape | finds | from | how |
+//! |---|---|---|---|
+//! | disk | v_φ | ρ, c² | v_φ² = R(Φ_R + P_R/ρ), exact symbolic derivatives |
+//! | disk | ρ | v_φ, c², ρ at anchor | ∂ln ρ/∂R = (v_φ²/R − Φ_R − ∂c²/∂R)/c² |
+//! | disk | P | v_φ, ρ, P at anchor | ∂P/∂R = ρ(v_φ²/R − Φ_R) |
+//! | slab, sphere | P, ρ | c², P at anchor | ∂ln P/∂s = −Φ_s/c² |
+//! | slab, sphere | P | ρ, P at anchor | ∂P/∂s = −ρΦ_s |
+//! | any | — | every law | audit only (`check` reports the imbalance) |
+//!
+//! Owns: building the derived formulas and integrands, the backgrounds, and
+//! the existence checks (no equilibrium ⇒ an error naming the law, the
+//! interval and the value). Does not own: grids, sampling or files.
+
+pub mod integrate;
+mod laws;
+
+pub use laws::{derived_laws, DerivedLaw, Laws};
+
+use crate::background::{Background, PointState, Shape};
+use crate::formula::{FormulaError, Program};
+use crate::model::{Model, Unknown};
+use integrate::Cumulative;
+
+/// Why a closure could not produce an equilibrium.
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum ClosureError {
+    /// The profile lacks a law or an anchor this closure needs, or gives one
+    /// it cannot use.
+    #[error("{0}")]
+    Incomplete(String),
+    /// No equilibrium exists somewhere in the domain.
+    #[error("no equilibrium: {0}")]
+    NoEquilibrium(String),
+    /// A formula failed to compile (an unknown name, say).
+    #[error("{origin}: {error}")]
+    Formula { origin: String, error: FormulaError },
+}
+
+/// The coordinate range the background must cover and the knots (grid edges
+/// and other sample points) where integrated closures tabulate their integral.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Domain {
+    /// Lowest coordinate.
+    pub lo: f64,
+    /// Highest coordinate.
+    pub hi: f64,
+    /// Points where an integral is tabulated (for example the cell edges).
+    pub knots: Vec<f64>,
+}
+
+impl Domain {
+    /// Points to scan for positivity and existence: the knots plus a uniform
+    /// set of 4001 points.
+    pub fn scan_points(&self) -> Vec<f64> {
+        let n = 4000;
+        let mut pts: Vec<f64> =
+            (0..=n).map(|i| self.lo + (self.hi - self.lo) * i as f64 / n as f64).collect();
+        pts.extend(self.knots.iter().copied().filter(|k| *k >= self.lo && *k <= self.hi));
+        pts.sort_by(|a, b| a.total_cmp(b));
+        pts.dedup_by(|a, b| a.to_bits() == b.to_bits());
+        pts
+    }
+}
+
+/// Which quantity a background integrates.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Integrated {
+    /// ln ρ (disk, found density).
+    LogDensity,
+    /// P itself (disk or slab, found pressure).
+    Pressure,
+    /// ln P (slab, found pressure and density from c²).
+    LogPressure,
+}
+
+/// A solved background: compiled laws and, for integrated closures, the
+/// tabulated integral.
+pub struct Solved {
+    shape: Shape,
+    potential: Program,
+    density: Option<Program>,
+    sound_speed_sq: Option<Program>,
+    pressure: Option<Program>,
+    rotation_sq: Option<Program>,
+    integral: Option<(Integrated, Cumulative, f64)>,
+}
+
+impl Background for Solved {
+    fn shape(&self) -> Shape {
+        self.shape
+    }
+
+    fn at(&self, s: f64) -> PointState {
+        let ev = |p: &Option<Program>| p.as_ref().map(|p| p.eval(&[s]));
+        let c2 = ev(&self.sound_speed_sq);
+        let (density, pressure) = match &self.integral {
+            None => {
+                let rho = ev(&self.density).unwrap_or(f64::NAN);
+                let p = ev(&self.pressure).or(c2.map(|c| c * rho)).unwrap_or(f64::NAN);
+                (rho, p)
+            }
+            Some((kind, cum, base)) => {
+                let i = cum.at(s);
+                match kind {
+                    Integrated::LogDensity => {
+                        let rho = base * i.exp();
+                        (rho, rho * c2.unwrap_or(f64::NAN))
+                    }
+                    Integrated::Pressure => (ev(&self.density).unwrap_or(f64::NAN), base + i),
+                    Integrated::LogPressure => {
+                        let p = base * i.exp();
+                        (p / c2.unwrap_or(f64::NAN), p)
+                    }
+                }
+            }
+        };
+        let rotation = match (&self.rotation_sq, self.shape) {
+            (Some(v2), _) => v2.eval(&[s]).sqrt(),
+            (None, _) => 0.0,
+        };
+        PointState { density, pressure, rotation, potential: self.potential.eval(&[s]) }
+    }
+}
+
+/// Solve the model's closure over the domain.
+pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
+    let laws = Laws::build(model)?;
+    let compile = |e: &crate::formula::Expr, origin: &str| {
+        model.compile(e).map_err(|error| ClosureError::Formula { origin: origin.into(), error })
+    };
+    let opt = |e: &Option<crate::formula::Expr>, origin: &str| {
+        e.as_ref().map(|e| compile(e, origin)).transpose()
+    };
+    let mut solved = Solved {
+        shape: model.shape,
+        potential: compile(&laws.potential, &model.potential.origin)?,
+        density: opt(&laws.density, "density")?,
+        sound_speed_sq: opt(&laws.sound_speed_sq, "sound speed")?,
+        pressure: opt(&laws.pressure, "pressure")?,
+        rotation_sq: opt(&laws.rotation_sq, "rotation")?,
+        integral: None,
+    };
+    if let Some(integrand) = &laws.integrand {
+        let anchor = model.anchor.ok_or_else(|| {
+            ClosureError::Incomplete(format!(
+                "balance.anchor is required: solving for {} integrates from a reference point",
+                model.unknown.key()
+            ))
+        })?;
+        if anchor.at < domain.lo || anchor.at > domain.hi {
+            // An anchor outside the grid is allowed: the integral runs to it.
+        }
+        let kind = match (model.shape, model.unknown) {
+            (Shape::DiskMidplane, Unknown::Density) => Integrated::LogDensity,
+            (_, Unknown::Pressure) => Integrated::Pressure,
+            _ => Integrated::LogPressure,
+        };
+        if matches!(kind, Integrated::LogDensity | Integrated::LogPressure) && anchor.value <= 0.0 {
+            return Err(ClosureError::NoEquilibrium(format!(
+                "balance.anchor.value must be positive, found {}",
+                anchor.value
+            )));
+        }
+        let lo = domain.lo.min(anchor.at);
+        let hi = domain.hi.max(anchor.at);
+        let mut knots = domain.knots.clone();
+        knots.extend(integrate::breakpoints(integrand, model.coordinate(), lo, hi, &|n| {
+            model.lookup(n)
+        }));
+        knots.extend([lo, hi]);
+        let program = compile(integrand, "integrand")?;
+        solved.integral = Some((kind, Cumulative::new(program, knots, anchor.at), anchor.value));
+    }
+    verify_existence(model, &solved, domain)?;
+    Ok(solved)
+}
+
+/// Stop with a clear error where the solved state is not an equilibrium:
+/// v_φ² < 0 (an interval), density, pressure or c² not positive or not finite.
+fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), ClosureError> {
+    let s = model.coordinate();
+    let pts = domain.scan_points();
+    if let Some(v2) = &bg.rotation_sq {
+        let law = if model.unknown == Unknown::Rotation {
+            "the derived rotation law"
+        } else {
+            "the rotation law"
+        };
+        let mut bad: Option<(f64, f64, f64, f64)> = None; // from, to, min value, where
+        for &x in &pts {
+            let v = v2.eval(&[x]);
+            if v < 0.0 || v.is_nan() {
+                let b = bad.get_or_insert((x, x, v, x));
+                b.1 = x;
+                if v < b.2 || v.is_nan() {
+                    b.2 = v;
+                    b.3 = x;
+                }
+            } else if bad.is_some() {
+                break;
+            }
+        }
+        if let Some((a, b, v, at)) = bad {
+            return Err(ClosureError::NoEquilibrium(format!(
+                "{law} needs v_phi^2 < 0 between {s} = {a} and {s} = {b} (v_phi^2 = {v:.6e} at {s} = {at}): \
+                 gravity cannot hold the pressure gradient there"
+            )));
+        }
+    }
+    for &x in &pts {
+        let st = bg.at(x);
+        let c2 = st.sound_speed_sq();
+        for (name, v) in [("density", st.density), ("pressure", st.pressure), ("c^2", c2)] {
+            if !(v > 0.0) {
+                let what = if v.is_finite() { "≤ 0" } else { "is not finite" };
+                return Err(ClosureError::NoEquilibrium(format!(
+                    "{name} {what} ({v:e}) at {s} = {x}"
+                )));
+            }
+        }
+        if !st.potential.is_finite() {
+            return Err(ClosureError::NoEquilibrium(format!(
+                "the potential is not finite at {s} = {x}"
+            )));
+        }
+    }
+    Ok(())
+}

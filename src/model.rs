@@ -1,0 +1,154 @@
+//! The resolved description of one equilibrium problem: parameters with
+//! their values, the laws the user gave, gravity, gas, units and which
+//! quantity the solver finds. A [`Model`] is built from a profile
+//! (`crate::profile`) and read by closures, checks, tables and `derive`.
+//!
+//! Owns: the vocabulary of a problem and the lookup of names (parameters and
+//! built-in constants). Does not own: JSON, solving, sampling or files.
+
+use std::collections::BTreeMap;
+
+use crate::background::Shape;
+use crate::formula::{Expr, FormulaError, Program};
+use crate::units::{Constants, UnitSystem};
+
+/// Which quantity the solver finds from the others.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[non_exhaustive]
+pub enum Unknown {
+    /// Disk: v_φ from ρ and c² (exact, symbolic).
+    Rotation,
+    /// Disk: ρ from v_φ, c² and ρ at an anchor; slab/sphere: P and ρ from c²
+    /// and P at an anchor.
+    Density,
+    /// Disk: P from v_φ, ρ and P at an anchor; slab/sphere: P from ρ and P at
+    /// an anchor.
+    Pressure,
+    /// Nothing: every law is given and the balance is only audited.
+    Nothing,
+}
+
+impl Unknown {
+    /// The key a profile uses, and the quantity each one finds.
+    pub const ALL: [(Unknown, &'static str); 4] = [
+        (Unknown::Rotation, "rotation"),
+        (Unknown::Density, "density"),
+        (Unknown::Pressure, "pressure"),
+        (Unknown::Nothing, "nothing"),
+    ];
+    /// The profile key.
+    pub fn key(self) -> &'static str {
+        Self::ALL.iter().find(|(u, _)| *u == self).map(|(_, k)| *k).unwrap_or("?")
+    }
+}
+
+/// Where an integrated closure is pinned: the coordinate and the value of
+/// the quantity there (density or pressure, depending on the closure).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Anchor {
+    /// Coordinate of the anchor point.
+    pub at: f64,
+    /// Value of the anchored quantity there.
+    pub value: f64,
+}
+
+/// One law as the user wrote it: the formula and where it came from.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Law {
+    /// The formula in the background coordinate and parameters.
+    pub expr: Expr,
+    /// Where it was written (a JSON path such as `balance.density`).
+    pub origin: String,
+}
+
+/// The resolved problem.
+#[derive(Clone, Debug)]
+pub struct Model {
+    /// Short name of the profile.
+    pub name: String,
+    /// One-line description.
+    pub about: String,
+    /// Unit system of every number in the problem.
+    pub units: UnitSystem,
+    /// Parameters with their values, in dependency order.
+    pub parameters: Vec<(String, f64)>,
+    /// Parameters as the user wrote them (name, formula text).
+    pub parameter_text: Vec<(String, String)>,
+    /// The balance and its coordinate.
+    pub shape: Shape,
+    /// What the solver finds.
+    pub unknown: Unknown,
+    /// Given density law (ρ or Σ).
+    pub density: Option<Law>,
+    /// Given squared isothermal sound speed c² (a temperature law is already
+    /// converted: c² = k_B T / (μ m_u)).
+    pub sound_speed_sq: Option<Law>,
+    /// Given rotation law v_φ.
+    pub rotation: Option<Law>,
+    /// Given pressure law (audits only).
+    pub pressure: Option<Law>,
+    /// Gravitational potential Φ in the background coordinate (the midplane
+    /// z = 0 for disks).
+    pub potential: Law,
+    /// Anchor of integrated closures.
+    pub anchor: Option<Anchor>,
+    /// Adiabatic index γ used for the energy.
+    pub gamma: f64,
+    /// Mean molecular weight μ, when given (needed for temperatures).
+    pub molecular_weight: Option<f64>,
+    /// Disk fields are vertically integrated (Σ and ∫P dz) rather than
+    /// midplane values.
+    pub vertically_integrated: bool,
+}
+
+impl Model {
+    /// The constants of the model's unit system.
+    pub fn constants(&self) -> Constants {
+        self.units.constants()
+    }
+
+    /// Built-in names available to every formula, with their values in the
+    /// model's unit system: `G` always, `k_B` and `m_u` in physical units.
+    pub fn builtin_names(units: UnitSystem) -> Vec<(String, f64)> {
+        let c = units.constants();
+        let mut v = vec![("G".to_string(), c.g)];
+        if let (Some(k), Some(m)) = (c.k_b, c.m_u) {
+            v.push(("k_B".to_string(), k));
+            v.push(("m_u".to_string(), m));
+        }
+        v
+    }
+
+    /// The value of a parameter or built-in name.
+    pub fn lookup(&self, name: &str) -> Option<f64> {
+        self.parameters
+            .iter()
+            .find(|(n, _)| n == name)
+            .map(|(_, v)| *v)
+            .or_else(|| {
+                Self::builtin_names(self.units).into_iter().find(|(n, _)| n == name).map(|(_, v)| v)
+            })
+    }
+
+    /// The name of the background coordinate (`R`, `z` or `r`).
+    pub fn coordinate(&self) -> &'static str {
+        self.shape.coordinate()
+    }
+
+    /// Compile a formula in the background coordinate, parameters folded in.
+    pub fn compile(&self, expr: &Expr) -> Result<Program, FormulaError> {
+        Program::compile(expr, &[self.coordinate()], &|n| self.lookup(n))
+    }
+
+    /// Parameter values as a substitution map (for closed forms with numbers).
+    pub fn parameter_map(&self) -> BTreeMap<String, Expr> {
+        self.parameters.iter().map(|(n, v)| (n.clone(), Expr::num(*v))).collect()
+    }
+
+    /// μ m_u / k_B, so that T = factor × c²; None when the units have no
+    /// Boltzmann constant or no molecular weight was given.
+    pub fn temperature_per_c2(&self) -> Option<f64> {
+        let c = self.constants();
+        Some(self.molecular_weight? * c.m_u? / c.k_b?)
+    }
+}

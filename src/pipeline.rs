@@ -1,0 +1,156 @@
+//! The build pipeline shared by the commands: profile → model → background
+//! → sampled fields → document, with the cautions a user must see.
+//!
+//! Owns: choosing the domain and knots from the grid, running the closure
+//! and sampler, the stability cautions, and assembling the metadata. Does
+//! not own: command-line parsing or file formats.
+
+use crate::background::{Background, Shape};
+use crate::closure::{self, ClosureError, Domain, Solved};
+use crate::fields::FieldSet;
+use crate::grid::{Grid, Layout};
+use crate::output::{Metadata, OutputError};
+use crate::profile::{Loaded, ProfileError};
+use crate::sample::{self, GasConstants, SampleError};
+
+/// Anything that can stop a command.
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum Error {
+    /// The profile is wrong.
+    #[error("{0}")]
+    Profile(#[from] ProfileError),
+    /// No equilibrium, or laws missing.
+    #[error("{source_label}: {error}")]
+    Closure { source_label: String, error: ClosureError },
+    /// Sampling met a bad value.
+    #[error("{source_label}: {error}")]
+    Sample { source_label: String, error: SampleError },
+    /// Writing failed.
+    #[error("{0}")]
+    Output(#[from] OutputError),
+    /// Anything else the user got wrong on the command line.
+    #[error("{0}")]
+    Usage(String),
+}
+
+/// The domain the background must cover for a grid: the range of the
+/// background coordinate, with the cell edges along it as knots.
+pub fn domain_for(grid: &Grid) -> Domain {
+    let (lo, hi) = grid.background_range();
+    let knots = match grid.layout() {
+        Layout::Line(_) | Layout::Polar => grid.axes[0].edges.clone(),
+        _ => {
+            let n = 2 * grid.shape().iter().copied().max().unwrap_or(1);
+            (0..=n).map(|i| lo + (hi - lo) * i as f64 / n as f64).collect()
+        }
+    };
+    Domain { lo, hi, knots }
+}
+
+/// Cell centres along the background coordinate (for tables and the
+/// discrete imbalance): the first axis for lines and polar grids, the
+/// positive x centres for Cartesian grids.
+pub fn centres_for(grid: &Grid) -> Vec<f64> {
+    match grid.layout() {
+        Layout::Cartesian => grid.axes[0].centers().into_iter().filter(|x| *x > 0.0).collect(),
+        _ => grid.axes[0].centers(),
+    }
+}
+
+/// Solve the profile's closure over its grid.
+pub fn solve(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
+    let domain = domain_for(&loaded.grid);
+    let bg = closure::solve(&loaded.model, &domain)
+        .map_err(|error| Error::Closure { source_label: loaded.source.clone(), error })?;
+    Ok((bg, domain))
+}
+
+/// The gas constants the sampler needs.
+pub fn gas_constants(loaded: &Loaded) -> GasConstants {
+    GasConstants {
+        gamma: loaded.model.gamma,
+        temperature_per_c2: loaded.model.temperature_per_c2(),
+        vertically_integrated: loaded.model.vertically_integrated,
+    }
+}
+
+/// Everything `build` writes.
+pub struct Built {
+    /// The equilibrium alone.
+    pub background: FieldSet,
+    /// Equilibrium plus perturbations (equal to the background for now).
+    pub state: FieldSet,
+    /// File metadata, cautions included.
+    pub metadata: Metadata,
+}
+
+/// Solve, sample and describe.
+pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
+    let (bg, domain) = solve(loaded)?;
+    let background = sample::sample(&bg, &loaded.grid, &loaded.sampling, &gas_constants(loaded))
+        .map_err(|error| Error::Sample { source_label: loaded.source.clone(), error })?;
+    let state = background.clone();
+    let metadata = Metadata {
+        profile_json: loaded.json_text.clone(),
+        command_line: command_line.to_string(),
+        generator: format!("stillpoint {}", env!("CARGO_PKG_VERSION")),
+        units: loaded.model.units,
+        cautions: cautions(loaded, &bg, &domain),
+        extra: vec![
+            ("balance".into(), format!("{:?}", loaded.model.shape).to_lowercase()),
+            ("solved_for".into(), loaded.model.unknown.key().into()),
+            ("gamma".into(), format!("{}", loaded.model.gamma)),
+        ],
+    };
+    Ok(Built { background, state, metadata })
+}
+
+/// Plain-language cautions: instability of the equilibrium and an anchor
+/// outside the grid.
+pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<String> {
+    let m = &loaded.model;
+    let s = m.coordinate();
+    let mut out = Vec::new();
+    let pts = domain.scan_points();
+    let states: Vec<_> = pts.iter().map(|&x| bg.at(x)).collect();
+    if m.shape == Shape::DiskMidplane {
+        // Rayleigh (1917): axisymmetric rotation is stable where the
+        // specific angular momentum (R v_φ)² grows outward.
+        if let Some(x) = pts.windows(2).zip(states.windows(2)).find_map(|(p, st)| {
+            let j0 = (p[0] * st[0].rotation).powi(2);
+            let j1 = (p[1] * st[1].rotation).powi(2);
+            (j1 < j0 * (1.0 - 1e-12)).then_some(p[0])
+        }) {
+            out.push(format!(
+                "the rotation law violates the Rayleigh criterion near {s} = {x:.6}: (R v_phi)^2 \
+                 decreases outward, so this equilibrium is dynamically unstable"
+            ));
+        }
+    } else {
+        // Schwarzschild criterion: convectively stable where the entropy
+        // ln P − γ ln ρ increases against gravity.
+        if let Some(x) = pts.windows(2).zip(states.windows(2)).find_map(|(p, st)| {
+            let e = |q: &crate::background::PointState| q.pressure.ln() - m.gamma * q.density.ln();
+            let ds = e(&st[1]) - e(&st[0]);
+            let dphi = st[1].potential - st[0].potential;
+            (ds * dphi < -1e-12 * ds.abs().max(1e-300)).then_some(p[0])
+        }) {
+            out.push(format!(
+                "the stratification is convectively unstable near {s} = {x:.6} (Schwarzschild \
+                 criterion with gamma = {}): the entropy falls against gravity",
+                m.gamma
+            ));
+        }
+    }
+    if let Some(a) = m.anchor {
+        if a.at < domain.lo || a.at > domain.hi {
+            out.push(format!(
+                "the anchor {s} = {} lies outside the grid [{}, {}]: the laws are used beyond the \
+                 domain to reach it",
+                a.at, domain.lo, domain.hi
+            ));
+        }
+    }
+    out
+}

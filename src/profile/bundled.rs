@@ -1,0 +1,26 @@
+//! The profiles shipped with stillpoint, compiled into the binary so that
+//! `stillpoint build NAME` works from any directory. The files themselves
+//! live in `profiles/` at the top of the repository.
+
+/// (name, JSON text) of every bundled profile.
+pub const BUNDLED: &[(&str, &str)] = &[
+    ("quiet-slab", include_str!("../../profiles/quiet-slab.json")),
+    ("layered-atmosphere", include_str!("../../profiles/layered-atmosphere.json")),
+    ("powerlaw-disk", include_str!("../../profiles/powerlaw-disk.json")),
+    ("tapered-disk-cartesian", include_str!("../../profiles/tapered-disk-cartesian.json")),
+    ("ring-disk", include_str!("../../profiles/ring-disk.json")),
+    ("steady-vortex", include_str!("../../profiles/steady-vortex.json")),
+];
+
+/// The text of a bundled profile by name.
+pub fn find(name: &str) -> Option<&'static str> {
+    BUNDLED.iter().find(|(n, _)| *n == name).map(|(_, t)| *t)
+}
+
+/// The `about` line of a bundled profile.
+pub fn about(text: &str) -> String {
+    serde_json::from_str::<serde_json::Value>(text)
+        .ok()
+        .and_then(|v| v.get("about").and_then(|a| a.as_str()).map(str::to_string))
+        .unwrap_or_default()
+}

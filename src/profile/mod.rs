@@ -1,0 +1,546 @@
+//! Profiles: the user's JSON description of an equilibrium problem, read
+//! and validated with an exact path for every error, then resolved into a
+//! [`Model`], a [`Grid`], a sampling rule and output settings.
+//!
+//! Owns: the profile schema (documented in the README's profile reference),
+//! `--set` overrides, the bundled profiles. Does not own: solving, sampling
+//! or writing.
+
+pub mod bundled;
+mod json;
+
+use std::fmt;
+use std::path::{Path, PathBuf};
+
+use serde_json::Value;
+
+use crate::background::Shape;
+use crate::formula::{parse_with_names, resolve_parameters, Expr};
+use crate::grid::{Axis, Coord, Grid};
+use crate::model::{Anchor, Law, Model, Unknown};
+use crate::output::Precision;
+use crate::sample::SamplingRule;
+use crate::units::UnitSystem;
+use json::{closest, Node};
+
+/// A profile error: the file, the JSON path at fault and what is wrong;
+/// for formulas also the formula with a caret under the fault.
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+pub struct ProfileError {
+    /// The profile file (or `bundled:<name>`).
+    pub file: String,
+    /// The JSON path (`grid.R.cells`), or empty for file-level errors.
+    pub path: String,
+    /// What is wrong.
+    pub message: String,
+    /// A formula with a caret line, when the fault is inside a formula.
+    pub detail: Option<String>,
+}
+
+impl ProfileError {
+    /// An error at a path of a file.
+    pub fn at(file: &str, path: &str, message: impl Into<String>) -> ProfileError {
+        ProfileError {
+            file: file.to_string(),
+            path: path.to_string(),
+            message: message.into(),
+            detail: None,
+        }
+    }
+}
+
+impl fmt::Display for ProfileError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if self.path.is_empty() {
+            write!(f, "{}: {}", self.file, self.message)?;
+        } else {
+            write!(f, "{}: {}: {}", self.file, self.path, self.message)?;
+        }
+        if let Some(d) = &self.detail {
+            write!(f, "\n{}", indent(d))?;
+        }
+        Ok(())
+    }
+}
+
+fn indent(s: &str) -> String {
+    s.lines().map(|l| format!("    {l}")).collect::<Vec<_>>().join("\n")
+}
+
+/// Where and how to write the output.
+#[derive(Clone, Debug, PartialEq)]
+pub struct OutputSpec {
+    /// The HDF5 file named in the profile (relative to the working directory).
+    pub file: Option<PathBuf>,
+    /// Also write a CSV table (1D grids).
+    pub csv: bool,
+    /// Floating-point precision of the HDF5 datasets.
+    pub precision: Precision,
+}
+
+/// A profile read, validated and resolved.
+#[derive(Clone, Debug)]
+pub struct Loaded {
+    /// Where it came from (a path or `bundled:<name>`).
+    pub source: String,
+    /// The profile text after `--set` overrides, as recorded in outputs.
+    pub json_text: String,
+    /// The problem.
+    pub model: Model,
+    /// The grid.
+    pub grid: Grid,
+    /// The sampling rule.
+    pub sampling: SamplingRule,
+    /// Output settings.
+    pub output: OutputSpec,
+}
+
+/// Names no parameter may take: coordinates and built-ins.
+pub const RESERVED: [&str; 10] = ["R", "phi", "x", "y", "z", "r", "pi", "G", "k_B", "m_u"];
+
+/// Parse a `--set NAME=VALUE` argument.
+pub fn parse_override(arg: &str) -> Result<(String, String), String> {
+    match arg.split_once('=') {
+        Some((n, v)) if !n.trim().is_empty() && !v.trim().is_empty() => {
+            Ok((n.trim().to_string(), v.trim().to_string()))
+        }
+        _ => Err(format!("expected NAME=VALUE, found `{arg}`")),
+    }
+}
+
+/// Read a profile from a path, or a bundled profile by name, apply the
+/// overrides and resolve it.
+pub fn load(arg: &str, overrides: &[(String, String)]) -> Result<Loaded, ProfileError> {
+    let path = Path::new(arg);
+    let (label, text, dir) = if path.is_file() {
+        let text = std::fs::read_to_string(path)
+            .map_err(|e| ProfileError::at(arg, "", format!("cannot read the file: {e}")))?;
+        (arg.to_string(), text, path.parent().map(Path::to_path_buf).unwrap_or_default())
+    } else if let Some(text) = bundled::find(arg) {
+        (format!("bundled:{arg}"), text.to_string(), PathBuf::from("."))
+    } else {
+        let names: Vec<&str> = bundled::BUNDLED.iter().map(|(n, _)| *n).collect();
+        let hint = closest(arg, &names).map(|n| format!(" (did you mean `{n}`?)")).unwrap_or_default();
+        return Err(ProfileError::at(
+            arg,
+            "",
+            format!(
+                "no such file, and no bundled profile of that name{hint}; `stillpoint profiles` lists them"
+            ),
+        ));
+    };
+    from_text(&label, &text, &dir, overrides)
+}
+
+/// Resolve a profile from its text. `dir` is where relative paths inside it
+/// (edge files) are looked up.
+pub fn from_text(
+    label: &str,
+    text: &str,
+    dir: &Path,
+    overrides: &[(String, String)],
+) -> Result<Loaded, ProfileError> {
+    let mut root: Value = serde_json::from_str(text).map_err(|e| {
+        ProfileError::at(
+            label,
+            "",
+            format!("not valid JSON: {} (line {}, column {})", strip_pos(&e.to_string()), e.line(), e.column()),
+        )
+    })?;
+    apply_overrides(&mut root, label, overrides)?;
+    let json_text = serde_json::to_string_pretty(&root).unwrap_or_default();
+    let top = Node::root(&root, label);
+    top.only_keys(&[
+        "name", "about", "units", "parameters", "gravity", "gas", "balance", "grid", "sampling",
+        "output",
+    ])?;
+    let name = top.require("name")?.node().str()?.to_string();
+    let about = match top.child("about") {
+        Some(n) => n.node().str()?.to_string(),
+        None => String::new(),
+    };
+    let units = match top.child("units") {
+        Some(n) => n.node().choice(&UnitSystem::ALL)?,
+        None => UnitSystem::Code,
+    };
+
+    // Parameters, resolved in dependency order.
+    let builtins = Model::builtin_names(units);
+    let mut param_text = Vec::new();
+    let mut defs = Vec::new();
+    if let Some(p) = top.child("parameters") {
+        let p = p.node();
+        let map = p.object()?;
+        let names: Vec<&str> = map.keys().map(String::as_str).collect();
+        let mut known: Vec<&str> = names.clone();
+        known.extend(builtins.iter().map(|(n, _)| n.as_str()));
+        for key in &names {
+            let child = p.require(key)?;
+            let node = child.node();
+            if RESERVED.contains(key) || !is_identifier(key) {
+                return Err(node.error(format!(
+                    "`{key}` cannot be a parameter name: names are letters, digits and _, and {} are reserved",
+                    RESERVED.join(", ")
+                )));
+            }
+            let expr = node.formula(&known)?;
+            let text = match node.value {
+                Value::String(s) => s.clone(),
+                v => v.to_string(),
+            };
+            param_text.push((key.to_string(), text));
+            defs.push((key.to_string(), expr));
+        }
+    }
+    let parameters = resolve_parameters(&defs, &builtins)
+        .map_err(|e| ProfileError::at(label, "parameters", e.to_string()))?;
+    for (n, v) in &parameters {
+        if !v.is_finite() {
+            return Err(ProfileError::at(label, &format!("parameters.{n}"), format!("evaluates to {v}")));
+        }
+    }
+    let lookup = |n: &str| {
+        parameters
+            .iter()
+            .find(|(k, _)| k == n)
+            .map(|(_, v)| *v)
+            .or_else(|| builtins.iter().find(|(k, _)| k == n).map(|(_, v)| *v))
+    };
+    let mut consts: Vec<&str> = parameters.iter().map(|(n, _)| n.as_str()).collect();
+    consts.extend(builtins.iter().map(|(n, _)| n.as_str()));
+
+    // Balance.
+    let balance_owned = top.require("balance")?;
+    let balance = balance_owned.node();
+    balance.only_keys(&[
+        "shape", "solve_for", "density", "rotation", "pressure", "anchor", "vertically_integrated",
+    ])?;
+    let shape = balance.require("shape")?.node().choice(&[
+        (Shape::Slab, "slab"),
+        (Shape::Spherical, "sphere"),
+        (Shape::DiskMidplane, "disk"),
+    ])?;
+    let unknown = balance.require("solve_for")?.node().choice(&Unknown::ALL)?;
+    let coord = shape.coordinate();
+    let mut law_names = consts.clone();
+    law_names.push(coord);
+    let law = |key: &str| -> Result<Option<Law>, ProfileError> {
+        match balance.child(key) {
+            None => Ok(None),
+            Some(n) => Ok(Some(Law { expr: n.node().formula(&law_names)?, origin: n.node().path() })),
+        }
+    };
+    let density = law("density")?;
+    let rotation = law("rotation")?;
+    let pressure = law("pressure")?;
+    let anchor = match balance.child("anchor") {
+        None => None,
+        Some(a) => {
+            let a = a.node();
+            a.only_keys(&["at", "value"])?;
+            Some(Anchor {
+                at: a.require("at")?.node().value(&consts, &lookup)?,
+                value: a.require("value")?.node().value(&consts, &lookup)?,
+            })
+        }
+    };
+    let vertically_integrated = match balance.child("vertically_integrated") {
+        Some(n) => {
+            let b = n.node().bool()?;
+            if b && shape != Shape::DiskMidplane {
+                return Err(n.node().error("only a disk can be vertically integrated"));
+            }
+            b
+        }
+        None => false,
+    };
+
+    // Gravity.
+    let gravity_owned = top.require("gravity")?;
+    let potential = potential(gravity_owned.node(), shape, &consts)?;
+
+    // Gas.
+    let gas_owned = top.require("gas")?;
+    let gas = gas_owned.node();
+    gas.only_keys(&["gamma", "sound_speed_sq", "temperature", "molecular_weight"])?;
+    let gamma = match gas.child("gamma") {
+        Some(g) => g.node().value(&consts, &lookup)?,
+        None => 5.0 / 3.0,
+    };
+    if gamma <= 1.0 {
+        return Err(ProfileError::at(label, "gas.gamma", format!("must exceed 1, found {gamma}")));
+    }
+    let molecular_weight = match gas.child("molecular_weight") {
+        Some(m) => {
+            let v = m.node().value(&consts, &lookup)?;
+            if v <= 0.0 {
+                return Err(m.node().error(format!("must be positive, found {v}")));
+            }
+            Some(v)
+        }
+        None => None,
+    };
+    let sound_speed_sq = match (gas.child("sound_speed_sq"), gas.child("temperature")) {
+        (Some(_), Some(t)) => {
+            return Err(t.node().error("give either gas.sound_speed_sq or gas.temperature, not both"))
+        }
+        (Some(c), None) => Some(Law { expr: c.node().formula(&law_names)?, origin: c.node().path() }),
+        (None, Some(t)) => {
+            let node = t.node();
+            let (Some(k), Some(m)) = (units.constants().k_b, units.constants().m_u) else {
+                return Err(node.error(
+                    "a temperature needs physical units (units: si, cgs or astro); in code units give gas.sound_speed_sq",
+                ));
+            };
+            let Some(mu) = molecular_weight else {
+                return Err(ProfileError::at(
+                    label,
+                    "gas.molecular_weight",
+                    "this key is required with gas.temperature (c^2 = k_B T / (mu m_u))",
+                ));
+            };
+            let t_expr = node.formula(&law_names)?;
+            let expr = (Expr::num(k / (mu * m)) * t_expr).simplify();
+            Some(Law { expr, origin: node.path() })
+        }
+        (None, None) => None,
+    };
+
+    // Grid, sampling, output.
+    let grid_owned = top.require("grid")?;
+    let grid = grid(grid_owned.node(), dir, &consts, &lookup)?;
+    check_grid_matches(&grid, shape, label)?;
+    let sampling = match top.child("sampling") {
+        None => SamplingRule::Center,
+        Some(s) => sampling(s.node())?,
+    };
+    let output = match top.child("output") {
+        None => OutputSpec { file: None, csv: false, precision: Precision::Double },
+        Some(o) => output(o.node())?,
+    };
+
+    let model = Model {
+        name,
+        about,
+        units,
+        parameters,
+        parameter_text: param_text,
+        shape,
+        unknown,
+        density,
+        sound_speed_sq,
+        rotation,
+        pressure,
+        potential,
+        anchor,
+        gamma,
+        molecular_weight,
+        vertically_integrated,
+    };
+    Ok(Loaded { source: label.to_string(), json_text, model, grid, sampling, output })
+}
+
+fn strip_pos(msg: &str) -> String {
+    match msg.rfind(" at line ") {
+        Some(i) => msg[..i].to_string(),
+        None => msg.to_string(),
+    }
+}
+
+fn is_identifier(s: &str) -> bool {
+    let mut c = s.chars();
+    matches!(c.next(), Some(ch) if ch.is_ascii_alphabetic() || ch == '_')
+        && c.all(|ch| ch.is_ascii_alphanumeric() || ch == '_')
+}
+
+fn apply_overrides(root: &mut Value, label: &str, overrides: &[(String, String)]) -> Result<(), ProfileError> {
+    if overrides.is_empty() {
+        return Ok(());
+    }
+    let Some(params) = root.get_mut("parameters").and_then(Value::as_object_mut) else {
+        return Err(ProfileError::at(label, "parameters", "--set needs a parameters object in the profile"));
+    };
+    for (name, value) in overrides {
+        if !params.contains_key(name) {
+            let keys: Vec<&str> = params.keys().map(String::as_str).collect();
+            let hint = closest(name, &keys).map(|k| format!(" (did you mean `{k}`?)")).unwrap_or_default();
+            return Err(ProfileError::at(
+                label,
+                "parameters",
+                format!("--set {name}=…: no parameter `{name}`{hint}; known: {}", keys.join(", ")),
+            ));
+        }
+        let v = match value.parse::<f64>() {
+            Ok(x) if x.is_finite() => serde_json::Number::from_f64(x).map(Value::Number),
+            _ => None,
+        }
+        .unwrap_or_else(|| Value::String(value.clone()));
+        params.insert(name.clone(), v);
+    }
+    Ok(())
+}
+
+fn potential(node: Node, shape: Shape, consts: &[&str]) -> Result<Law, ProfileError> {
+    node.only_keys(&["uniform", "point_mass", "softening", "potential"])?;
+    let coord = shape.coordinate();
+    let mut names: Vec<&str> = consts.to_vec();
+    names.push(coord);
+    let count = ["uniform", "point_mass", "potential"].iter().filter(|k| node.child(k).is_some()).count();
+    if count != 1 {
+        return Err(node.error("give exactly one of uniform, point_mass, potential"));
+    }
+    if let Some(g) = node.child("uniform") {
+        let g = g.node();
+        if shape == Shape::DiskMidplane {
+            return Err(g.error("a disk needs a central potential (point_mass or potential), not uniform gravity"));
+        }
+        if node.child("softening").is_some() {
+            return Err(node.error("softening goes with point_mass only"));
+        }
+        let expr = (g.formula(consts)? * Expr::name(coord)).simplify();
+        return Ok(Law { expr, origin: g.path() });
+    }
+    if let Some(m) = node.child("point_mass") {
+        let m = m.node();
+        let mass = m.formula(consts)?;
+        let eps = match node.child("softening") {
+            Some(e) => e.node().formula(consts)?,
+            None => Expr::num(0.0),
+        };
+        // Plummer (1911) softened point mass: Φ = −G M / √(s² + ε²).
+        let s = Expr::name(coord);
+        let r2 = s.clone() * s + eps.clone() * eps;
+        let expr = (-(Expr::name("G") * mass) * r2.pow(Expr::num(-0.5))).simplify();
+        return Ok(Law { expr, origin: m.path() });
+    }
+    let p = node.require("potential")?;
+    let p = p.node();
+    if node.child("softening").is_some() {
+        return Err(node.error("softening goes with point_mass only"));
+    }
+    if shape == Shape::DiskMidplane {
+        names.push("z");
+        let e = p.formula(&names)?;
+        let mid = e.substitute(&[("z".to_string(), Expr::num(0.0))].into_iter().collect());
+        return Ok(Law { expr: mid, origin: p.path() });
+    }
+    Ok(Law { expr: p.formula(&names)?, origin: p.path() })
+}
+
+fn grid(
+    node: Node,
+    dir: &Path,
+    consts: &[&str],
+    lookup: &dyn Fn(&str) -> Option<f64>,
+) -> Result<Grid, ProfileError> {
+    let map = node.object()?;
+    if map.is_empty() {
+        return Err(node.error("expected at least one axis (R, phi, x, y, z or r)"));
+    }
+    let mut axes = Vec::new();
+    for key in map.keys() {
+        let owned = node.require(key)?;
+        let ax = owned.node();
+        let Some(coord) = Coord::from_name(key) else {
+            let names = ["R", "phi", "x", "y", "z", "r"];
+            let hint = closest(key, &names).map(|k| format!(" (did you mean `{k}`?)")).unwrap_or_default();
+            return Err(ax.error(format!("unknown axis `{key}`{hint}; axes are R, phi, x, y, z, r")));
+        };
+        ax.only_keys(&["from", "to", "cells", "spacing", "edges", "edges_file"])?;
+        let err = |e: crate::grid::GridError| ax.error(e.to_string());
+        let axis = if let Some(e) = ax.child("edges") {
+            let edges = e
+                .node()
+                .array()?
+                .iter()
+                .map(|n| n.node().value(consts, lookup))
+                .collect::<Result<Vec<_>, _>>()?;
+            Axis::explicit(coord, edges).map_err(err)?
+        } else if let Some(f) = ax.child("edges_file") {
+            let p = dir.join(f.node().str()?);
+            Axis::from_edges_file(coord, &p).map_err(err)?
+        } else {
+            let (from, to) = match (ax.child("from"), ax.child("to"), coord) {
+                (None, None, Coord::Phi) => (0.0, 2.0 * std::f64::consts::PI),
+                _ => (
+                    ax.require("from")?.node().value(consts, lookup)?,
+                    ax.require("to")?.node().value(consts, lookup)?,
+                ),
+            };
+            let cells = ax.require("cells")?.node().positive_int()?;
+            let log = match ax.child("spacing") {
+                Some(s) => s.node().choice(&[(false, "uniform"), (true, "log")])?,
+                None => false,
+            };
+            if log { Axis::log(coord, from, to, cells) } else { Axis::uniform(coord, from, to, cells) }
+                .map_err(err)?
+        };
+        axes.push(axis);
+    }
+    Grid::new(axes).map_err(|e| node.error(e.to_string()))
+}
+
+fn check_grid_matches(grid: &Grid, shape: Shape, label: &str) -> Result<(), ProfileError> {
+    use crate::grid::Layout;
+    let ok = match (grid.layout(), shape) {
+        (Layout::Line(Coord::Z), Shape::Slab) => true,
+        (Layout::Line(Coord::Sph), Shape::Spherical) => true,
+        (Layout::Line(Coord::R) | Layout::Polar | Layout::Cartesian, Shape::DiskMidplane) => true,
+        _ => false,
+    };
+    if ok {
+        Ok(())
+    } else {
+        let want = match shape {
+            Shape::Slab => "a slab needs a z axis",
+            Shape::Spherical => "a sphere needs an r axis",
+            _ => "a disk needs an R axis, R and phi, or x and y",
+        };
+        Err(ProfileError::at(label, "grid", format!("the grid does not fit balance.shape: {want}")))
+    }
+}
+
+fn sampling(node: Node) -> Result<SamplingRule, ProfileError> {
+    node.only_keys(&["rule", "points"])?;
+    let avg = node.require("rule")?.node().choice(&[(false, "center"), (true, "average")])?;
+    if !avg {
+        if let Some(p) = node.child("points") {
+            return Err(p.node().error("points goes with rule \"average\" only"));
+        }
+        return Ok(SamplingRule::Center);
+    }
+    let points = match node.child("points") {
+        Some(p) => p.node().positive_int()?,
+        None => 4,
+    };
+    if points > 64 {
+        return Err(node.error("sampling.points: at most 64 points per axis"));
+    }
+    Ok(SamplingRule::Average { points })
+}
+
+fn output(node: Node) -> Result<OutputSpec, ProfileError> {
+    node.only_keys(&["file", "csv", "precision"])?;
+    let file = match node.child("file") {
+        Some(f) => Some(PathBuf::from(f.node().str()?)),
+        None => None,
+    };
+    let csv = match node.child("csv") {
+        Some(c) => c.node().bool()?,
+        None => false,
+    };
+    let precision = match node.child("precision") {
+        Some(p) => p.node().choice(&[(Precision::Double, "double"), (Precision::Single, "single")])?,
+        None => Precision::Double,
+    };
+    Ok(OutputSpec { file, csv, precision })
+}
+
+/// Parse a formula over the model's names (parameters, built-ins and the
+/// background coordinate) — for `--at` lists and similar user input.
+pub fn formula_for(model: &Model, text: &str) -> Result<Expr, crate::formula::FormulaError> {
+    let builtins = Model::builtin_names(model.units);
+    let mut known: Vec<&str> = model.parameters.iter().map(|(n, _)| n.as_str()).collect();
+    known.extend(builtins.iter().map(|(n, _)| n.as_str()));
+    parse_with_names(text, &known)
+}

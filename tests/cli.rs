@@ -1,0 +1,181 @@
+//! The real binary in a temporary folder: every bundled profile builds and
+//! checks, and bad input of each kind gives a clear message, a non-zero exit
+//! and no output file. Regression tests are named after the issue they pin.
+
+use std::path::Path;
+use std::process::{Command, Output};
+
+fn stillpoint(dir: &Path, args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_stillpoint"))
+        .args(args)
+        .current_dir(dir)
+        .output()
+        .expect("run stillpoint")
+}
+
+fn text(o: &Output) -> String {
+    format!("{}{}", String::from_utf8_lossy(&o.stdout), String::from_utf8_lossy(&o.stderr))
+}
+
+fn tmp() -> tempfile::TempDir {
+    tempfile::tempdir().unwrap()
+}
+
+const BUNDLED: [&str; 6] = [
+    "quiet-slab",
+    "layered-atmosphere",
+    "powerlaw-disk",
+    "tapered-disk-cartesian",
+    "ring-disk",
+    "steady-vortex",
+];
+
+#[test]
+fn issue2_every_bundled_profile_builds_and_checks() {
+    let d = tmp();
+    let listing = text(&stillpoint(d.path(), &["profiles"]));
+    for name in BUNDLED {
+        assert!(listing.contains(name), "profiles lists {name}");
+        let out = format!("{name}.h5");
+        let o = stillpoint(d.path(), &["build", name, "-o", &out]);
+        assert!(o.status.success(), "build {name}: {}", text(&o));
+        assert!(d.path().join(&out).is_file());
+        let o = stillpoint(d.path(), &["check", name]);
+        assert!(o.status.success(), "check {name}: {}", text(&o));
+        assert!(text(&o).contains("PASS"));
+    }
+}
+
+#[test]
+fn issue2_build_from_file_writes_csv_for_1d_and_records_overrides() {
+    let d = tmp();
+    let profile = concat!(env!("CARGO_MANIFEST_DIR"), "/profiles/quiet-slab.json");
+    let o = stillpoint(d.path(), &["build", profile, "-o", "s.h5", "--set", "g0=2.5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let csv = std::fs::read_to_string(d.path().join("s.csv")).unwrap();
+    assert!(csv.lines().any(|l| l.starts_with("z [")), "{csv}");
+    // The override is recorded in the file's profile attribute.
+    let f = hdf5::File::open(d.path().join("s.h5")).unwrap();
+    let prof: hdf5::types::VarLenUnicode = f.attr("profile").unwrap().read_scalar().unwrap();
+    assert!(prof.as_str().contains("2.5"), "{}", prof.as_str());
+}
+
+#[test]
+fn issue2_table_and_derive_print() {
+    let d = tmp();
+    let o = stillpoint(d.path(), &["table", "powerlaw-disk", "--points", "5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let t = text(&o);
+    for col in ["v_phi", "Omega", "v_K", "1-v_phi/v_K", "H/R"] {
+        assert!(t.contains(col), "{col} in {t}");
+    }
+    let o = stillpoint(d.path(), &["table", "quiet-slab", "--at", "0,1,H", "--csv"]);
+    assert!(o.status.success(), "{}", text(&o));
+    assert_eq!(String::from_utf8_lossy(&o.stdout).lines().count(), 4);
+    let o = stillpoint(d.path(), &["derive", "powerlaw-disk"]);
+    assert!(o.status.success() && text(&o).contains("v_phi^2"), "{}", text(&o));
+    let o = stillpoint(d.path(), &["derive", "powerlaw-disk", "--latex"]);
+    assert!(o.status.success() && text(&o).contains("\\"), "{}", text(&o));
+}
+
+/// Write `profile` into a temp dir, run `build` on it, and return the
+/// combined output after asserting a non-zero exit and no output file.
+fn bad_build(profile: &str, extra: &[&str]) -> String {
+    let d = tmp();
+    std::fs::write(d.path().join("p.json"), profile).unwrap();
+    let mut args = vec!["build", "p.json", "-o", "out.h5"];
+    args.extend(extra);
+    let o = stillpoint(d.path(), &args);
+    assert!(!o.status.success(), "expected failure: {}", text(&o));
+    assert!(!d.path().join("out.h5").exists(), "no output file on failure");
+    let left: Vec<_> = std::fs::read_dir(d.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
+    assert_eq!(left.len(), 1, "only the profile remains: {left:?}");
+    text(&o)
+}
+
+const GOOD: &str = include_str!("../profiles/quiet-slab.json");
+
+#[test]
+fn issue2_malformed_json() {
+    let t = bad_build(&GOOD.replace("\"units\": \"code\",", "\"units\": \"code\""), &[]);
+    assert!(t.contains("p.json") && t.contains("not valid JSON") && t.contains("line"), "{t}");
+}
+
+#[test]
+fn issue2_unknown_key_names_path_and_suggestion() {
+    let t = bad_build(&GOOD.replace("\"cells\": 256", "\"cels\": 256"), &[]);
+    assert!(t.contains("grid.z.cels") && t.contains("did you mean `cells`"), "{t}");
+}
+
+#[test]
+fn issue2_non_positive_cells() {
+    let t = bad_build(&GOOD.replace("\"cells\": 256", "\"cells\": -4"), &[]);
+    assert!(t.contains("grid.z.cells: expected a positive integer, found -4"), "{t}");
+}
+
+#[test]
+fn issue2_formula_syntax_error_has_caret() {
+    let t = bad_build(&GOOD.replace("\"H\": \"cs2/g0\"", "\"H\": \"cs2/(g0\""), &[]);
+    assert!(t.contains("parameters.H") && t.contains('^'), "{t}");
+}
+
+#[test]
+fn issue2_unknown_name_suggests_closest() {
+    let t = bad_build(&GOOD.replace("\"H\": \"cs2/g0\"", "\"H\": \"cs2/g00\""), &[]);
+    assert!(t.contains("g00") && t.contains("g0"), "{t}");
+}
+
+#[test]
+fn issue2_parameter_cycle_is_named() {
+    let t = bad_build(&GOOD.replace("\"cs2\": 1.0", "\"cs2\": \"H*g0\""), &[]);
+    assert!(t.contains("cycle") && t.contains("cs2") && t.contains("H"), "{t}");
+}
+
+#[test]
+fn issue2_law_without_equilibrium_names_interval() {
+    // Pressure gradient stronger than gravity beyond some radius: v_phi^2 < 0.
+    let p = include_str!("../profiles/powerlaw-disk.json").replace("\"h0\": 0.05", "\"h0\": 0.9");
+    let t = bad_build(&p, &[]);
+    assert!(t.contains("v_phi^2 < 0 between R ="), "{t}");
+}
+
+#[test]
+fn issue2_non_positive_density() {
+    let p = include_str!("../profiles/steady-vortex.json").replace("\"rho0\": 1.0", "\"rho0\": -1.0");
+    let t = bad_build(&p, &[]);
+    assert!(t.contains("density ≤ 0"), "{t}");
+}
+
+#[test]
+fn issue2_existing_output_needs_force() {
+    let d = tmp();
+    std::fs::write(d.path().join("out.h5"), b"precious").unwrap();
+    let o = stillpoint(d.path(), &["build", "quiet-slab", "-o", "out.h5"]);
+    assert!(!o.status.success());
+    assert!(text(&o).contains("--force"), "{}", text(&o));
+    assert_eq!(std::fs::read(d.path().join("out.h5")).unwrap(), b"precious");
+    let o = stillpoint(d.path(), &["build", "quiet-slab", "-o", "out.h5", "--force"]);
+    assert!(o.status.success(), "{}", text(&o));
+    assert_ne!(std::fs::read(d.path().join("out.h5")).unwrap(), b"precious");
+}
+
+#[test]
+fn issue2_check_fails_on_unbalanced_laws() {
+    let d = tmp();
+    let p = include_str!("../profiles/powerlaw-disk.json").replace(
+        "\"solve_for\": \"rotation\",",
+        "\"solve_for\": \"nothing\", \"rotation\": \"sqrt(G*M/R)\",",
+    );
+    std::fs::write(d.path().join("p.json"), p).unwrap();
+    let o = stillpoint(d.path(), &["check", "p.json"]);
+    assert_eq!(o.status.code(), Some(1), "{}", text(&o));
+    assert!(text(&o).contains("NOT AN EQUILIBRIUM"), "{}", text(&o));
+}
+
+#[test]
+fn issue2_unknown_override_is_refused() {
+    let d = tmp();
+    let o = stillpoint(d.path(), &["build", "quiet-slab", "--set", "gg0=3"]);
+    assert!(!o.status.success());
+    assert!(text(&o).contains("did you mean `g0`"), "{}", text(&o));
+}
