@@ -22,7 +22,7 @@ use crate::background::{Background, Shape};
 use crate::closure::{integrate, ClosureError, Domain, Laws};
 use crate::formula::Program;
 use crate::model::Model;
-use crate::sample::gauss_legendre;
+use crate::sample::gauss::GaussLegendre;
 
 /// How the balance holds.
 #[derive(Clone, Debug, PartialEq)]
@@ -242,10 +242,11 @@ fn integral_form(
         .collect();
     pts.sort_by(|a, b| a.total_cmp(b));
     pts.dedup_by(|a, b| (*a - *b).abs() <= 1e-14 * a.abs().max(1.0));
-    let (nodes, weights) = gauss_legendre(20);
+    let rule = GaussLegendre::new(20).expect("20-point rule");
+    let (nodes, weights) = (&rule.nodes, &rule.weights);
     let gl = |a: f64, b: f64, g: &dyn Fn(f64) -> f64| -> f64 {
         let (h, m) = (0.5 * (b - a), 0.5 * (a + b));
-        nodes.iter().zip(&weights).map(|(t, w)| w * g(m + h * t)).sum::<f64>() * h
+        nodes.iter().zip(weights.iter()).map(|(t, w)| w * g(m + h * t)).sum::<f64>() * h
     };
     let (mut max, mut at) = (0.0f64, domain.lo);
     for w in pts.windows(2) {

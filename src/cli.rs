@@ -196,7 +196,7 @@ fn build(common: &Common, output: Option<PathBuf>, csv: bool, force: bool, argv:
             )));
         }
     }
-    if want_csv && loaded.grid.axes.len() != 1 {
+    if want_csv && loaded.grid.axes().len() != 1 {
         return Err(Error::Usage("--csv: a CSV table is written for 1D grids only".into()));
     }
     let built = pipeline::build(&loaded, argv)?;
@@ -220,8 +220,8 @@ fn report_written(loaded: &Loaded, h5: &Path, csv: Option<&Path>, cautions: &[St
         "{}: {} cells ({}), {}",
         loaded.model.name,
         shape.join(" x "),
-        loaded.grid.axes.iter().map(|a| a.coord.name()).collect::<Vec<_>>().join(", "),
-        loaded.sampling.describe()
+        loaded.grid.axes().iter().map(|a| a.coord.name()).collect::<Vec<_>>().join(", "),
+        loaded.sampling.describe(&loaded.grid)
     );
     println!("wrote {}", h5.display());
     if let Some(c) = csv {

@@ -39,7 +39,7 @@ pub enum Error {
 pub fn domain_for(grid: &Grid) -> Domain {
     let (lo, hi) = grid.background_range();
     let knots = match grid.layout() {
-        Layout::Line(_) | Layout::Polar => grid.axes[0].edges.clone(),
+        Layout::Line(_) | Layout::Polar => grid.axes()[0].edges.clone(),
         _ => {
             let n = 2 * grid.shape().iter().copied().max().unwrap_or(1);
             (0..=n).map(|i| lo + (hi - lo) * i as f64 / n as f64).collect()
@@ -53,8 +53,8 @@ pub fn domain_for(grid: &Grid) -> Domain {
 /// positive x centres for Cartesian grids.
 pub fn centres_for(grid: &Grid) -> Vec<f64> {
     match grid.layout() {
-        Layout::Cartesian => grid.axes[0].centers().into_iter().filter(|x| *x > 0.0).collect(),
-        _ => grid.axes[0].centers(),
+        Layout::Cartesian => grid.axes()[0].centers().into_iter().filter(|x| *x > 0.0).collect(),
+        _ => grid.axes()[0].centers(),
     }
 }
 
