@@ -74,22 +74,13 @@ mod tests {
     use super::*;
     use crate::fields::FieldSet;
     use crate::grid::{Axis, Coord, Grid};
-    use crate::output::tests::{document_parts, Parts};
+    use crate::output::tests::document_parts;
 
     #[test]
     fn table_round_trips_numbers() {
-        let Parts {
-            grid,
-            mut set,
-            meta,
-        } = document_parts();
-        set.fields[0].data[1] = 0.1 + 0.2; // not a short decimal
-        let doc = Document {
-            grid: &grid,
-            background: &set,
-            state: &set,
-            metadata: &meta,
-        };
+        let mut parts = document_parts();
+        parts.set.fields[0].data[1] = 0.1 + 0.2; // not a short decimal
+        let doc = parts.doc();
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("out.csv");
         write_csv(&doc, &path).unwrap();
@@ -114,21 +105,16 @@ mod tests {
 
     #[test]
     fn refuses_two_dimensional_grids() {
-        let Parts { meta, .. } = document_parts();
+        let mut parts = document_parts();
         let r = Axis::uniform(Coord::R, 1.0, 2.0, 2).unwrap();
         let phi = Axis::uniform(Coord::Phi, 0.0, 1.0, 2).unwrap();
-        let grid = Grid::new(vec![r, phi]).unwrap();
-        let set = FieldSet {
+        parts.grid = Grid::new(vec![r, phi]).unwrap();
+        parts.set = FieldSet {
             shape: vec![2, 2],
             sampling: String::new(),
             fields: vec![],
         };
-        let doc = Document {
-            grid: &grid,
-            background: &set,
-            state: &set,
-            metadata: &meta,
-        };
+        let doc = parts.doc();
         let e = write_csv(&doc, Path::new("disk.csv")).unwrap_err();
         assert_eq!(
             e.to_string(),

@@ -178,7 +178,7 @@ fn iso_utc(secs: u64) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::output::tests::{document_parts, Parts};
+    use crate::output::tests::document_parts;
 
     #[test]
     fn iso_dates() {
@@ -192,13 +192,8 @@ mod tests {
 
     #[test]
     fn writes_layout_and_attributes() {
-        let Parts { grid, set, meta } = document_parts();
-        let doc = Document {
-            grid: &grid,
-            background: &set,
-            state: &set,
-            metadata: &meta,
-        };
+        let parts = document_parts();
+        let doc = parts.doc();
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("out.h5");
         write_hdf5(&doc, &path, Precision::Single).unwrap();
@@ -229,18 +224,9 @@ mod tests {
 
     #[test]
     fn extra_may_not_shadow_reserved_attributes() {
-        let Parts {
-            grid,
-            set,
-            mut meta,
-        } = document_parts();
-        meta.extra.push(("profile".into(), "x".into()));
-        let doc = Document {
-            grid: &grid,
-            background: &set,
-            state: &set,
-            metadata: &meta,
-        };
+        let mut parts = document_parts();
+        parts.meta.extra.push(("profile".into(), "x".into()));
+        let doc = parts.doc();
         let dir = tempfile::tempdir().unwrap();
         let e = write_hdf5(&doc, &dir.path().join("x.h5"), Precision::Double).unwrap_err();
         assert!(e.to_string().contains("`profile` collides"), "{e}");

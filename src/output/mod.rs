@@ -161,6 +161,14 @@ pub enum OutputError {
 }
 
 impl OutputError {
+    /// A file-system error on `path`.
+    fn io(path: &Path, e: std::io::Error) -> OutputError {
+        OutputError::Io {
+            path: path.to_path_buf(),
+            message: e.to_string(),
+        }
+    }
+
     fn path_mut(&mut self) -> &mut PathBuf {
         match self {
             OutputError::Exists { path }
@@ -181,10 +189,7 @@ pub fn commit(
     force: bool,
     write: impl FnOnce(&Path) -> Result<(), OutputError>,
 ) -> Result<(), OutputError> {
-    let io = |e: std::io::Error| OutputError::Io {
-        path: path.to_path_buf(),
-        message: e.to_string(),
-    };
+    let io = |e| OutputError::io(path, e);
     if !force && fs::symlink_metadata(path).is_ok() {
         return Err(OutputError::Exists {
             path: path.to_path_buf(),
@@ -237,6 +242,23 @@ pub(crate) mod tests {
         pub meta: Metadata,
     }
 
+    impl Parts {
+        /// The document with the same fields as background and state.
+        pub fn doc(&self) -> Document<'_> {
+            Document {
+                grid: &self.grid,
+                background: &self.set,
+                state: &self.set,
+                metadata: &self.meta,
+            }
+        }
+    }
+
+    /// A writer for `commit` that puts `text` in the file it is given.
+    fn text_writer(text: &str) -> impl FnOnce(&Path) -> Result<(), OutputError> + '_ {
+        move |p| fs::write(p, text).map_err(|e| OutputError::io(p, e))
+    }
+
     pub(crate) fn document_parts() -> Parts {
         let grid = Grid::new(vec![Axis::uniform(Coord::Z, 0.0, 3.0, 3).unwrap()]).unwrap();
         let set = FieldSet {
@@ -261,18 +283,9 @@ pub(crate) mod tests {
 
     #[test]
     fn inconsistent_documents_are_refused() {
-        let Parts {
-            grid,
-            mut set,
-            meta,
-        } = document_parts();
-        set.fields[0].data.pop();
-        let doc = Document {
-            grid: &grid,
-            background: &set,
-            state: &set,
-            metadata: &meta,
-        };
+        let mut parts = document_parts();
+        parts.set.fields[0].data.pop();
+        let doc = parts.doc();
         let e = doc.check(Path::new("a.h5")).unwrap_err().to_string();
         assert!(
             e.contains("`density` holds 2 values, the grid has 3 cells"),
@@ -285,23 +298,11 @@ pub(crate) mod tests {
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("out.txt");
         fs::write(&path, "old").unwrap();
-        let e = commit(&path, false, |p| {
-            fs::write(p, "new").map_err(|e| OutputError::Io {
-                path: p.into(),
-                message: e.to_string(),
-            })
-        })
-        .unwrap_err();
+        let e = commit(&path, false, text_writer("new")).unwrap_err();
         assert_eq!(e, OutputError::Exists { path: path.clone() });
         assert!(e.to_string().contains("pass --force"));
         assert_eq!(fs::read_to_string(&path).unwrap(), "old");
-        commit(&path, true, |p| {
-            fs::write(p, "new").map_err(|e| OutputError::Io {
-                path: p.into(),
-                message: e.to_string(),
-            })
-        })
-        .unwrap();
+        commit(&path, true, text_writer("new")).unwrap();
         assert_eq!(fs::read_to_string(&path).unwrap(), "new");
         assert_eq!(
             fs::read_dir(dir.path()).unwrap().count(),
@@ -343,10 +344,7 @@ pub(crate) mod tests {
         let mut seen = PathBuf::new();
         commit(&path, false, |p| {
             seen = p.to_path_buf();
-            fs::write(p, "x").map_err(|e| OutputError::Io {
-                path: p.into(),
-                message: e.to_string(),
-            })
+            text_writer("x")(p)
         })
         .unwrap();
         assert!(seen
