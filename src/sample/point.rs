@@ -21,8 +21,9 @@ pub(super) const CS: usize = 3;
 pub(super) const TEMP: usize = 4;
 pub(super) const ENERGY: usize = 5;
 pub(super) const MOM: usize = 6; // MOM, MOM + 1: momentum components
-pub(super) const VEL: usize = 8; // VEL, VEL + 1: velocity components (point values only)
+pub(super) const VEL: usize = 8; // VEL, VEL + 1: velocity components
 pub(super) const SLOTS: usize = 10;
+
 /// Evaluates the pointwise quantities (the accumulator slots) at one point.
 pub(super) struct PointSampler<'a> {
     pub(super) bg: &'a dyn Background,
