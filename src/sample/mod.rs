@@ -3,8 +3,9 @@
 //!
 //! Owns: the sampling rules (cell-centre point values, cell averages by
 //! tensor Gauss–Legendre quadrature weighted by the grid's volume element),
-//! the list of fields written and how each is derived from the point state,
-//! and the positivity/finiteness checks at every evaluated point. Does not own
+//! and the loop over cells; the evaluation at one point (fields and their
+//! positivity/finiteness checks) lives in the `point` submodule and the
+//! quadrature rule in [`gauss`]. Does not own
 //! the geometry (see [`crate::grid`]), the background (see
 //! [`crate::background`]) or any file format (see [`crate::output`]).
 //!
@@ -24,14 +25,15 @@
 //! v_y = v_φ x/R).
 
 pub mod gauss;
+mod point;
 
 use thiserror::Error;
 
 use crate::background::{Background, Shape};
-use crate::fields::{Field, FieldSet};
+use crate::fields::FieldSet;
 use crate::grid::{Coord, Grid, Layout};
-use crate::units::Dim;
 use gauss::{GaussLegendre, MAX_POINTS};
+use point::{assemble, PointSampler, MOM, RHO, SLOTS, VEL};
 
 /// How a cell's value is taken from the background.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -131,16 +133,6 @@ pub enum SampleError {
 
 /// Most axes a grid can have; fixed-size scratch arrays use it.
 const MAX_AXES: usize = 3;
-// Slots of the per-point and per-cell accumulators.
-const RHO: usize = 0;
-const PRES: usize = 1;
-const POT: usize = 2;
-const CS: usize = 3;
-const TEMP: usize = 4;
-const ENERGY: usize = 5;
-const MOM: usize = 6; // MOM, MOM + 1: momentum components
-const VEL: usize = 8; // VEL, VEL + 1: velocity components (point values only)
-const SLOTS: usize = 10;
 
 /// Nodes and weights of the rule on each cell of one axis, flattened as
 /// `cell * per_cell + k`.
@@ -294,116 +286,6 @@ fn check_inputs(
         }
     }
     Ok(())
-}
-
-/// Evaluates the pointwise quantities (the accumulator slots) at one point.
-struct PointSampler<'a> {
-    bg: &'a dyn Background,
-    grid: &'a Grid,
-    gas: &'a GasConstants,
-    ncomp: usize,
-}
-
-impl PointSampler<'_> {
-    fn at(&self, point: &[f64], out: &mut [f64; SLOTS]) -> Result<(), SampleError> {
-        let s = self.grid.background_coordinate(point);
-        let st = self.bg.at(s);
-        let check = |field: &'static str, value: f64, positive: bool| {
-            if !value.is_finite() {
-                Err(SampleError::NonFinite {
-                    field,
-                    value,
-                    at: self.describe(point),
-                })
-            } else if positive && value <= 0.0 {
-                Err(SampleError::NonPositive {
-                    field,
-                    value,
-                    at: self.describe(point),
-                })
-            } else {
-                Ok(())
-            }
-        };
-        check("density", st.density, true)?;
-        check("pressure", st.pressure, true)?;
-        check("rotation velocity", st.rotation, false)?;
-        check("potential", st.potential, false)?;
-        let c2 = st.pressure / st.density;
-        let mut e_phi = [0.0; 2];
-        self.grid.azimuthal_unit(point, &mut e_phi[..self.ncomp]);
-        out[RHO] = st.density;
-        out[PRES] = st.pressure;
-        out[POT] = st.potential;
-        out[CS] = c2.sqrt();
-        out[TEMP] = self.gas.temperature_per_c2.map_or(0.0, |k| k * c2);
-        out[ENERGY] =
-            st.pressure / (self.gas.gamma - 1.0) + 0.5 * st.density * st.rotation * st.rotation;
-        for c in 0..self.ncomp {
-            let v = st.rotation * e_phi[c];
-            out[VEL + c] = v;
-            out[MOM + c] = st.density * v;
-        }
-        Ok(())
-    }
-
-    /// "R = 1.5, phi = 0.2", with the background coordinate added on a
-    /// Cartesian grid.
-    fn describe(&self, point: &[f64]) -> String {
-        let mut parts: Vec<String> = self
-            .grid
-            .axes()
-            .iter()
-            .zip(point)
-            .map(|(a, x)| format!("{} = {x}", a.coord.name()))
-            .collect();
-        if self.grid.layout() == Layout::Cartesian {
-            let last = parts.pop().unwrap_or_default();
-            parts.push(format!(
-                "{last} (R = {})",
-                self.grid.background_coordinate(point)
-            ));
-        }
-        parts.join(", ")
-    }
-}
-
-/// Turns the accumulator columns into named fields with their dimensions.
-fn assemble(grid: &Grid, gas: &GasConstants, mut columns: Vec<Vec<f64>>) -> Vec<Field> {
-    let (density, pressure) = if gas.vertically_integrated {
-        (Dim::SURFACE_DENSITY, Dim::new(0, 1, -2, 0))
-    } else {
-        (Dim::DENSITY, Dim::new(-1, 1, -2, 0))
-    };
-    let mut take = |slot: usize| std::mem::take(&mut columns[slot]);
-    let field = |name: String, dim: Dim, data: Vec<f64>| Field { name, dim, data };
-    let comps = grid.velocity_components();
-    let mut fields = vec![
-        field("density".into(), density, take(RHO)),
-        field("pressure".into(), pressure, take(PRES)),
-    ];
-    for (c, coord) in comps.iter().enumerate() {
-        fields.push(field(
-            format!("velocity_{}", coord.name()),
-            Dim::VELOCITY,
-            take(VEL + c),
-        ));
-    }
-    for (c, coord) in comps.iter().enumerate() {
-        let dim = density.times(Dim::VELOCITY);
-        fields.push(field(
-            format!("momentum_{}", coord.name()),
-            dim,
-            take(MOM + c),
-        ));
-    }
-    fields.push(field("energy".into(), pressure, take(ENERGY)));
-    fields.push(field("sound_speed".into(), Dim::VELOCITY, take(CS)));
-    if gas.temperature_per_c2.is_some() {
-        fields.push(field("temperature".into(), Dim::TEMPERATURE, take(TEMP)));
-    }
-    fields.push(field("potential".into(), Dim::VELOCITY_SQ, take(POT)));
-    fields
 }
 
 #[cfg(test)]

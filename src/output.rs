@@ -1,1 +1,0 @@
-//! SKELETON: being implemented (issue 2).

@@ -1,0 +1,124 @@
+//! The CSV writer, for 1D grids.
+//!
+//! Owns: a plain-text table of the state: `#` comment lines first
+//! (generator, command line, unit system, sampling, cautions), then a header
+//! of `name [units]` columns — the cell-centre coordinate first, then every
+//! state field — and one row per cell with numbers in Rust's shortest
+//! round-trip form (`{:e}`), so reading them back gives the same f64. Does
+//! not own placement of the file (see [`super::commit`]) or any physics.
+
+use std::fmt::Write as _;
+use std::path::Path;
+
+use super::{axis_units, Document, OutputError};
+use crate::grid::Layout;
+
+/// Writes the state of a 1D `doc` as CSV to `path` (replacing any file there;
+/// use [`super::commit`] for a safe replacement). Grids with more than one
+/// axis are refused with a message pointing to HDF5.
+pub fn write_csv(doc: &Document, path: &Path) -> Result<(), OutputError> {
+    doc.check(path)?;
+    let axis = match (doc.grid.layout(), doc.grid.axes()) {
+        (Layout::Line(_), [axis]) => axis,
+        (_, axes) => {
+            let names: Vec<&str> = axes.iter().map(|a| a.coord.name()).collect();
+            return Err(OutputError::Unsupported {
+                path: path.to_path_buf(),
+                message: format!(
+                    "CSV output holds 1D grids only; this grid has axes [{}]: write HDF5 instead",
+                    names.join(", ")
+                ),
+            });
+        }
+    };
+    let meta = doc.metadata;
+    let units = meta.units;
+    let mut text = String::new();
+    // Writing into a String cannot fail.
+    let _ = writeln!(text, "# generator: {}", meta.generator);
+    let _ = writeln!(
+        text,
+        "# command line: {}",
+        meta.command_line.replace('\n', " ")
+    );
+    let _ = writeln!(text, "# unit system: {}", units.key());
+    let _ = writeln!(text, "# sampling: {}", doc.state.sampling);
+    for caution in &meta.cautions {
+        let _ = writeln!(text, "# caution: {}", caution.replace('\n', " "));
+    }
+    let mut header = vec![format!(
+        "{} [{}]",
+        axis.coord.name(),
+        axis_units(axis, units)
+    )];
+    for field in &doc.state.fields {
+        header.push(format!("{} [{}]", field.name, units.unit_string(field.dim)));
+    }
+    text.push_str(&header.join(","));
+    text.push('\n');
+    for (i, x) in axis.centers().iter().enumerate() {
+        let _ = write!(text, "{x:e}");
+        for field in &doc.state.fields {
+            let _ = write!(text, ",{:e}", field.data[i]);
+        }
+        text.push('\n');
+    }
+    std::fs::write(path, text).map_err(|e| OutputError::Io {
+        path: path.to_path_buf(),
+        message: e.to_string(),
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::fields::FieldSet;
+    use crate::grid::{Axis, Coord, Grid};
+    use crate::output::tests::document_parts;
+
+    #[test]
+    fn table_round_trips_numbers() {
+        let mut parts = document_parts();
+        parts.set.fields[0].data[1] = 0.1 + 0.2; // not a short decimal
+        let doc = parts.doc();
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("out.csv");
+        write_csv(&doc, &path).unwrap();
+        let text = std::fs::read_to_string(&path).unwrap();
+        let mut lines = text.lines().filter(|l| !l.starts_with('#'));
+        assert_eq!(lines.next(), Some("z [cm],density [g cm^-3]"));
+        let row: Vec<f64> = lines
+            .nth(1)
+            .unwrap()
+            .split(',')
+            .map(|s| s.parse().unwrap())
+            .collect();
+        assert_eq!(row.len(), 2);
+        assert_eq!(
+            row[1].to_bits(),
+            (0.1f64 + 0.2).to_bits(),
+            "shortest round-trip form"
+        );
+        assert!(text.starts_with("# generator: stillpoint 0.1.0\n"));
+        assert!(text.contains("# unit system: cgs\n# sampling: cell-centre point values\n"));
+    }
+
+    #[test]
+    fn refuses_two_dimensional_grids() {
+        let mut parts = document_parts();
+        let r = Axis::uniform(Coord::R, 1.0, 2.0, 2).unwrap();
+        let phi = Axis::uniform(Coord::Phi, 0.0, 1.0, 2).unwrap();
+        parts.grid = Grid::new(vec![r, phi]).unwrap();
+        parts.set = FieldSet {
+            shape: vec![2, 2],
+            sampling: String::new(),
+            fields: vec![],
+        };
+        let doc = parts.doc();
+        let e = write_csv(&doc, Path::new("disk.csv")).unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "disk.csv: CSV output holds 1D grids only; this grid has axes [R, phi]: write HDF5 instead"
+        );
+    }
+}

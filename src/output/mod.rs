@@ -1,0 +1,358 @@
+//! Writers: turn a grid, sampled fields and a record of how they were built
+//! into files.
+//!
+//! Owns: the [`Document`] handed to every writer, the [`Metadata`] recorded in
+//! files, the typed [`OutputError`], and [`commit`], which makes every write
+//! all-or-nothing (temporary file, then rename). The formats live in
+//! submodules: [`write_hdf5`] (the primary output, layout in design §6) and
+//! [`write_csv`] (1D grids). A writer never computes physics: it only
+//! arranges numbers it is given and writes their units.
+
+mod csv;
+mod h5;
+
+use std::fs;
+use std::path::{Path, PathBuf};
+
+use thiserror::Error;
+
+use crate::fields::FieldSet;
+use crate::grid::{Axis, Grid};
+use crate::units::{Dim, UnitSystem};
+
+pub use csv::write_csv;
+pub use h5::write_hdf5;
+
+/// The caution added to a file written in single precision.
+pub const SINGLE_PRECISION_CAUTION: &str = "written in single precision: relative rounding of \
+    ~6e-8 can exceed the balance of the background; a scheme without well-balancing will see \
+    it as a perturbation";
+
+/// What a file records about how it was built.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Metadata {
+    /// The profile the state was built from (after overrides), as JSON text.
+    pub profile_json: String,
+    /// The command line that produced the file.
+    pub command_line: String,
+    /// Name and version of the generator, e.g. "stillpoint 0.1.0".
+    pub generator: String,
+    /// The unit system of every number in the file.
+    pub units: UnitSystem,
+    /// Warnings the user should read before using the file, one per entry.
+    pub cautions: Vec<String>,
+    /// Further (name, value) pairs written as root attributes.
+    pub extra: Vec<(String, String)>,
+}
+
+impl Metadata {
+    /// The default generator string: the crate name and version.
+    pub fn generator_name() -> String {
+        format!("{} {}", env!("CARGO_PKG_NAME"), env!("CARGO_PKG_VERSION"))
+    }
+}
+
+/// Everything one output file holds.
+#[derive(Clone, Copy, Debug)]
+pub struct Document<'a> {
+    /// The grid the fields live on.
+    pub grid: &'a Grid,
+    /// The equilibrium alone.
+    pub background: &'a FieldSet,
+    /// The initial condition: equilibrium plus perturbations.
+    pub state: &'a FieldSet,
+    /// The record of how it was built.
+    pub metadata: &'a Metadata,
+}
+
+impl Document<'_> {
+    /// Checks that both field sets have the grid's shape and that every field
+    /// holds one value per cell.
+    fn check(&self, path: &Path) -> Result<(), OutputError> {
+        let shape = self.grid.shape();
+        for (group, set) in [("background", self.background), ("state", self.state)] {
+            let fail = |message: String| {
+                Err(OutputError::Inconsistent {
+                    path: path.to_path_buf(),
+                    message,
+                })
+            };
+            if set.shape != shape {
+                return fail(format!(
+                    "{group} fields have shape {:?}, the grid {shape:?}",
+                    set.shape
+                ));
+            }
+            for field in &set.fields {
+                if field.data.len() != self.grid.len() {
+                    return fail(format!(
+                        "{group} field `{}` holds {} values, the grid has {} cells",
+                        field.name,
+                        field.data.len(),
+                        self.grid.len()
+                    ));
+                }
+            }
+        }
+        Ok(())
+    }
+}
+
+/// The unit string of an axis coordinate: `rad` for angles, else a length.
+fn axis_units(axis: &Axis, units: UnitSystem) -> String {
+    if axis.coord.is_angle() {
+        "rad".to_string()
+    } else {
+        units.unit_string(Dim::LENGTH)
+    }
+}
+
+/// Floating-point width of the field datasets.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Precision {
+    /// 64-bit floats (the default; keeps the balance to rounding level).
+    Double,
+    /// 32-bit floats; adds [`SINGLE_PRECISION_CAUTION`] to the file.
+    Single,
+}
+
+/// Errors of the writers; each names the file.
+#[derive(Clone, Debug, Error, PartialEq)]
+#[non_exhaustive]
+pub enum OutputError {
+    /// The output exists and overwriting was not asked for.
+    #[error("{} already exists; refusing to overwrite it (pass --force to replace it)", path.display())]
+    Exists {
+        /// The output file.
+        path: PathBuf,
+    },
+    /// A file-system error.
+    #[error("{}: {message}", path.display())]
+    Io {
+        /// The file.
+        path: PathBuf,
+        /// The system's message.
+        message: String,
+    },
+    /// An error reported by the HDF5 library.
+    #[error("{}: HDF5 error: {message}", path.display())]
+    Hdf5 {
+        /// The file.
+        path: PathBuf,
+        /// The library's message.
+        message: String,
+    },
+    /// A format that cannot hold this grid.
+    #[error("{}: {message}", path.display())]
+    Unsupported {
+        /// The file.
+        path: PathBuf,
+        /// What cannot be written and what to use instead.
+        message: String,
+    },
+    /// A document whose parts do not fit together (a bug in the caller).
+    #[error("{}: cannot write an inconsistent document: {message}", path.display())]
+    Inconsistent {
+        /// The file.
+        path: PathBuf,
+        /// What does not fit.
+        message: String,
+    },
+}
+
+impl OutputError {
+    /// A file-system error on `path`.
+    fn io(path: &Path, e: std::io::Error) -> OutputError {
+        OutputError::Io {
+            path: path.to_path_buf(),
+            message: e.to_string(),
+        }
+    }
+
+    fn path_mut(&mut self) -> &mut PathBuf {
+        match self {
+            OutputError::Exists { path }
+            | OutputError::Io { path, .. }
+            | OutputError::Hdf5 { path, .. }
+            | OutputError::Unsupported { path, .. }
+            | OutputError::Inconsistent { path, .. } => path,
+        }
+    }
+}
+
+/// Writes an output all-or-nothing: refuses to replace an existing `path`
+/// unless `force`, lets `write` fill a temporary file `.<name>.partial-<pid>`
+/// in the same directory, removes it if `write` fails, and renames it onto
+/// `path` on success. Errors from `write` are reported against `path`.
+pub fn commit(
+    path: &Path,
+    force: bool,
+    write: impl FnOnce(&Path) -> Result<(), OutputError>,
+) -> Result<(), OutputError> {
+    let io = |e| OutputError::io(path, e);
+    if !force && fs::symlink_metadata(path).is_ok() {
+        return Err(OutputError::Exists {
+            path: path.to_path_buf(),
+        });
+    }
+    let Some(name) = path.file_name() else {
+        return Err(OutputError::Io {
+            path: path.to_path_buf(),
+            message: "not a file name".to_string(),
+        });
+    };
+    let mut temp_name = std::ffi::OsString::from(".");
+    temp_name.push(name);
+    temp_name.push(format!(".partial-{}", std::process::id()));
+    let temp = path.with_file_name(temp_name);
+    if let Err(mut e) = write(&temp) {
+        let _ = fs::remove_file(&temp);
+        *e.path_mut() = path.to_path_buf();
+        return Err(e);
+    }
+    let placed = if force {
+        fs::rename(&temp, path).map_err(io)
+    } else {
+        // A hard link fails if `path` appeared meanwhile: never clobber it.
+        match fs::hard_link(&temp, path) {
+            Ok(()) => fs::remove_file(&temp).map_err(io),
+            Err(e) if e.kind() == std::io::ErrorKind::AlreadyExists => Err(OutputError::Exists {
+                path: path.to_path_buf(),
+            }),
+            // File systems without hard links: fall back to a rename.
+            Err(_) => fs::rename(&temp, path).map_err(io),
+        }
+    };
+    if placed.is_err() {
+        let _ = fs::remove_file(&temp);
+    }
+    placed
+}
+
+#[cfg(test)]
+pub(crate) mod tests {
+    use super::*;
+    use crate::fields::Field;
+    use crate::grid::Coord;
+
+    /// A small consistent document: 3 cells in z, one density field.
+    pub(crate) struct Parts {
+        pub grid: Grid,
+        pub set: FieldSet,
+        pub meta: Metadata,
+    }
+
+    impl Parts {
+        /// The document with the same fields as background and state.
+        pub fn doc(&self) -> Document<'_> {
+            Document {
+                grid: &self.grid,
+                background: &self.set,
+                state: &self.set,
+                metadata: &self.meta,
+            }
+        }
+    }
+
+    /// A writer for `commit` that puts `text` in the file it is given.
+    fn text_writer(text: &str) -> impl FnOnce(&Path) -> Result<(), OutputError> + '_ {
+        move |p| fs::write(p, text).map_err(|e| OutputError::io(p, e))
+    }
+
+    pub(crate) fn document_parts() -> Parts {
+        let grid = Grid::new(vec![Axis::uniform(Coord::Z, 0.0, 3.0, 3).unwrap()]).unwrap();
+        let set = FieldSet {
+            shape: vec![3],
+            sampling: "cell-centre point values".into(),
+            fields: vec![Field {
+                name: "density".into(),
+                dim: Dim::DENSITY,
+                data: vec![1.0, 2.0, 3.0],
+            }],
+        };
+        let meta = Metadata {
+            profile_json: "{}".into(),
+            command_line: "stillpoint build test.json".into(),
+            generator: Metadata::generator_name(),
+            units: UnitSystem::Cgs,
+            cautions: vec![],
+            extra: vec![],
+        };
+        Parts { grid, set, meta }
+    }
+
+    #[test]
+    fn inconsistent_documents_are_refused() {
+        let mut parts = document_parts();
+        parts.set.fields[0].data.pop();
+        let doc = parts.doc();
+        let e = doc.check(Path::new("a.h5")).unwrap_err().to_string();
+        assert!(
+            e.contains("`density` holds 2 values, the grid has 3 cells"),
+            "{e}"
+        );
+    }
+
+    #[test]
+    fn commit_refuses_to_overwrite_without_force() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("out.txt");
+        fs::write(&path, "old").unwrap();
+        let e = commit(&path, false, text_writer("new")).unwrap_err();
+        assert_eq!(e, OutputError::Exists { path: path.clone() });
+        assert!(e.to_string().contains("pass --force"));
+        assert_eq!(fs::read_to_string(&path).unwrap(), "old");
+        commit(&path, true, text_writer("new")).unwrap();
+        assert_eq!(fs::read_to_string(&path).unwrap(), "new");
+        assert_eq!(
+            fs::read_dir(dir.path()).unwrap().count(),
+            1,
+            "no temporary file left"
+        );
+    }
+
+    #[test]
+    fn failing_writer_leaves_nothing() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("out.h5");
+        let e = commit(&path, false, |p| {
+            fs::write(p, "half").unwrap();
+            Err(OutputError::Hdf5 {
+                path: p.into(),
+                message: "disk full".into(),
+            })
+        })
+        .unwrap_err();
+        assert_eq!(
+            e,
+            OutputError::Hdf5 {
+                path: path.clone(),
+                message: "disk full".into()
+            }
+        );
+        assert_eq!(
+            fs::read_dir(dir.path()).unwrap().count(),
+            0,
+            "no output, no temporary file"
+        );
+    }
+
+    #[test]
+    fn commit_creates_a_new_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("new.txt");
+        let mut seen = PathBuf::new();
+        commit(&path, false, |p| {
+            seen = p.to_path_buf();
+            text_writer("x")(p)
+        })
+        .unwrap();
+        assert!(seen
+            .file_name()
+            .unwrap()
+            .to_string_lossy()
+            .starts_with(".new.txt.partial-"));
+        assert_eq!(fs::read_to_string(&path).unwrap(), "x");
+        assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 1);
+    }
+}
