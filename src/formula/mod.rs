@@ -3,12 +3,28 @@
 //! simplifies, compiles to a flat instruction program and prints back as text
 //! and LaTeX. It knows nothing of physics: names are just names.
 //!
-//! SKELETON: the API below is the contract other modules code against. The
-//! bodies marked `todo!` are being implemented (issue 2, formula engine).
+//! This file holds the public contract (types and entry points); the work is
+//! split into submodules: `lexer` and `parser` (text to tree), `expr` (tree
+//! helpers and f64 evaluation), `simplify`, `diff`, `compile` ([`Program`]),
+//! `print` (text and LaTeX), `params` (parameter resolution) and `extended`
+//! (high-precision evaluation).
 
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
 use std::ops::Range;
+
+mod compile;
+mod diff;
+mod expr;
+mod extended;
+mod lexer;
+mod params;
+mod parser;
+mod print;
+mod simplify;
+
+pub use expr::{func_by_name, func_name};
+pub use params::parameter_using;
 
 /// A function the formula language knows.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
@@ -84,36 +100,50 @@ pub enum FormulaError {
     Syntax { span: Range<usize>, message: String },
     /// A name that is neither known nor built in.
     #[error("unknown name `{name}`{}", suggestion.as_ref().map(|s| format!(" (did you mean `{s}`?)")).unwrap_or_default())]
-    UnknownName { name: String, span: Range<usize>, suggestion: Option<String> },
+    UnknownName {
+        name: String,
+        span: Range<usize>,
+        suggestion: Option<String>,
+    },
     /// Parameters defined in terms of each other; the cycle is listed in order,
     /// first name repeated at the end (`a -> b -> a`).
     #[error("parameters depend on each other in a cycle: {}", cycle.join(" -> "))]
     Cycle { cycle: Vec<String> },
     /// A function called with the wrong number of arguments.
     #[error("`{name}` takes {expected} argument(s), found {found}")]
-    Arity { name: String, span: Range<usize>, expected: usize, found: usize },
+    Arity {
+        name: String,
+        span: Range<usize>,
+        expected: usize,
+        found: usize,
+    },
 }
 
 impl FormulaError {
     /// The byte span at fault, if the error has one.
     pub fn span(&self) -> Option<Range<usize>> {
-        todo!()
+        match self {
+            FormulaError::Syntax { span, .. }
+            | FormulaError::UnknownName { span, .. }
+            | FormulaError::Arity { span, .. } => Some(span.clone()),
+            _ => None,
+        }
     }
     /// The formula on one line, a caret line under the fault, and the message.
-    pub fn render(&self, _source: &str) -> String {
-        todo!()
+    pub fn render(&self, source: &str) -> String {
+        print::render_error(self, source)
     }
 }
 
 /// Parse a formula. Any name is accepted.
-pub fn parse(_source: &str) -> Result<Expr, FormulaError> {
-    todo!()
+pub fn parse(source: &str) -> Result<Expr, FormulaError> {
+    parser::parse(source, None)
 }
 
 /// Parse a formula whose names must all be in `known` (or built in, like
 /// `pi`); an unknown name is reported with its span and the closest known name.
-pub fn parse_with_names(_source: &str, _known: &[&str]) -> Result<Expr, FormulaError> {
-    todo!()
+pub fn parse_with_names(source: &str, known: &[&str]) -> Result<Expr, FormulaError> {
+    parser::parse(source, Some(known))
 }
 
 /// Resolve parameters defined as formulas of each other into numbers, in
@@ -121,10 +151,10 @@ pub fn parse_with_names(_source: &str, _known: &[&str]) -> Result<Expr, FormulaE
 /// fixed values available to every parameter (e.g. `G`). A cycle is an error
 /// naming it.
 pub fn resolve_parameters(
-    _defs: &[(String, Expr)],
-    _constants: &[(String, f64)],
+    defs: &[(String, Expr)],
+    constants: &[(String, f64)],
 ) -> Result<Vec<(String, f64)>, FormulaError> {
-    todo!()
+    params::resolve(defs, constants)
 }
 
 impl Expr {
@@ -137,56 +167,58 @@ impl Expr {
         Expr::Name(n.to_string())
     }
     /// `self ^ e`.
-    pub fn pow(self, _e: Expr) -> Expr {
-        todo!()
+    pub fn pow(self, e: Expr) -> Expr {
+        Expr::Pow(Box::new(self), Box::new(e))
     }
     /// A function call.
-    pub fn call(_f: Func, _args: Vec<Expr>) -> Expr {
-        todo!()
+    pub fn call(f: Func, args: Vec<Expr>) -> Expr {
+        Expr::Call(f, args)
     }
     /// The derivative by `name`, simplified.
-    pub fn diff(&self, _name: &str) -> Expr {
-        todo!()
+    pub fn diff(&self, name: &str) -> Expr {
+        diff::derivative(self, name).simplify()
     }
     /// A simplified equal formula.
     pub fn simplify(&self) -> Expr {
-        todo!()
+        simplify::simplify(self)
     }
     /// Replace names by formulas (simultaneously), then simplify.
-    pub fn substitute(&self, _map: &BTreeMap<String, Expr>) -> Expr {
-        todo!()
+    pub fn substitute(&self, map: &BTreeMap<String, Expr>) -> Expr {
+        expr::substitute(self, map).simplify()
     }
     /// The names the formula uses (built-in constants such as `pi` excluded).
     pub fn names(&self) -> BTreeSet<String> {
-        todo!()
+        let mut out = BTreeSet::new();
+        expr::collect_names(self, &mut out);
+        out
     }
     /// The value if the formula is a number.
     pub fn as_number(&self) -> Option<f64> {
-        todo!()
+        match self {
+            Expr::Num(v) => Some(*v),
+            _ => None,
+        }
     }
     /// Evaluate by walking the tree; names come from `lookup`. Returns an
     /// error naming the first name that `lookup` does not know.
-    pub fn eval(&self, _lookup: &dyn Fn(&str) -> Option<f64>) -> Result<f64, FormulaError> {
-        todo!()
+    pub fn eval(&self, lookup: &dyn Fn(&str) -> Option<f64>) -> Result<f64, FormulaError> {
+        expr::eval(self, lookup)
     }
     /// Evaluate in extended precision (at least 200 bits) and round the result
     /// to f64. Used for probabilistic identity testing.
-    pub fn eval_extended(
-        &self,
-        _lookup: &dyn Fn(&str) -> Option<f64>,
-    ) -> Result<f64, FormulaError> {
-        todo!()
+    pub fn eval_extended(&self, lookup: &dyn Fn(&str) -> Option<f64>) -> Result<f64, FormulaError> {
+        extended::eval_extended(self, lookup)
     }
     /// LaTeX for the formula.
     pub fn to_latex(&self) -> String {
-        todo!()
+        print::latex(self)
     }
 }
 
 impl fmt::Display for Expr {
     /// Plain text that [`parse`] reads back to an equal-valued formula.
-    fn fmt(&self, _f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        todo!()
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&print::text(self))
     }
 }
 
@@ -194,27 +226,52 @@ impl fmt::Display for Expr {
 /// variables; names that are not variables are folded in as constants.
 #[derive(Clone, Debug)]
 pub struct Program {
-    _private: (),
+    code: Vec<compile::Op>,
+    n_vars: usize,
+    depth: usize,
 }
 
 impl Program {
     /// Compile `expr` with `vars` as the run-time inputs, in that order;
     /// every other name must be given by `constants`.
     pub fn compile(
-        _expr: &Expr,
-        _vars: &[&str],
-        _constants: &dyn Fn(&str) -> Option<f64>,
+        expr: &Expr,
+        vars: &[&str],
+        constants: &dyn Fn(&str) -> Option<f64>,
     ) -> Result<Program, FormulaError> {
-        todo!()
+        let (code, depth) = compile::compile(expr, vars, constants)?;
+        Ok(Program {
+            code,
+            n_vars: vars.len(),
+            depth,
+        })
     }
     /// Evaluate at one point (`args` in the order of `vars`).
-    pub fn eval(&self, _args: &[f64]) -> f64 {
-        todo!()
+    pub fn eval(&self, args: &[f64]) -> f64 {
+        debug_assert!(
+            args.len() >= self.n_vars,
+            "Program::eval: too few arguments"
+        );
+        compile::run(&self.code, self.depth, &|i| args[i])
     }
     /// Evaluate over columns of inputs (one slice per variable, equal lengths)
     /// into `out`.
-    pub fn eval_columns(&self, _columns: &[&[f64]], _out: &mut [f64]) {
-        todo!()
+    pub fn eval_columns(&self, columns: &[&[f64]], out: &mut [f64]) {
+        assert!(
+            columns.len() >= self.n_vars,
+            "Program::eval_columns: too few columns"
+        );
+        for (k, o) in out.iter_mut().enumerate() {
+            *o = compile::run(&self.code, self.depth, &|i| columns[i][k]);
+        }
+    }
+    /// The number of instructions (after constant folding).
+    pub fn len(&self) -> usize {
+        self.code.len()
+    }
+    /// True if the program has no instructions (never, for a compiled formula).
+    pub fn is_empty(&self) -> bool {
+        self.code.is_empty()
     }
 }
 
@@ -231,9 +288,15 @@ macro_rules! binop {
     };
 }
 binop!(Add, add, |a, b| Expr::Add(vec![a, b]));
-binop!(Sub, sub, |a, b| Expr::Add(vec![a, Expr::Mul(vec![Expr::Num(-1.0), b])]));
+binop!(Sub, sub, |a, b| Expr::Add(vec![
+    a,
+    Expr::Mul(vec![Expr::Num(-1.0), b])
+]));
 binop!(Mul, mul, |a, b| Expr::Mul(vec![a, b]));
-binop!(Div, div, |a, b| Expr::Mul(vec![a, Expr::Pow(Box::new(b), Box::new(Expr::Num(-1.0)))]));
+binop!(Div, div, |a, b| Expr::Mul(vec![
+    a,
+    Expr::Pow(Box::new(b), Box::new(Expr::Num(-1.0)))
+]));
 impl std::ops::Neg for Expr {
     type Output = Expr;
     fn neg(self) -> Expr {
