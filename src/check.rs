@@ -7,9 +7,10 @@
 //!   arithmetic (probabilistic identity testing, Schwartz 1980, J. ACM 27,
 //!   701); otherwise its largest value relative to the largest term of the
 //!   balance is reported with where it occurs.
-//! * Integrated closures: the balance in integral form between consecutive
-//!   check points, Δq − ∫ f ds with q = ln ρ, P or ln P, the stored values
-//!   against an independent composite Gauss–Legendre rule, relative to ∫|f|.
+//! * Integrated closures: the balance in integral form from the anchor to
+//!   each check point, q(s) − q(anchor) − ∫ f ds with q = ln ρ, P or ln P:
+//!   the stored values against an independent composite Gauss–Legendre rule
+//!   (20 points per piece, split at kinks), relative to ∫|f|.
 //! * Positivity of ρ, P, c² (and v_φ² for disks) over the domain.
 //! * The discrete imbalance of the sampled data under second-order centred
 //!   differences at the grid's resolution (what an unbalanced scheme sees).
@@ -58,8 +59,9 @@ pub struct Report {
     pub verdict: Verdict,
     /// The residual formula, when closed form.
     pub residual_formula: Option<String>,
-    /// Minimum of each positive quantity with where it occurs.
-    pub positivity: Vec<(String, f64, f64)>,
+    /// Minimum of each quantity that must be positive (or, for v_φ², not
+    /// negative) with where it occurs: (name, minimum, where, strict).
+    pub positivity: Vec<(String, f64, f64, bool)>,
     /// Largest relative imbalance of second-order centred differences of
     /// the sampled state at the grid's cell centres, and where.
     pub discrete: Option<(f64, f64)>,
@@ -72,7 +74,10 @@ impl Report {
     /// positive quantity is positive.
     pub fn passed(&self) -> bool {
         !matches!(self.verdict, Verdict::NotEquilibrium { .. })
-            && self.positivity.iter().all(|(_, v, _)| *v > 0.0 || v.is_nan())
+            && self
+                .positivity
+                .iter()
+                .all(|(_, v, _, strict)| if *strict { *v > 0.0 } else { *v >= 0.0 })
     }
 }
 
@@ -92,12 +97,14 @@ pub fn run(
         (None, Some((res, terms))) => closed_form(model, domain, &res, &terms, tolerance)?,
         (Some(f), _) => (integral_form(model, bg, domain, f, tolerance)?, None),
         (None, None) => {
-            return Err(ClosureError::Incomplete("nothing to check: no pressure law".into()))
+            return Err(ClosureError::Incomplete(
+                "nothing to check: no pressure law".into(),
+            ))
         }
     };
     let mut positivity = Vec::new();
     let pts = domain.scan_points();
-    let mut track = |name: &str, f: &dyn Fn(f64) -> f64| {
+    let mut track = |name: &str, strict: bool, f: &dyn Fn(f64) -> f64| {
         let (mut m, mut at) = (f64::INFINITY, f64::NAN);
         for &x in &pts {
             let v = f(x);
@@ -106,18 +113,18 @@ pub fn run(
                 at = x;
             }
         }
-        positivity.push((name.to_string(), m, at));
+        positivity.push((name.to_string(), m, at, strict));
     };
-    track("density", &|x| bg.at(x).density);
-    track("pressure", &|x| bg.at(x).pressure);
-    track("c^2", &|x| bg.at(x).sound_speed_sq());
+    track("density", true, &|x| bg.at(x).density);
+    track("pressure", true, &|x| bg.at(x).pressure);
+    track("c^2", true, &|x| bg.at(x).sound_speed_sq());
     if model.shape == Shape::DiskMidplane {
         if let Some(v2) = &laws.rotation_sq {
             let p = model.compile(v2).map_err(|error| ClosureError::Formula {
                 origin: "rotation".into(),
                 error,
             })?;
-            track("v_phi^2", &|x| p.eval(&[x]));
+            track("v_phi^2", false, &|x| p.eval(&[x]));
         }
     }
     let discrete = discrete_imbalance(model.shape, bg, centres);
@@ -154,9 +161,17 @@ fn closed_form(
     let s = model.coordinate();
     let text = Some(res.to_string());
     if res.as_number().is_some_and(|v| v == 0.0) {
-        return Ok((Verdict::IdenticallyZero { how: "the residual simplifies to 0".into() }, text));
+        return Ok((
+            Verdict::IdenticallyZero {
+                how: "the residual simplifies to 0".into(),
+            },
+            text,
+        ));
     }
-    let fail = |error| ClosureError::Formula { origin: "residual".into(), error };
+    let fail = |error| ClosureError::Formula {
+        origin: "residual".into(),
+        error,
+    };
     // Probabilistic identity test in 200-bit arithmetic.
     let mut rng = Uniform(0x5EED_1234_ABCD_0001);
     let mut worst = 0.0f64;
@@ -174,7 +189,11 @@ fn closed_form(
             ok = false;
             break;
         }
-        let rel = if scale > 0.0 { r.abs() / scale } else { r.abs() };
+        let rel = if scale > 0.0 {
+            r.abs() / scale
+        } else {
+            r.abs()
+        };
         worst = worst.max(rel);
         if rel > 1e-40 {
             ok = false;
@@ -195,7 +214,10 @@ fn closed_form(
     // Not zero as a formula: measure it in double precision over the domain.
     let comp = |e: &crate::formula::Expr| model.compile(e).map_err(fail);
     let rp = comp(res)?;
-    let tps: Vec<Program> = terms.iter().map(|(_, t)| comp(t)).collect::<Result<_, _>>()?;
+    let tps: Vec<Program> = terms
+        .iter()
+        .map(|(_, t)| comp(t))
+        .collect::<Result<_, _>>()?;
     let (mut max, mut at) = (0.0f64, domain.lo);
     for x in domain.scan_points() {
         let scale = tps.iter().map(|p| p.eval(&[x]).abs()).fold(0.0, f64::max);
@@ -223,7 +245,10 @@ fn integral_form(
 ) -> Result<Verdict, ClosureError> {
     let f = model
         .compile(integrand)
-        .map_err(|error| ClosureError::Formula { origin: "integrand".into(), error })?;
+        .map_err(|error| ClosureError::Formula {
+            origin: "integrand".into(),
+            error,
+        })?;
     let q = |x: f64| {
         let st = bg.at(x);
         match (model.shape, model.unknown) {
@@ -232,13 +257,19 @@ fn integral_form(
             _ => st.pressure.ln(),
         }
     };
+    let anchor = model.anchor.map(|a| a.at).unwrap_or(domain.lo);
+    let (lo, hi) = (domain.lo.min(anchor), domain.hi.max(anchor));
     let breaks =
-        integrate::breakpoints(integrand, model.coordinate(), domain.lo, domain.hi, &|n| {
-            model.lookup(n)
-        });
+        integrate::breakpoints(integrand, model.coordinate(), lo, hi, &|n| model.lookup(n));
     let mut pts: Vec<f64> = (0..=400)
-        .map(|i| domain.lo + (domain.hi - domain.lo) * i as f64 / 400.0)
-        .chain(domain.knots.iter().copied().filter(|k| *k >= domain.lo && *k <= domain.hi))
+        .map(|i| lo + (hi - lo) * i as f64 / 400.0)
+        .chain(
+            domain
+                .knots
+                .iter()
+                .copied()
+                .filter(|k| *k >= domain.lo && *k <= domain.hi),
+        )
         .collect();
     pts.sort_by(|a, b| a.total_cmp(b));
     pts.dedup_by(|a, b| (*a - *b).abs() <= 1e-14 * a.abs().max(1.0));
@@ -246,28 +277,65 @@ fn integral_form(
     let (nodes, weights) = (&rule.nodes, &rule.weights);
     let gl = |a: f64, b: f64, g: &dyn Fn(f64) -> f64| -> f64 {
         let (h, m) = (0.5 * (b - a), 0.5 * (a + b));
-        nodes.iter().zip(weights.iter()).map(|(t, w)| w * g(m + h * t)).sum::<f64>() * h
+        nodes
+            .iter()
+            .zip(weights.iter())
+            .map(|(t, w)| w * g(m + h * t))
+            .sum::<f64>()
+            * h
     };
-    let (mut max, mut at) = (0.0f64, domain.lo);
-    for w in pts.windows(2) {
-        let (a, b) = (w[0], w[1]);
+    // ∫ f and ∫ |f| over [a, b], split at the breakpoints of piecewise laws.
+    let piece = |a: f64, b: f64| -> (f64, f64) {
         let mut cuts = vec![a];
-        cuts.extend(breaks.iter().copied().filter(|x| *x > a && *x < b));
+        cuts.extend(
+            breaks
+                .iter()
+                .copied()
+                .filter(|x| *x > a.min(b) && *x < a.max(b)),
+        );
         cuts.push(b);
-        let (mut int, mut abs) = (0.0, 0.0);
-        for c in cuts.windows(2) {
-            int += gl(c[0], c[1], &|x| f.eval(&[x]));
-            abs += gl(c[0], c[1], &|x| f.eval(&[x]).abs());
+        if b < a {
+            let n = cuts.len();
+            cuts[1..n - 1].reverse();
         }
-        let delta = q(b) - q(a);
-        let scale = abs.max(delta.abs());
-        let rel = if scale > 0.0 { (delta - int).abs() / scale } else { (delta - int).abs() };
-        if rel > max || rel.is_nan() {
-            max = rel;
-            at = 0.5 * (a + b);
+        cuts.windows(2).fold((0.0, 0.0), |(i, j), c| {
+            (
+                i + gl(c[0], c[1], &|x| f.eval(&[x])),
+                j + gl(c[0], c[1], &|x| f.eval(&[x]).abs()).abs(),
+            )
+        })
+    };
+    // Walk outward from the anchor on both sides, accumulating the
+    // independent integral, and compare with the stored values.
+    let q0 = q(anchor);
+    let (mut max, mut at) = (0.0f64, anchor);
+    let up: Vec<f64> = pts.iter().copied().filter(|x| *x > anchor).collect();
+    let down: Vec<f64> = pts.iter().rev().copied().filter(|x| *x < anchor).collect();
+    for side in [up, down] {
+        let (mut prev, mut int, mut abs) = (anchor, 0.0f64, 0.0f64);
+        for x in side {
+            let (i, j) = piece(prev, x);
+            int += i;
+            abs += j;
+            prev = x;
+            let delta = q(x) - q0;
+            let scale = abs.max(delta.abs());
+            let rel = if scale > 0.0 {
+                (delta - int).abs() / scale
+            } else {
+                (delta - int).abs()
+            };
+            if rel > max || rel.is_nan() {
+                max = rel;
+                at = x;
+            }
         }
     }
-    Ok(if max <= tol { Verdict::ZeroToTolerance { max, at } } else { Verdict::NotEquilibrium { max, at } })
+    Ok(if max <= tol {
+        Verdict::ZeroToTolerance { max, at }
+    } else {
+        Verdict::NotEquilibrium { max, at }
+    })
 }
 
 /// Largest relative residual of the balance under second-order centred
@@ -311,23 +379,35 @@ impl fmt::Display for Report {
             }
             Verdict::ZeroToTolerance { max, at } => {
                 writeln!(f, "  verdict      zero to tolerance")?;
-                writeln!(f, "  max residual {max:.3e} (relative) at {s} = {at:.6}, tolerance {:.1e}", self.tolerance)?;
+                writeln!(
+                    f,
+                    "  max residual {max:.3e} (relative) at {s} = {at:.6}, tolerance {:.1e}",
+                    self.tolerance
+                )?;
             }
             Verdict::NotEquilibrium { max, at } => {
                 writeln!(f, "  verdict      NOT AN EQUILIBRIUM")?;
-                writeln!(f, "  max residual {max:.3e} (relative) at {s} = {at:.6}, tolerance {:.1e}", self.tolerance)?;
+                writeln!(
+                    f,
+                    "  max residual {max:.3e} (relative) at {s} = {at:.6}, tolerance {:.1e}",
+                    self.tolerance
+                )?;
             }
         }
         if let Some(r) = &self.residual_formula {
             writeln!(f, "  residual     {r}")?;
         }
         writeln!(f, "positivity")?;
-        for (name, v, at) in &self.positivity {
-            let mark = if *v > 0.0 { "ok" } else { "FAILS" };
+        for (name, v, at, strict) in &self.positivity {
+            let ok = if *strict { *v > 0.0 } else { *v >= 0.0 };
+            let mark = if ok { "ok" } else { "FAILS" };
             writeln!(f, "  {name:<12} min {v:.6e} at {s} = {at:.6}  {mark}")?;
         }
         if let Some((m, at)) = self.discrete {
-            writeln!(f, "discrete imbalance (second-order centred differences at the cell centres)")?;
+            writeln!(
+                f,
+                "discrete imbalance (second-order centred differences at the cell centres)"
+            )?;
             writeln!(f, "  max          {m:.3e} (relative) at {s} = {at:.6}")?;
             writeln!(
                 f,
@@ -335,6 +415,10 @@ impl fmt::Display for Report {
                  smaller than it will not survive"
             )?;
         }
-        write!(f, "result         {}", if self.passed() { "PASS" } else { "FAIL" })
+        write!(
+            f,
+            "result         {}",
+            if self.passed() { "PASS" } else { "FAIL" }
+        )
     }
 }

@@ -29,7 +29,9 @@ pub struct Cli {
 #[derive(Debug, Subcommand)]
 pub enum Command {
     /// Build the equilibrium on the profile's grid and write it (HDF5, and CSV for 1D grids).
-    #[command(after_help = "Example:\n  stillpoint build profiles/quiet-slab.json -o slab.h5 --set g0=2")]
+    #[command(
+        after_help = "Example:\n  stillpoint build profiles/quiet-slab.json -o slab.h5 --set g0=2"
+    )]
     Build {
         #[command(flatten)]
         common: Common,
@@ -44,7 +46,9 @@ pub enum Command {
         force: bool,
     },
     /// Check the balance with exact symbolic derivatives; exits non-zero when it fails.
-    #[command(after_help = "Example:\n  stillpoint check profiles/powerlaw-disk.json --tolerance 1e-12")]
+    #[command(
+        after_help = "Example:\n  stillpoint check profiles/powerlaw-disk.json --tolerance 1e-12"
+    )]
     Check {
         #[command(flatten)]
         common: Common,
@@ -53,7 +57,9 @@ pub enum Command {
         tolerance: f64,
     },
     /// Print the background along its coordinate (rotation curve for disks).
-    #[command(after_help = "Examples:\n  stillpoint table profiles/powerlaw-disk.json --points 8\n  stillpoint table profiles/quiet-slab.json --at 0,1,2.5 --csv")]
+    #[command(
+        after_help = "Examples:\n  stillpoint table profiles/powerlaw-disk.json --points 8\n  stillpoint table profiles/quiet-slab.json --at 0,1,2.5 --csv"
+    )]
     Table {
         #[command(flatten)]
         common: Common,
@@ -109,46 +115,85 @@ pub enum Outcome {
 /// Run a parsed command line, printing to stdout. `argv` is recorded in files.
 pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
     match cli.command {
-        Command::Build { common, output, csv, force } => build(&common, output, csv, force, argv),
+        Command::Build {
+            common,
+            output,
+            csv,
+            force,
+        } => build(&common, output, csv, force, argv),
         Command::Check { common, tolerance } => {
             let loaded = common.load()?;
             let (bg, domain) = pipeline::solve(&loaded)?;
             let centres = pipeline::centres_for(&loaded.grid);
-            let report = check::run(&loaded.model, &bg, &domain, &centres, tolerance).map_err(
-                |error| Error::Closure { source_label: loaded.source.clone(), error },
-            )?;
+            let report =
+                check::run(&loaded.model, &bg, &domain, &centres, tolerance).map_err(|error| {
+                    Error::Closure {
+                        source_label: loaded.source.clone(),
+                        error,
+                    }
+                })?;
             println!("{} ({})", loaded.model.name, loaded.source);
             println!("{report}");
             for c in pipeline::cautions(&loaded, &bg, &domain) {
                 println!("caution: {c}");
             }
-            Ok(if report.passed() { Outcome::Ok } else { Outcome::Failed })
+            Ok(if report.passed() {
+                Outcome::Ok
+            } else {
+                Outcome::Failed
+            })
         }
-        Command::Table { common, points, at, csv } => {
+        Command::Table {
+            common,
+            points,
+            at,
+            csv,
+        } => {
             let loaded = common.load()?;
             let (bg, domain) = pipeline::solve(&loaded)?;
             let xs = match at {
                 Some(list) => parse_list(&loaded, &list)?,
                 None => {
                     let n = points.unwrap_or(11).max(2);
-                    (0..n).map(|i| domain.lo + (domain.hi - domain.lo) * i as f64 / (n - 1) as f64).collect()
+                    (0..n)
+                        .map(|i| domain.lo + (domain.hi - domain.lo) * i as f64 / (n - 1) as f64)
+                        .collect()
                 }
             };
-            let t = table::tabulate(&loaded.model, &bg, &xs)
-                .map_err(|error| Error::Closure { source_label: loaded.source.clone(), error })?;
+            let t = table::tabulate(&loaded.model, &bg, &xs).map_err(|error| Error::Closure {
+                source_label: loaded.source.clone(),
+                error,
+            })?;
             print!("{}", if csv { t.to_csv() } else { t.to_text() });
             Ok(Outcome::Ok)
         }
         Command::Derive { common, latex } => {
             let loaded = common.load()?;
             let m = &loaded.model;
-            let laws = derived_laws(m)
-                .map_err(|error| Error::Closure { source_label: loaded.source.clone(), error })?;
+            let laws = derived_laws(m).map_err(|error| Error::Closure {
+                source_label: loaded.source.clone(),
+                error,
+            })?;
             let show = |e: &crate::formula::Expr| if latex { e.to_latex() } else { e.to_string() };
-            println!("{} ({}): solve a {:?} balance for {}", m.name, loaded.source, m.shape, m.unknown.key());
+            let shape = match m.shape {
+                crate::background::Shape::Slab => "slab",
+                crate::background::Shape::Spherical => "sphere",
+                _ => "disk midplane",
+            };
+            println!(
+                "{} ({}): {shape} balance, solved for {}",
+                m.name,
+                loaded.source,
+                m.unknown.key()
+            );
             println!("given");
             println!("  Phi = {}", show(&m.potential.expr));
-            for (n, l) in [("rho", &m.density), ("c^2", &m.sound_speed_sq), ("v_phi", &m.rotation), ("P", &m.pressure)] {
+            for (n, l) in [
+                ("rho", &m.density),
+                ("c^2", &m.sound_speed_sq),
+                ("v_phi", &m.rotation),
+                ("P", &m.pressure),
+            ] {
                 if let Some(l) = l {
                     println!("  {n} = {}", show(&l.expr));
                 }
@@ -173,15 +218,21 @@ fn parse_list(loaded: &Loaded, list: &str) -> Result<Vec<f64>, Error> {
     list.split(',')
         .map(|item| {
             let item = item.trim();
-            let e = profile::formula_for(&loaded.model, item).map_err(|e| {
-                Error::Usage(format!("--at: {e}\n{}", e.render(item)))
-            })?;
-            e.eval(&|n| loaded.model.lookup(n)).map_err(|e| Error::Usage(format!("--at: {e}")))
+            let e = profile::formula_for(&loaded.model, item)
+                .map_err(|e| Error::Usage(format!("--at: {e}\n{}", e.render(item))))?;
+            e.eval(&|n| loaded.model.lookup(n))
+                .map_err(|e| Error::Usage(format!("--at: {e}")))
         })
         .collect()
 }
 
-fn build(common: &Common, output: Option<PathBuf>, csv: bool, force: bool, argv: &str) -> Result<Outcome, Error> {
+fn build(
+    common: &Common,
+    output: Option<PathBuf>,
+    csv: bool,
+    force: bool,
+    argv: &str,
+) -> Result<Outcome, Error> {
     let loaded = common.load()?;
     let h5 = output
         .or_else(|| loaded.output.file.clone())
@@ -197,7 +248,9 @@ fn build(common: &Common, output: Option<PathBuf>, csv: bool, force: bool, argv:
         }
     }
     if want_csv && loaded.grid.axes().len() != 1 {
-        return Err(Error::Usage("--csv: a CSV table is written for 1D grids only".into()));
+        return Err(Error::Usage(
+            "--csv: a CSV table is written for 1D grids only".into(),
+        ));
     }
     let built = pipeline::build(&loaded, argv)?;
     let doc = Document {
@@ -206,7 +259,9 @@ fn build(common: &Common, output: Option<PathBuf>, csv: bool, force: bool, argv:
         state: &built.state,
         metadata: &built.metadata,
     };
-    output::commit(&h5, force, |tmp| output::write_hdf5(&doc, tmp, loaded.output.precision))?;
+    output::commit(&h5, force, |tmp| {
+        output::write_hdf5(&doc, tmp, loaded.output.precision)
+    })?;
     if let Some(c) = &csv_path {
         output::commit(c, force, |tmp| output::write_csv(&doc, tmp))?;
     }
@@ -220,7 +275,13 @@ fn report_written(loaded: &Loaded, h5: &Path, csv: Option<&Path>, cautions: &[St
         "{}: {} cells ({}), {}",
         loaded.model.name,
         shape.join(" x "),
-        loaded.grid.axes().iter().map(|a| a.coord.name()).collect::<Vec<_>>().join(", "),
+        loaded
+            .grid
+            .axes()
+            .iter()
+            .map(|a| a.coord.name())
+            .collect::<Vec<_>>()
+            .join(", "),
         loaded.sampling.describe(&loaded.grid)
     );
     println!("wrote {}", h5.display());

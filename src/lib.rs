@@ -24,16 +24,16 @@
 #![deny(clippy::float_cmp)]
 
 pub mod background;
-pub mod fields;
-pub mod formula;
-pub mod grid;
-pub mod output;
-pub mod sample;
-pub mod units;
 pub mod check;
 pub mod cli;
 pub mod closure;
+pub mod fields;
+pub mod formula;
+pub mod grid;
 pub mod model;
+pub mod output;
 pub mod pipeline;
 pub mod profile;
+pub mod sample;
 pub mod table;
+pub mod units;

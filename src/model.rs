@@ -38,7 +38,11 @@ impl Unknown {
     ];
     /// The profile key.
     pub fn key(self) -> &'static str {
-        Self::ALL.iter().find(|(u, _)| *u == self).map(|(_, k)| *k).unwrap_or("?")
+        Self::ALL
+            .iter()
+            .find(|(u, _)| *u == self)
+            .map(|(_, k)| *k)
+            .unwrap_or("?")
     }
 }
 
@@ -126,7 +130,10 @@ impl Model {
             .find(|(n, _)| n == name)
             .map(|(_, v)| *v)
             .or_else(|| {
-                Self::builtin_names(self.units).into_iter().find(|(n, _)| n == name).map(|(_, v)| v)
+                Self::builtin_names(self.units)
+                    .into_iter()
+                    .find(|(n, _)| n == name)
+                    .map(|(_, v)| v)
             })
     }
 
@@ -142,7 +149,10 @@ impl Model {
 
     /// Parameter values as a substitution map (for closed forms with numbers).
     pub fn parameter_map(&self) -> BTreeMap<String, Expr> {
-        self.parameters.iter().map(|(n, v)| (n.clone(), Expr::num(*v))).collect()
+        self.parameters
+            .iter()
+            .map(|(n, v)| (n.clone(), Expr::num(*v)))
+            .collect()
     }
 
     /// μ m_u / k_B, so that T = factor × c²; None when the units have no

@@ -22,10 +22,16 @@ pub enum Error {
     Profile(#[from] ProfileError),
     /// No equilibrium, or laws missing.
     #[error("{source_label}: {error}")]
-    Closure { source_label: String, error: ClosureError },
+    Closure {
+        source_label: String,
+        error: ClosureError,
+    },
     /// Sampling met a bad value.
     #[error("{source_label}: {error}")]
-    Sample { source_label: String, error: SampleError },
+    Sample {
+        source_label: String,
+        error: SampleError,
+    },
     /// Writing failed.
     #[error("{0}")]
     Output(#[from] OutputError),
@@ -42,10 +48,18 @@ pub fn domain_for(grid: &Grid) -> Domain {
         Layout::Line(_) | Layout::Polar => grid.axes()[0].edges.clone(),
         _ => {
             let n = 2 * grid.shape().iter().copied().max().unwrap_or(1);
-            (0..=n).map(|i| lo + (hi - lo) * i as f64 / n as f64).collect()
+            (0..=n)
+                .map(|i| lo + (hi - lo) * i as f64 / n as f64)
+                .collect()
         }
     };
-    Domain { lo, hi, knots }
+    let axis_at_lo = lo <= 0.0 && matches!(grid.layout(), Layout::Cartesian);
+    Domain {
+        lo,
+        hi,
+        knots,
+        axis_at_lo,
+    }
 }
 
 /// Cell centres along the background coordinate (for tables and the
@@ -53,7 +67,11 @@ pub fn domain_for(grid: &Grid) -> Domain {
 /// positive x centres for Cartesian grids.
 pub fn centres_for(grid: &Grid) -> Vec<f64> {
     match grid.layout() {
-        Layout::Cartesian => grid.axes()[0].centers().into_iter().filter(|x| *x > 0.0).collect(),
+        Layout::Cartesian => grid.axes()[0]
+            .centers()
+            .into_iter()
+            .filter(|x| *x > 0.0)
+            .collect(),
         _ => grid.axes()[0].centers(),
     }
 }
@@ -61,8 +79,10 @@ pub fn centres_for(grid: &Grid) -> Vec<f64> {
 /// Solve the profile's closure over its grid.
 pub fn solve(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
     let domain = domain_for(&loaded.grid);
-    let bg = closure::solve(&loaded.model, &domain)
-        .map_err(|error| Error::Closure { source_label: loaded.source.clone(), error })?;
+    let bg = closure::solve(&loaded.model, &domain).map_err(|error| Error::Closure {
+        source_label: loaded.source.clone(),
+        error,
+    })?;
     Ok((bg, domain))
 }
 
@@ -89,7 +109,10 @@ pub struct Built {
 pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
     let (bg, domain) = solve(loaded)?;
     let background = sample::sample(&bg, &loaded.grid, &loaded.sampling, &gas_constants(loaded))
-        .map_err(|error| Error::Sample { source_label: loaded.source.clone(), error })?;
+        .map_err(|error| Error::Sample {
+            source_label: loaded.source.clone(),
+            error,
+        })?;
     let state = background.clone();
     let metadata = Metadata {
         profile_json: loaded.json_text.clone(),
@@ -98,12 +121,19 @@ pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
         units: loaded.model.units,
         cautions: cautions(loaded, &bg, &domain),
         extra: vec![
-            ("balance".into(), format!("{:?}", loaded.model.shape).to_lowercase()),
+            (
+                "balance".into(),
+                format!("{:?}", loaded.model.shape).to_lowercase(),
+            ),
             ("solved_for".into(), loaded.model.unknown.key().into()),
             ("gamma".into(), format!("{}", loaded.model.gamma)),
         ],
     };
-    Ok(Built { background, state, metadata })
+    Ok(Built {
+        background,
+        state,
+        metadata,
+    })
 }
 
 /// Plain-language cautions: instability of the equilibrium and an anchor

@@ -30,15 +30,22 @@ pub fn tabulate(model: &Model, bg: &dyn Background, at: &[f64]) -> Result<Table,
         (Dim::DENSITY, Dim::new(-1, 1, -2, 0))
     };
     let tfac = model.temperature_per_c2();
-    let mut cols: Vec<(&str, Dim)> =
-        vec![(s, Dim::LENGTH), ("rho", rho_dim), ("P", p_dim), ("c^2", Dim::VELOCITY_SQ)];
+    let mut cols: Vec<(&str, Dim)> = vec![
+        (s, Dim::LENGTH),
+        ("rho", rho_dim),
+        ("P", p_dim),
+        ("c^2", Dim::VELOCITY_SQ),
+    ];
     if tfac.is_some() {
         cols.push(("T", Dim::TEMPERATURE));
     }
     let disk = model.shape == Shape::DiskMidplane;
     let phi_s = model
         .compile(&model.potential.expr.diff(s))
-        .map_err(|error| ClosureError::Formula { origin: model.potential.origin.clone(), error })?;
+        .map_err(|error| ClosureError::Formula {
+            origin: model.potential.origin.clone(),
+            error,
+        })?;
     if disk {
         cols.extend([
             ("v_phi", Dim::VELOCITY),
@@ -61,7 +68,14 @@ pub fn tabulate(model: &Model, bg: &dyn Background, at: &[f64]) -> Result<Table,
             // Keplerian speed of the potential: v_K² = R ∂Φ/∂R; H = c/Ω_K.
             let vk = (x * phi_s.eval(&[x])).sqrt();
             let ratio = st.rotation / vk;
-            row.extend([st.rotation, st.rotation / x, vk, ratio, 1.0 - ratio, c2.sqrt() / vk]);
+            row.extend([
+                st.rotation,
+                st.rotation / x,
+                vk,
+                ratio,
+                1.0 - ratio,
+                c2.sqrt() / vk,
+            ]);
         }
         rows.push(row);
     }
@@ -75,8 +89,11 @@ pub fn tabulate(model: &Model, bg: &dyn Background, at: &[f64]) -> Result<Table,
 impl Table {
     /// Aligned text with a header of names and a line of units.
     pub fn to_text(&self) -> String {
-        let cells: Vec<Vec<String>> =
-            self.rows.iter().map(|r| r.iter().map(|v| format!("{v:.6e}")).collect()).collect();
+        let cells: Vec<Vec<String>> = self
+            .rows
+            .iter()
+            .map(|r| r.iter().map(|v| format!("{v:.6e}")).collect())
+            .collect();
         let units: Vec<String> = self.units.iter().map(|u| format!("[{u}]")).collect();
         let width: Vec<usize> = (0..self.names.len())
             .map(|j| {
@@ -103,11 +120,19 @@ impl Table {
 
     /// CSV with a header of `name [units]` and full-precision numbers.
     pub fn to_csv(&self) -> String {
-        let head: Vec<String> =
-            self.names.iter().zip(&self.units).map(|(n, u)| format!("{n} [{u}]")).collect();
+        let head: Vec<String> = self
+            .names
+            .iter()
+            .zip(&self.units)
+            .map(|(n, u)| format!("{n} [{u}]"))
+            .collect();
         let mut out = head.join(",") + "\n";
         for r in &self.rows {
-            out += &r.iter().map(|v| format!("{v:e}")).collect::<Vec<_>>().join(",");
+            out += &r
+                .iter()
+                .map(|v| format!("{v:e}"))
+                .collect::<Vec<_>>()
+                .join(",");
             out.push('\n');
         }
         out

@@ -43,7 +43,12 @@ pub struct Dim {
 impl Dim {
     /// A dimension from its four powers (length, mass, time, temperature).
     pub const fn new(length: i8, mass: i8, time: i8, temperature: i8) -> Self {
-        Dim { length, mass, time, temperature }
+        Dim {
+            length,
+            mass,
+            time,
+            temperature,
+        }
     }
     /// Dimensionless.
     pub const NONE: Dim = Dim::new(0, 0, 0, 0);
@@ -116,7 +121,11 @@ impl UnitSystem {
 
     /// The profile key of this system.
     pub fn key(self) -> &'static str {
-        Self::ALL.iter().find(|(u, _)| *u == self).map(|(_, k)| *k).unwrap_or("?")
+        Self::ALL
+            .iter()
+            .find(|(u, _)| *u == self)
+            .map(|(_, k)| *k)
+            .unwrap_or("?")
     }
 
     /// Whether the system has physical constants (k_B, m_u), so that
@@ -130,8 +139,16 @@ impl UnitSystem {
     pub fn base_units(self) -> Option<[(&'static str, &'static str, f64); 4]> {
         let (l, m, t) = match self {
             UnitSystem::Code => return None,
-            UnitSystem::Si => (("length", "m", 100.0), ("mass", "kg", 1000.0), ("time", "s", 1.0)),
-            UnitSystem::Cgs => (("length", "cm", 1.0), ("mass", "g", 1.0), ("time", "s", 1.0)),
+            UnitSystem::Si => (
+                ("length", "m", 100.0),
+                ("mass", "kg", 1000.0),
+                ("time", "s", 1.0),
+            ),
+            UnitSystem::Cgs => (
+                ("length", "cm", 1.0),
+                ("mass", "g", 1.0),
+                ("time", "s", 1.0),
+            ),
             UnitSystem::Astro => (
                 ("length", "au", AU_SI * 100.0),
                 ("mass", "M_sun", M_SUN_SI * 1000.0),
@@ -146,7 +163,13 @@ impl UnitSystem {
         // Conversion from SI: a quantity of dimension L^a M^b T^c is divided
         // by (unit_L/m)^a (unit_M/kg)^b (unit_T/s)^c.
         let (l, m, t) = match self {
-            UnitSystem::Code => return Constants { g: 1.0, k_b: None, m_u: None },
+            UnitSystem::Code => {
+                return Constants {
+                    g: 1.0,
+                    k_b: None,
+                    m_u: None,
+                }
+            }
             UnitSystem::Si => (1.0, 1.0, 1.0),
             UnitSystem::Cgs => (0.01, 0.001, 1.0),
             UnitSystem::Astro => (AU_SI, M_SUN_SI, YEAR_SI),

@@ -14,7 +14,11 @@ fn stillpoint(dir: &Path, args: &[&str]) -> Output {
 }
 
 fn text(o: &Output) -> String {
-    format!("{}{}", String::from_utf8_lossy(&o.stdout), String::from_utf8_lossy(&o.stderr))
+    format!(
+        "{}{}",
+        String::from_utf8_lossy(&o.stdout),
+        String::from_utf8_lossy(&o.stderr)
+    )
 }
 
 fn tmp() -> tempfile::TempDir {
@@ -50,7 +54,10 @@ fn issue2_every_bundled_profile_builds_and_checks() {
 fn issue2_build_from_file_writes_csv_for_1d_and_records_overrides() {
     let d = tmp();
     let profile = concat!(env!("CARGO_MANIFEST_DIR"), "/profiles/quiet-slab.json");
-    let o = stillpoint(d.path(), &["build", profile, "-o", "s.h5", "--set", "g0=2.5"]);
+    let o = stillpoint(
+        d.path(),
+        &["build", profile, "-o", "s.h5", "--set", "g0=2.5"],
+    );
     assert!(o.status.success(), "{}", text(&o));
     let csv = std::fs::read_to_string(d.path().join("s.csv")).unwrap();
     assert!(csv.lines().any(|l| l.starts_with("z [")), "{csv}");
@@ -73,9 +80,17 @@ fn issue2_table_and_derive_print() {
     assert!(o.status.success(), "{}", text(&o));
     assert_eq!(String::from_utf8_lossy(&o.stdout).lines().count(), 4);
     let o = stillpoint(d.path(), &["derive", "powerlaw-disk"]);
-    assert!(o.status.success() && text(&o).contains("v_phi^2"), "{}", text(&o));
+    assert!(
+        o.status.success() && text(&o).contains("v_phi^2"),
+        "{}",
+        text(&o)
+    );
     let o = stillpoint(d.path(), &["derive", "powerlaw-disk", "--latex"]);
-    assert!(o.status.success() && text(&o).contains("\\"), "{}", text(&o));
+    assert!(
+        o.status.success() && text(&o).contains("\\"),
+        "{}",
+        text(&o)
+    );
 }
 
 /// Write `profile` into a temp dir, run `build` on it, and return the
@@ -87,8 +102,14 @@ fn bad_build(profile: &str, extra: &[&str]) -> String {
     args.extend(extra);
     let o = stillpoint(d.path(), &args);
     assert!(!o.status.success(), "expected failure: {}", text(&o));
-    assert!(!d.path().join("out.h5").exists(), "no output file on failure");
-    let left: Vec<_> = std::fs::read_dir(d.path()).unwrap().map(|e| e.unwrap().file_name()).collect();
+    assert!(
+        !d.path().join("out.h5").exists(),
+        "no output file on failure"
+    );
+    let left: Vec<_> = std::fs::read_dir(d.path())
+        .unwrap()
+        .map(|e| e.unwrap().file_name())
+        .collect();
     assert_eq!(left.len(), 1, "only the profile remains: {left:?}");
     text(&o)
 }
@@ -97,38 +118,59 @@ const GOOD: &str = include_str!("../profiles/quiet-slab.json");
 
 #[test]
 fn issue2_malformed_json() {
-    let t = bad_build(&GOOD.replace("\"units\": \"code\",", "\"units\": \"code\""), &[]);
-    assert!(t.contains("p.json") && t.contains("not valid JSON") && t.contains("line"), "{t}");
+    let t = bad_build(
+        &GOOD.replace("\"units\": \"code\",", "\"units\": \"code\""),
+        &[],
+    );
+    assert!(
+        t.contains("p.json") && t.contains("not valid JSON") && t.contains("line"),
+        "{t}"
+    );
 }
 
 #[test]
 fn issue2_unknown_key_names_path_and_suggestion() {
     let t = bad_build(&GOOD.replace("\"cells\": 256", "\"cels\": 256"), &[]);
-    assert!(t.contains("grid.z.cels") && t.contains("did you mean `cells`"), "{t}");
+    assert!(
+        t.contains("grid.z.cels") && t.contains("did you mean `cells`"),
+        "{t}"
+    );
 }
 
 #[test]
 fn issue2_non_positive_cells() {
     let t = bad_build(&GOOD.replace("\"cells\": 256", "\"cells\": -4"), &[]);
-    assert!(t.contains("grid.z.cells: expected a positive integer, found -4"), "{t}");
+    assert!(
+        t.contains("grid.z.cells: expected a positive integer, found -4"),
+        "{t}"
+    );
 }
 
 #[test]
 fn issue2_formula_syntax_error_has_caret() {
-    let t = bad_build(&GOOD.replace("\"H\": \"cs2/g0\"", "\"H\": \"cs2/(g0\""), &[]);
+    let t = bad_build(
+        &GOOD.replace("\"H\": \"cs2/g0\"", "\"H\": \"cs2/(g0\""),
+        &[],
+    );
     assert!(t.contains("parameters.H") && t.contains('^'), "{t}");
 }
 
 #[test]
 fn issue2_unknown_name_suggests_closest() {
-    let t = bad_build(&GOOD.replace("\"H\": \"cs2/g0\"", "\"H\": \"cs2/g00\""), &[]);
+    let t = bad_build(
+        &GOOD.replace("\"H\": \"cs2/g0\"", "\"H\": \"cs2/g00\""),
+        &[],
+    );
     assert!(t.contains("g00") && t.contains("g0"), "{t}");
 }
 
 #[test]
 fn issue2_parameter_cycle_is_named() {
     let t = bad_build(&GOOD.replace("\"cs2\": 1.0", "\"cs2\": \"H*g0\""), &[]);
-    assert!(t.contains("cycle") && t.contains("cs2") && t.contains("H"), "{t}");
+    assert!(
+        t.contains("cycle") && t.contains("cs2") && t.contains("H"),
+        "{t}"
+    );
 }
 
 #[test]
@@ -141,7 +183,8 @@ fn issue2_law_without_equilibrium_names_interval() {
 
 #[test]
 fn issue2_non_positive_density() {
-    let p = include_str!("../profiles/steady-vortex.json").replace("\"rho0\": 1.0", "\"rho0\": -1.0");
+    let p =
+        include_str!("../profiles/steady-vortex.json").replace("\"rho0\": 1.0", "\"rho0\": -1.0");
     let t = bad_build(&p, &[]);
     assert!(t.contains("density ≤ 0"), "{t}");
 }
@@ -154,7 +197,10 @@ fn issue2_existing_output_needs_force() {
     assert!(!o.status.success());
     assert!(text(&o).contains("--force"), "{}", text(&o));
     assert_eq!(std::fs::read(d.path().join("out.h5")).unwrap(), b"precious");
-    let o = stillpoint(d.path(), &["build", "quiet-slab", "-o", "out.h5", "--force"]);
+    let o = stillpoint(
+        d.path(),
+        &["build", "quiet-slab", "-o", "out.h5", "--force"],
+    );
     assert!(o.status.success(), "{}", text(&o));
     assert_ne!(std::fs::read(d.path().join("out.h5")).unwrap(), b"precious");
 }

@@ -27,10 +27,22 @@ fn constants_match_astropy() {
         .stderr(Stdio::piped())
         .spawn()
         .expect("python3 is needed for this test (.ci/run installs it with astropy)");
-    child.stdin.take().unwrap().write_all(values.to_string().as_bytes()).unwrap();
+    child
+        .stdin
+        .take()
+        .unwrap()
+        .write_all(values.to_string().as_bytes())
+        .unwrap();
     let out = child.wait_with_output().unwrap();
-    let text = format!("{}{}", String::from_utf8_lossy(&out.stdout), String::from_utf8_lossy(&out.stderr));
+    let text = format!(
+        "{}{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    );
     println!("{text}");
-    assert!(out.status.success(), "astropy disagrees or is missing:\n{text}");
+    assert!(
+        out.status.success(),
+        "astropy disagrees or is missing:\n{text}"
+    );
     assert!(text.contains("0 disagreements"));
 }

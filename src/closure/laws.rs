@@ -41,9 +41,9 @@ pub struct DerivedLaw {
 }
 
 fn need(law: &Option<crate::model::Law>, key: &str, why: &str) -> Result<Expr, ClosureError> {
-    law.as_ref().map(|l| l.expr.clone()).ok_or_else(|| {
-        ClosureError::Incomplete(format!("balance.{key} is required when {why}"))
-    })
+    law.as_ref()
+        .map(|l| l.expr.clone())
+        .ok_or_else(|| ClosureError::Incomplete(format!("balance.{key} is required when {why}")))
 }
 
 fn refuse(law: &Option<crate::model::Law>, key: &str, why: &str) -> Result<(), ClosureError> {
@@ -85,7 +85,11 @@ impl Laws {
         match (disk, m.unknown) {
             (true, Unknown::Rotation) => {
                 let rho = need(&m.density, "density", &why)?;
-                let c2 = need(&m.sound_speed_sq, "sound_speed_sq (or gas.temperature)", &why)?;
+                let c2 = need(
+                    &m.sound_speed_sq,
+                    "sound_speed_sq (or gas.temperature)",
+                    &why,
+                )?;
                 refuse(&m.rotation, "rotation", &why)?;
                 let p = (rho.clone() * c2).simplify();
                 let p_r = p.diff(s);
@@ -111,7 +115,11 @@ impl Laws {
             }
             (true, Unknown::Density) => {
                 let v = need(&m.rotation, "rotation", &why)?;
-                let c2 = need(&m.sound_speed_sq, "sound_speed_sq (or gas.temperature)", &why)?;
+                let c2 = need(
+                    &m.sound_speed_sq,
+                    "sound_speed_sq (or gas.temperature)",
+                    &why,
+                )?;
                 refuse(&m.density, "density", &why)?;
                 let v2 = (v.clone() * v).simplify();
                 let c2_r = c2.diff(s);
@@ -145,7 +153,11 @@ impl Laws {
                 laws.integrand = Some(f);
             }
             (false, Unknown::Density) => {
-                let c2 = need(&m.sound_speed_sq, "sound_speed_sq (or gas.temperature)", &why)?;
+                let c2 = need(
+                    &m.sound_speed_sq,
+                    "sound_speed_sq (or gas.temperature)",
+                    &why,
+                )?;
                 refuse(&m.density, "density", &why)?;
                 let f = (-(phi_s.clone() / c2)).simplify();
                 derived.push(DerivedLaw {
@@ -221,7 +233,10 @@ impl Laws {
             let res = (grad.clone() + phi_s.clone()).simplify();
             Some((
                 res,
-                vec![(format!("(1/rho) dP/d{s}"), grad), (format!("dPhi/d{s}"), phi_s)],
+                vec![
+                    (format!("(1/rho) dP/d{s}"), grad),
+                    (format!("dPhi/d{s}"), phi_s),
+                ],
             ))
         }
     }

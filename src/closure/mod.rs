@@ -51,6 +51,10 @@ pub struct Domain {
     pub hi: f64,
     /// Points where an integral is tabulated (for example the cell edges).
     pub knots: Vec<f64>,
+    /// `lo` is the axis or centre (R = 0 or r = 0) of a grid that contains
+    /// it but never samples it (cell centres and Gauss points lie off it), so
+    /// scans start just off it: many laws are finite there only as a limit.
+    pub axis_at_lo: bool,
 }
 
 impl Domain {
@@ -58,9 +62,20 @@ impl Domain {
     /// set of 4001 points.
     pub fn scan_points(&self) -> Vec<f64> {
         let n = 4000;
-        let mut pts: Vec<f64> =
-            (0..=n).map(|i| self.lo + (self.hi - self.lo) * i as f64 / n as f64).collect();
-        pts.extend(self.knots.iter().copied().filter(|k| *k >= self.lo && *k <= self.hi));
+        let lo = if self.axis_at_lo {
+            self.lo + 1e-9 * (self.hi - self.lo)
+        } else {
+            self.lo
+        };
+        let mut pts: Vec<f64> = (0..=n)
+            .map(|i| lo + (self.hi - lo) * i as f64 / n as f64)
+            .collect();
+        pts.extend(
+            self.knots
+                .iter()
+                .copied()
+                .filter(|k| *k >= lo && *k <= self.hi),
+        );
         pts.sort_by(|a, b| a.total_cmp(b));
         pts.dedup_by(|a, b| a.to_bits() == b.to_bits());
         pts
@@ -101,7 +116,9 @@ impl Background for Solved {
         let (density, pressure) = match &self.integral {
             None => {
                 let rho = ev(&self.density).unwrap_or(f64::NAN);
-                let p = ev(&self.pressure).or(c2.map(|c| c * rho)).unwrap_or(f64::NAN);
+                let p = ev(&self.pressure)
+                    .or(c2.map(|c| c * rho))
+                    .unwrap_or(f64::NAN);
                 (rho, p)
             }
             Some((kind, cum, base)) => {
@@ -123,7 +140,12 @@ impl Background for Solved {
             (Some(v2), _) => v2.eval(&[s]).sqrt(),
             (None, _) => 0.0,
         };
-        PointState { density, pressure, rotation, potential: self.potential.eval(&[s]) }
+        PointState {
+            density,
+            pressure,
+            rotation,
+            potential: self.potential.eval(&[s]),
+        }
     }
 }
 
@@ -131,7 +153,10 @@ impl Background for Solved {
 pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
     let laws = Laws::build(model)?;
     let compile = |e: &crate::formula::Expr, origin: &str| {
-        model.compile(e).map_err(|error| ClosureError::Formula { origin: origin.into(), error })
+        model.compile(e).map_err(|error| ClosureError::Formula {
+            origin: origin.into(),
+            error,
+        })
     };
     let opt = |e: &Option<crate::formula::Expr>, origin: &str| {
         e.as_ref().map(|e| compile(e, origin)).transpose()
@@ -169,12 +194,20 @@ pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
         let lo = domain.lo.min(anchor.at);
         let hi = domain.hi.max(anchor.at);
         let mut knots = domain.knots.clone();
-        knots.extend(integrate::breakpoints(integrand, model.coordinate(), lo, hi, &|n| {
-            model.lookup(n)
-        }));
+        knots.extend(integrate::breakpoints(
+            integrand,
+            model.coordinate(),
+            lo,
+            hi,
+            &|n| model.lookup(n),
+        ));
         knots.extend([lo, hi]);
         let program = compile(integrand, "integrand")?;
-        solved.integral = Some((kind, Cumulative::new(program, knots, anchor.at), anchor.value));
+        solved.integral = Some((
+            kind,
+            Cumulative::new(program, knots, anchor.at),
+            anchor.value,
+        ));
     }
     verify_existence(model, &solved, domain)?;
     Ok(solved)
@@ -206,6 +239,11 @@ fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), C
             }
         }
         if let Some((a, b, v, at)) = bad {
+            if v.is_nan() {
+                return Err(ClosureError::NoEquilibrium(format!(
+                    "{law} gives v_phi^2 that is not a number at {s} = {at}"
+                )));
+            }
             return Err(ClosureError::NoEquilibrium(format!(
                 "{law} needs v_phi^2 < 0 between {s} = {a} and {s} = {b} (v_phi^2 = {v:.6e} at {s} = {at}): \
                  gravity cannot hold the pressure gradient there"
@@ -215,9 +253,17 @@ fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), C
     for &x in &pts {
         let st = bg.at(x);
         let c2 = st.sound_speed_sq();
-        for (name, v) in [("density", st.density), ("pressure", st.pressure), ("c^2", c2)] {
+        for (name, v) in [
+            ("density", st.density),
+            ("pressure", st.pressure),
+            ("c^2", c2),
+        ] {
             if !(v > 0.0) {
-                let what = if v.is_finite() { "≤ 0" } else { "is not finite" };
+                let what = if v.is_finite() {
+                    "≤ 0"
+                } else {
+                    "is not finite"
+                };
                 return Err(ClosureError::NoEquilibrium(format!(
                     "{name} {what} ({v:e}) at {s} = {x}"
                 )));

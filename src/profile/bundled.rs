@@ -5,11 +5,23 @@
 /// (name, JSON text) of every bundled profile.
 pub const BUNDLED: &[(&str, &str)] = &[
     ("quiet-slab", include_str!("../../profiles/quiet-slab.json")),
-    ("layered-atmosphere", include_str!("../../profiles/layered-atmosphere.json")),
-    ("powerlaw-disk", include_str!("../../profiles/powerlaw-disk.json")),
-    ("tapered-disk-cartesian", include_str!("../../profiles/tapered-disk-cartesian.json")),
+    (
+        "layered-atmosphere",
+        include_str!("../../profiles/layered-atmosphere.json"),
+    ),
+    (
+        "powerlaw-disk",
+        include_str!("../../profiles/powerlaw-disk.json"),
+    ),
+    (
+        "tapered-disk-cartesian",
+        include_str!("../../profiles/tapered-disk-cartesian.json"),
+    ),
     ("ring-disk", include_str!("../../profiles/ring-disk.json")),
-    ("steady-vortex", include_str!("../../profiles/steady-vortex.json")),
+    (
+        "steady-vortex",
+        include_str!("../../profiles/steady-vortex.json"),
+    ),
 ];
 
 /// The text of a bundled profile by name.

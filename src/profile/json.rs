@@ -31,7 +31,11 @@ pub enum NumberOrFormula {
 impl<'a> Node<'a> {
     /// The root node of a file.
     pub fn root(value: &'a Value, file: &'a str) -> Node<'a> {
-        Node { value, path: "", file }
+        Node {
+            value,
+            path: "",
+            file,
+        }
     }
 
     /// The path of this node (`grid.R.cells`), or `(top level)`.
@@ -50,7 +54,9 @@ impl<'a> Node<'a> {
 
     /// The object's map, or an error.
     pub fn object(&self) -> Result<&'a Map<String, Value>, ProfileError> {
-        self.value.as_object().ok_or_else(|| self.expected("an object"))
+        self.value
+            .as_object()
+            .ok_or_else(|| self.expected("an object"))
     }
 
     /// "expected X, found Y".
@@ -81,7 +87,11 @@ impl<'a> Node<'a> {
         if v.is_null() {
             return None;
         }
-        Some(OwnedNode { value: v, path: join(self.path, key), file: self.file })
+        Some(OwnedNode {
+            value: v,
+            path: join(self.path, key),
+            file: self.file,
+        })
     }
 
     /// A required child.
@@ -99,17 +109,27 @@ impl<'a> Node<'a> {
     /// One of a fixed set of strings.
     pub fn choice<T: Copy>(&self, options: &[(T, &str)]) -> Result<T, ProfileError> {
         let s = self.str()?;
-        options.iter().find(|(_, k)| *k == s).map(|(t, _)| *t).ok_or_else(|| {
-            let keys: Vec<&str> = options.iter().map(|(_, k)| *k).collect();
-            let hint =
-                closest(s, &keys).map(|k| format!(" (did you mean `{k}`?)")).unwrap_or_default();
-            self.error(format!("expected one of {}, found \"{s}\"{hint}", keys.join(", ")))
-        })
+        options
+            .iter()
+            .find(|(_, k)| *k == s)
+            .map(|(t, _)| *t)
+            .ok_or_else(|| {
+                let keys: Vec<&str> = options.iter().map(|(_, k)| *k).collect();
+                let hint = closest(s, &keys)
+                    .map(|k| format!(" (did you mean `{k}`?)"))
+                    .unwrap_or_default();
+                self.error(format!(
+                    "expected one of {}, found \"{s}\"{hint}",
+                    keys.join(", ")
+                ))
+            })
     }
 
     /// A boolean.
     pub fn bool(&self) -> Result<bool, ProfileError> {
-        self.value.as_bool().ok_or_else(|| self.expected("true or false"))
+        self.value
+            .as_bool()
+            .ok_or_else(|| self.expected("true or false"))
     }
 
     /// A positive integer.
@@ -125,7 +145,10 @@ impl<'a> Node<'a> {
         if let Some(x) = self.value.as_f64() {
             return Ok(NumberOrFormula::Number(x));
         }
-        let text = self.value.as_str().ok_or_else(|| self.expected("a number or a formula"))?;
+        let text = self
+            .value
+            .as_str()
+            .ok_or_else(|| self.expected("a number or a formula"))?;
         let expr = self.formula_text(text, known)?;
         Ok(NumberOrFormula::Formula(expr, text.to_string()))
     }
@@ -147,10 +170,16 @@ impl<'a> Node<'a> {
     }
 
     /// A number, possibly written as a formula of the resolved parameters.
-    pub fn value(&self, known: &[&str], lookup: &dyn Fn(&str) -> Option<f64>) -> Result<f64, ProfileError> {
+    pub fn value(
+        &self,
+        known: &[&str],
+        lookup: &dyn Fn(&str) -> Option<f64>,
+    ) -> Result<f64, ProfileError> {
         let v = match self.number_or_formula(known)? {
             NumberOrFormula::Number(x) => x,
-            NumberOrFormula::Formula(e, _) => e.eval(lookup).map_err(|e| self.error(e.to_string()))?,
+            NumberOrFormula::Formula(e, _) => {
+                e.eval(lookup).map_err(|e| self.error(e.to_string()))?
+            }
         };
         if v.is_finite() {
             Ok(v)
@@ -161,10 +190,17 @@ impl<'a> Node<'a> {
 
     /// Array elements with their paths.
     pub fn array(&self) -> Result<Vec<OwnedNode<'a>>, ProfileError> {
-        let a = self.value.as_array().ok_or_else(|| self.expected("an array"))?;
+        let a = self
+            .value
+            .as_array()
+            .ok_or_else(|| self.expected("an array"))?;
         Ok(a.iter()
             .enumerate()
-            .map(|(i, v)| OwnedNode { value: v, path: format!("{}[{i}]", self.path), file: self.file })
+            .map(|(i, v)| OwnedNode {
+                value: v,
+                path: format!("{}[{i}]", self.path),
+                file: self.file,
+            })
             .collect())
     }
 }
@@ -179,7 +215,11 @@ pub struct OwnedNode<'a> {
 impl<'a> OwnedNode<'a> {
     /// Borrow as a [`Node`].
     pub fn node(&self) -> Node<'_> {
-        Node { value: self.value, path: &self.path, file: self.file }
+        Node {
+            value: self.value,
+            path: &self.path,
+            file: self.file,
+        }
     }
 }
 
@@ -197,7 +237,9 @@ pub fn describe(v: &Value) -> String {
         Value::Null => "null".into(),
         Value::Bool(b) => b.to_string(),
         Value::Number(n) => n.to_string(),
-        Value::String(s) if s.len() > 40 => format!("a string \"{}…\"", &s[..s.floor_char_boundary(40)]),
+        Value::String(s) if s.len() > 40 => {
+            format!("a string \"{}…\"", &s[..s.floor_char_boundary(40)])
+        }
         Value::String(s) => format!("\"{s}\""),
         Value::Array(_) => "an array".into(),
         Value::Object(_) => "an object".into(),
@@ -220,7 +262,9 @@ fn levenshtein(a: &str, b: &str) -> usize {
     for (i, ca) in a.chars().enumerate() {
         let mut cur = vec![i + 1; b.len() + 1];
         for (j, cb) in b.iter().enumerate() {
-            cur[j + 1] = (prev[j] + usize::from(ca != *cb)).min(prev[j + 1] + 1).min(cur[j] + 1);
+            cur[j + 1] = (prev[j] + usize::from(ca != *cb))
+                .min(prev[j + 1] + 1)
+                .min(cur[j] + 1);
         }
         prev = cur;
     }

@@ -15,7 +15,7 @@ use std::path::{Path, PathBuf};
 use serde_json::Value;
 
 use crate::background::Shape;
-use crate::formula::{parse_with_names, resolve_parameters, Expr};
+use crate::formula::{parse_with_names, resolve_parameters, Expr, Func};
 use crate::grid::{Axis, Coord, Grid};
 use crate::model::{Anchor, Law, Model, Unknown};
 use crate::output::Precision;
@@ -64,7 +64,10 @@ impl fmt::Display for ProfileError {
 }
 
 fn indent(s: &str) -> String {
-    s.lines().map(|l| format!("    {l}")).collect::<Vec<_>>().join("\n")
+    s.lines()
+        .map(|l| format!("    {l}"))
+        .collect::<Vec<_>>()
+        .join("\n")
 }
 
 /// Where and how to write the output.
@@ -115,12 +118,22 @@ pub fn load(arg: &str, overrides: &[(String, String)]) -> Result<Loaded, Profile
     let (label, text, dir) = if path.is_file() {
         let text = std::fs::read_to_string(path)
             .map_err(|e| ProfileError::at(arg, "", format!("cannot read the file: {e}")))?;
-        (arg.to_string(), text, path.parent().map(Path::to_path_buf).unwrap_or_default())
+        (
+            arg.to_string(),
+            text,
+            path.parent().map(Path::to_path_buf).unwrap_or_default(),
+        )
     } else if let Some(text) = bundled::find(arg) {
-        (format!("bundled:{arg}"), text.to_string(), PathBuf::from("."))
+        (
+            format!("bundled:{arg}"),
+            text.to_string(),
+            PathBuf::from("."),
+        )
     } else {
         let names: Vec<&str> = bundled::BUNDLED.iter().map(|(n, _)| *n).collect();
-        let hint = closest(arg, &names).map(|n| format!(" (did you mean `{n}`?)")).unwrap_or_default();
+        let hint = closest(arg, &names)
+            .map(|n| format!(" (did you mean `{n}`?)"))
+            .unwrap_or_default();
         return Err(ProfileError::at(
             arg,
             "",
@@ -144,14 +157,27 @@ pub fn from_text(
         ProfileError::at(
             label,
             "",
-            format!("not valid JSON: {} (line {}, column {})", strip_pos(&e.to_string()), e.line(), e.column()),
+            format!(
+                "not valid JSON: {} (line {}, column {})",
+                strip_pos(&e.to_string()),
+                e.line(),
+                e.column()
+            ),
         )
     })?;
     apply_overrides(&mut root, label, overrides)?;
     let json_text = serde_json::to_string_pretty(&root).unwrap_or_default();
     let top = Node::root(&root, label);
     top.only_keys(&[
-        "name", "about", "units", "parameters", "gravity", "gas", "balance", "grid", "sampling",
+        "name",
+        "about",
+        "units",
+        "parameters",
+        "gravity",
+        "gas",
+        "balance",
+        "grid",
+        "sampling",
         "output",
     ])?;
     let name = top.require("name")?.node().str()?.to_string();
@@ -196,7 +222,11 @@ pub fn from_text(
         .map_err(|e| ProfileError::at(label, "parameters", e.to_string()))?;
     for (n, v) in &parameters {
         if !v.is_finite() {
-            return Err(ProfileError::at(label, &format!("parameters.{n}"), format!("evaluates to {v}")));
+            return Err(ProfileError::at(
+                label,
+                &format!("parameters.{n}"),
+                format!("evaluates to {v}"),
+            ));
         }
     }
     let lookup = |n: &str| {
@@ -213,7 +243,13 @@ pub fn from_text(
     let balance_owned = top.require("balance")?;
     let balance = balance_owned.node();
     balance.only_keys(&[
-        "shape", "solve_for", "density", "rotation", "pressure", "anchor", "vertically_integrated",
+        "shape",
+        "solve_for",
+        "density",
+        "rotation",
+        "pressure",
+        "anchor",
+        "vertically_integrated",
     ])?;
     let shape = balance.require("shape")?.node().choice(&[
         (Shape::Slab, "slab"),
@@ -227,7 +263,10 @@ pub fn from_text(
     let law = |key: &str| -> Result<Option<Law>, ProfileError> {
         match balance.child(key) {
             None => Ok(None),
-            Some(n) => Ok(Some(Law { expr: n.node().formula(&law_names)?, origin: n.node().path() })),
+            Some(n) => Ok(Some(Law {
+                expr: n.node().formula(&law_names)?,
+                origin: n.node().path(),
+            })),
         }
     };
     let density = law("density")?;
@@ -268,7 +307,11 @@ pub fn from_text(
         None => 5.0 / 3.0,
     };
     if gamma <= 1.0 {
-        return Err(ProfileError::at(label, "gas.gamma", format!("must exceed 1, found {gamma}")));
+        return Err(ProfileError::at(
+            label,
+            "gas.gamma",
+            format!("must exceed 1, found {gamma}"),
+        ));
     }
     let molecular_weight = match gas.child("molecular_weight") {
         Some(m) => {
@@ -282,9 +325,14 @@ pub fn from_text(
     };
     let sound_speed_sq = match (gas.child("sound_speed_sq"), gas.child("temperature")) {
         (Some(_), Some(t)) => {
-            return Err(t.node().error("give either gas.sound_speed_sq or gas.temperature, not both"))
+            return Err(t
+                .node()
+                .error("give either gas.sound_speed_sq or gas.temperature, not both"))
         }
-        (Some(c), None) => Some(Law { expr: c.node().formula(&law_names)?, origin: c.node().path() }),
+        (Some(c), None) => Some(Law {
+            expr: c.node().formula(&law_names)?,
+            origin: c.node().path(),
+        }),
         (None, Some(t)) => {
             let node = t.node();
             let (Some(k), Some(m)) = (units.constants().k_b, units.constants().m_u) else {
@@ -301,7 +349,10 @@ pub fn from_text(
             };
             let t_expr = node.formula(&law_names)?;
             let expr = (Expr::num(k / (mu * m)) * t_expr).simplify();
-            Some(Law { expr, origin: node.path() })
+            Some(Law {
+                expr,
+                origin: node.path(),
+            })
         }
         (None, None) => None,
     };
@@ -315,7 +366,11 @@ pub fn from_text(
         Some(s) => sampling(s.node())?,
     };
     let output = match top.child("output") {
-        None => OutputSpec { file: None, csv: false, precision: Precision::Double },
+        None => OutputSpec {
+            file: None,
+            csv: false,
+            precision: Precision::Double,
+        },
         Some(o) => output(o.node())?,
     };
 
@@ -337,7 +392,14 @@ pub fn from_text(
         molecular_weight,
         vertically_integrated,
     };
-    Ok(Loaded { source: label.to_string(), json_text, model, grid, sampling, output })
+    Ok(Loaded {
+        source: label.to_string(),
+        json_text,
+        model,
+        grid,
+        sampling,
+        output,
+    })
 }
 
 fn strip_pos(msg: &str) -> String {
@@ -353,21 +415,34 @@ fn is_identifier(s: &str) -> bool {
         && c.all(|ch| ch.is_ascii_alphanumeric() || ch == '_')
 }
 
-fn apply_overrides(root: &mut Value, label: &str, overrides: &[(String, String)]) -> Result<(), ProfileError> {
+fn apply_overrides(
+    root: &mut Value,
+    label: &str,
+    overrides: &[(String, String)],
+) -> Result<(), ProfileError> {
     if overrides.is_empty() {
         return Ok(());
     }
     let Some(params) = root.get_mut("parameters").and_then(Value::as_object_mut) else {
-        return Err(ProfileError::at(label, "parameters", "--set needs a parameters object in the profile"));
+        return Err(ProfileError::at(
+            label,
+            "parameters",
+            "--set needs a parameters object in the profile",
+        ));
     };
     for (name, value) in overrides {
         if !params.contains_key(name) {
             let keys: Vec<&str> = params.keys().map(String::as_str).collect();
-            let hint = closest(name, &keys).map(|k| format!(" (did you mean `{k}`?)")).unwrap_or_default();
+            let hint = closest(name, &keys)
+                .map(|k| format!(" (did you mean `{k}`?)"))
+                .unwrap_or_default();
             return Err(ProfileError::at(
                 label,
                 "parameters",
-                format!("--set {name}=…: no parameter `{name}`{hint}; known: {}", keys.join(", ")),
+                format!(
+                    "--set {name}=…: no parameter `{name}`{hint}; known: {}",
+                    keys.join(", ")
+                ),
             ));
         }
         let v = match value.parse::<f64>() {
@@ -385,33 +460,50 @@ fn potential(node: Node, shape: Shape, consts: &[&str]) -> Result<Law, ProfileEr
     let coord = shape.coordinate();
     let mut names: Vec<&str> = consts.to_vec();
     names.push(coord);
-    let count = ["uniform", "point_mass", "potential"].iter().filter(|k| node.child(k).is_some()).count();
+    let count = ["uniform", "point_mass", "potential"]
+        .iter()
+        .filter(|k| node.child(k).is_some())
+        .count();
     if count != 1 {
         return Err(node.error("give exactly one of uniform, point_mass, potential"));
     }
     if let Some(g) = node.child("uniform") {
         let g = g.node();
         if shape == Shape::DiskMidplane {
-            return Err(g.error("a disk needs a central potential (point_mass or potential), not uniform gravity"));
+            return Err(g.error(
+                "a disk needs a central potential (point_mass or potential), not uniform gravity",
+            ));
         }
         if node.child("softening").is_some() {
             return Err(node.error("softening goes with point_mass only"));
         }
         let expr = (g.formula(consts)? * Expr::name(coord)).simplify();
-        return Ok(Law { expr, origin: g.path() });
+        return Ok(Law {
+            expr,
+            origin: g.path(),
+        });
     }
     if let Some(m) = node.child("point_mass") {
         let m = m.node();
         let mass = m.formula(consts)?;
-        let eps = match node.child("softening") {
-            Some(e) => e.node().formula(consts)?,
-            None => Expr::num(0.0),
-        };
-        // Plummer (1911) softened point mass: Φ = −G M / √(s² + ε²).
         let s = Expr::name(coord);
-        let r2 = s.clone() * s + eps.clone() * eps;
-        let expr = (-(Expr::name("G") * mass) * r2.pow(Expr::num(-0.5))).simplify();
-        return Ok(Law { expr, origin: m.path() });
+        let gm = Expr::name("G") * mass;
+        let expr = match node.child("softening") {
+            // Plummer (1911) softened point mass: Φ = −G M / √(s² + ε²).
+            Some(e) => {
+                let eps = e.node().formula(consts)?;
+                let r2 = s.clone() * s + eps.clone() * eps;
+                -gm * Expr::call(Func::Sqrt, vec![r2]).pow(Expr::num(-1.0))
+            }
+            // R and r are never negative; z is, so a slab uses |z|.
+            None if shape == Shape::Slab => -gm / Expr::call(Func::Abs, vec![s]),
+            None => -gm / s,
+        }
+        .simplify();
+        return Ok(Law {
+            expr,
+            origin: m.path(),
+        });
     }
     let p = node.require("potential")?;
     let p = p.node();
@@ -422,9 +514,15 @@ fn potential(node: Node, shape: Shape, consts: &[&str]) -> Result<Law, ProfileEr
         names.push("z");
         let e = p.formula(&names)?;
         let mid = e.substitute(&[("z".to_string(), Expr::num(0.0))].into_iter().collect());
-        return Ok(Law { expr: mid, origin: p.path() });
+        return Ok(Law {
+            expr: mid,
+            origin: p.path(),
+        });
     }
-    Ok(Law { expr: p.formula(&names)?, origin: p.path() })
+    Ok(Law {
+        expr: p.formula(&names)?,
+        origin: p.path(),
+    })
 }
 
 fn grid(
@@ -443,8 +541,12 @@ fn grid(
         let ax = owned.node();
         let Some(coord) = Coord::from_name(key) else {
             let names = ["R", "phi", "x", "y", "z", "r"];
-            let hint = closest(key, &names).map(|k| format!(" (did you mean `{k}`?)")).unwrap_or_default();
-            return Err(ax.error(format!("unknown axis `{key}`{hint}; axes are R, phi, x, y, z, r")));
+            let hint = closest(key, &names)
+                .map(|k| format!(" (did you mean `{k}`?)"))
+                .unwrap_or_default();
+            return Err(ax.error(format!(
+                "unknown axis `{key}`{hint}; axes are R, phi, x, y, z, r"
+            )));
         };
         ax.only_keys(&["from", "to", "cells", "spacing", "edges", "edges_file"])?;
         let err = |e: crate::grid::GridError| ax.error(e.to_string());
@@ -472,8 +574,12 @@ fn grid(
                 Some(s) => s.node().choice(&[(false, "uniform"), (true, "log")])?,
                 None => false,
             };
-            if log { Axis::log(coord, from, to, cells) } else { Axis::uniform(coord, from, to, cells) }
-                .map_err(err)?
+            if log {
+                Axis::log(coord, from, to, cells)
+            } else {
+                Axis::uniform(coord, from, to, cells)
+            }
+            .map_err(err)?
         };
         axes.push(axis);
     }
@@ -496,13 +602,20 @@ fn check_grid_matches(grid: &Grid, shape: Shape, label: &str) -> Result<(), Prof
             Shape::Spherical => "a sphere needs an r axis",
             _ => "a disk needs an R axis, R and phi, or x and y",
         };
-        Err(ProfileError::at(label, "grid", format!("the grid does not fit balance.shape: {want}")))
+        Err(ProfileError::at(
+            label,
+            "grid",
+            format!("the grid does not fit balance.shape: {want}"),
+        ))
     }
 }
 
 fn sampling(node: Node) -> Result<SamplingRule, ProfileError> {
     node.only_keys(&["rule", "points"])?;
-    let avg = node.require("rule")?.node().choice(&[(false, "center"), (true, "average")])?;
+    let avg = node
+        .require("rule")?
+        .node()
+        .choice(&[(false, "center"), (true, "average")])?;
     if !avg {
         if let Some(p) = node.child("points") {
             return Err(p.node().error("points goes with rule \"average\" only"));
@@ -530,10 +643,16 @@ fn output(node: Node) -> Result<OutputSpec, ProfileError> {
         None => false,
     };
     let precision = match node.child("precision") {
-        Some(p) => p.node().choice(&[(Precision::Double, "double"), (Precision::Single, "single")])?,
+        Some(p) => p
+            .node()
+            .choice(&[(Precision::Double, "double"), (Precision::Single, "single")])?,
         None => Precision::Double,
     };
-    Ok(OutputSpec { file, csv, precision })
+    Ok(OutputSpec {
+        file,
+        csv,
+        precision,
+    })
 }
 
 /// Parse a formula over the model's names (parameters, built-ins and the
