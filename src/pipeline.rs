@@ -184,3 +184,12 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
     }
     out
 }
+
+/// The profile key of a balance shape.
+pub fn shape_key(shape: Shape) -> &'static str {
+    match shape {
+        Shape::Slab => "slab",
+        Shape::Spherical => "sphere",
+        _ => "disk",
+    }
+}

@@ -225,3 +225,48 @@ fn issue2_unknown_override_is_refused() {
     assert!(!o.status.success());
     assert!(text(&o).contains("did you mean `g0`"), "{}", text(&o));
 }
+
+/// Files written by the real binary, read back with h5py: the balance
+/// recomputed from the file's own numbers with numpy second-order
+/// differences falls at second order with resolution (tests/h5_balance_check.py).
+#[test]
+fn issue2_cli_files_balance_at_second_order_in_h5py() {
+    let d = tmp();
+    let mut files = Vec::new();
+    for (name, from, to) in [
+        (
+            "quiet-slab",
+            "\"cells\": 256",
+            ["\"cells\": 48", "\"cells\": 96"],
+        ),
+        (
+            "powerlaw-disk",
+            "\"cells\": 192",
+            ["\"cells\": 40", "\"cells\": 80"],
+        ),
+    ] {
+        let original = std::fs::read_to_string(format!(
+            "{}/profiles/{name}.json",
+            env!("CARGO_MANIFEST_DIR")
+        ))
+        .unwrap();
+        for (i, cells) in to.iter().enumerate() {
+            let p = d.path().join(format!("{name}-{i}.json"));
+            let body = original
+                .replace(from, cells)
+                .replace("\"cells\": 384", "\"cells\": 16");
+            std::fs::write(&p, body).unwrap();
+            let out = format!("{name}-{i}.h5");
+            let o = stillpoint(d.path(), &["build", p.to_str().unwrap(), "-o", &out]);
+            assert!(o.status.success(), "{}", text(&o));
+            files.push(d.path().join(out));
+        }
+    }
+    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/h5_balance_check.py");
+    let o = Command::new("python3")
+        .arg(script)
+        .args(&files)
+        .output()
+        .expect("python3 with h5py and numpy is needed (.ci/run installs them with pip)");
+    assert!(o.status.success(), "{}", text(&o));
+}

@@ -20,7 +20,7 @@ pub const SEGMENT_TOLERANCE: f64 = 1e-12;
 
 /// ∫ₐᵇ f by the double-exponential rule (see [`SEGMENT_TOLERANCE`]).
 pub fn segment(f: &dyn Fn(f64) -> f64, a: f64, b: f64) -> f64 {
-    if a == b {
+    if (b - a).abs() == 0.0 {
         return 0.0;
     }
     let m = 0.5 * (a + b);

@@ -258,7 +258,7 @@ fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), C
             ("pressure", st.pressure),
             ("c^2", c2),
         ] {
-            if !(v > 0.0) {
+            if v.is_nan() || v <= 0.0 {
                 let what = if v.is_finite() {
                     "≤ 0"
                 } else {

@@ -24,8 +24,8 @@ pub struct Node<'a> {
 pub enum NumberOrFormula {
     /// A literal number.
     Number(f64),
-    /// A formula with its text.
-    Formula(Expr, String),
+    /// A formula.
+    Formula(Expr),
 }
 
 impl<'a> Node<'a> {
@@ -149,15 +149,14 @@ impl<'a> Node<'a> {
             .value
             .as_str()
             .ok_or_else(|| self.expected("a number or a formula"))?;
-        let expr = self.formula_text(text, known)?;
-        Ok(NumberOrFormula::Formula(expr, text.to_string()))
+        Ok(NumberOrFormula::Formula(self.formula_text(text, known)?))
     }
 
     /// A formula over `known` names (a JSON number is taken as a constant).
     pub fn formula(&self, known: &[&str]) -> Result<Expr, ProfileError> {
         match self.number_or_formula(known)? {
             NumberOrFormula::Number(x) => Ok(Expr::num(x)),
-            NumberOrFormula::Formula(e, _) => Ok(e),
+            NumberOrFormula::Formula(e) => Ok(e),
         }
     }
 
@@ -177,9 +176,7 @@ impl<'a> Node<'a> {
     ) -> Result<f64, ProfileError> {
         let v = match self.number_or_formula(known)? {
             NumberOrFormula::Number(x) => x,
-            NumberOrFormula::Formula(e, _) => {
-                e.eval(lookup).map_err(|e| self.error(e.to_string()))?
-            }
+            NumberOrFormula::Formula(e) => e.eval(lookup).map_err(|e| self.error(e.to_string()))?,
         };
         if v.is_finite() {
             Ok(v)
@@ -238,7 +235,7 @@ pub fn describe(v: &Value) -> String {
         Value::Bool(b) => b.to_string(),
         Value::Number(n) => n.to_string(),
         Value::String(s) if s.len() > 40 => {
-            format!("a string \"{}…\"", &s[..s.floor_char_boundary(40)])
+            format!("a string \"{}…\"", s.chars().take(40).collect::<String>())
         }
         Value::String(s) => format!("\"{s}\""),
         Value::Array(_) => "an array".into(),

@@ -588,12 +588,15 @@ fn grid(
 
 fn check_grid_matches(grid: &Grid, shape: Shape, label: &str) -> Result<(), ProfileError> {
     use crate::grid::Layout;
-    let ok = match (grid.layout(), shape) {
-        (Layout::Line(Coord::Z), Shape::Slab) => true,
-        (Layout::Line(Coord::Sph), Shape::Spherical) => true,
-        (Layout::Line(Coord::R) | Layout::Polar | Layout::Cartesian, Shape::DiskMidplane) => true,
-        _ => false,
-    };
+    let ok = matches!(
+        (grid.layout(), shape),
+        (Layout::Line(Coord::Z), Shape::Slab)
+            | (Layout::Line(Coord::Sph), Shape::Spherical)
+            | (
+                Layout::Line(Coord::R) | Layout::Polar | Layout::Cartesian,
+                Shape::DiskMidplane
+            )
+    );
     if ok {
         Ok(())
     } else {
