@@ -173,6 +173,9 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
             ));
         }
     }
+    if loaded.output.precision == crate::output::Precision::Single {
+        out.push(crate::output::SINGLE_PRECISION_CAUTION.to_string());
+    }
     if let Some(a) = m.anchor {
         if a.at < domain.lo || a.at > domain.hi {
             out.push(format!(

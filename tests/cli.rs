@@ -270,3 +270,46 @@ fn issue2_cli_files_balance_at_second_order_in_h5py() {
         .expect("python3 with h5py and numpy is needed (.ci/run installs them with pip)");
     assert!(o.status.success(), "{}", text(&o));
 }
+
+#[test]
+fn issue2_edges_from_file_and_single_precision_caution() {
+    let d = tmp();
+    std::fs::write(
+        d.path().join("edges.txt"),
+        "# z edges of my code's grid\n0\n0.5 1.25\n2\n3.5\n",
+    )
+    .unwrap();
+    let p = GOOD
+        .replace(
+            r#""z": { "from": 0, "to": "8*H", "cells": 256 }"#,
+            r#""z": { "edges_file": "edges.txt" }"#,
+        )
+        .replace(
+            r#""output": { "file": "quiet-slab.h5", "csv": true }"#,
+            r#""output": { "precision": "single" }"#,
+        );
+    assert!(
+        p.contains("edges_file") && p.contains("single"),
+        "profile rewrite failed"
+    );
+    std::fs::write(d.path().join("p.json"), p).unwrap();
+    let o = stillpoint(d.path(), &["build", "p.json", "-o", "e.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    assert!(text(&o).contains("single precision"), "{}", text(&o));
+    let f = hdf5::File::open(d.path().join("e.h5")).unwrap();
+    let edges: Vec<f64> = f.dataset("grid/z_edges").unwrap().read_raw().unwrap();
+    assert_eq!(edges.len(), 5);
+    assert!((edges[2] - 1.25).abs() < 1e-15);
+    let cautions: hdf5::types::VarLenUnicode = f.attr("cautions").unwrap().read_scalar().unwrap();
+    assert!(cautions.as_str().contains("single precision"));
+    // A bad edges file names the file and the line.
+    std::fs::write(d.path().join("edges.txt"), "0\n1\nthree\n").unwrap();
+    let o = stillpoint(d.path(), &["build", "p.json", "-o", "f.h5"]);
+    assert!(!o.status.success());
+    assert!(
+        text(&o).contains("edges.txt") && text(&o).contains("line 3"),
+        "{}",
+        text(&o)
+    );
+    assert!(!d.path().join("f.h5").exists());
+}
