@@ -91,6 +91,19 @@ fn negated(e: &Expr) -> Option<Expr> {
     }
 }
 
+/// Sum terms with a term that has no leading minus first (`1 - x^2`, not
+/// `-x^2 + 1`); the order of the rest is kept.
+fn positive_first(ts: &[Expr]) -> Vec<&Expr> {
+    let mut v: Vec<&Expr> = ts.iter().collect();
+    if negated(&ts[0]).is_some() {
+        if let Some(j) = ts.iter().position(|t| negated(t).is_none()) {
+            let t = v.remove(j);
+            v.insert(0, t);
+        }
+    }
+    v
+}
+
 /// Text and binding strength.
 fn piece(e: &Expr) -> (String, u8) {
     match e {
@@ -100,7 +113,7 @@ fn piece(e: &Expr) -> (String, u8) {
         Expr::Add(ts) if ts.is_empty() => ("0".into(), ATOM),
         Expr::Add(ts) => {
             let mut s = String::new();
-            for (i, t) in ts.iter().enumerate() {
+            for (i, t) in positive_first(ts).into_iter().enumerate() {
                 match (i, negated(t)) {
                     (0, _) => s += &wrap(piece(t), SUM),
                     (_, Some(pos)) => {
@@ -122,10 +135,8 @@ fn piece(e: &Expr) -> (String, u8) {
             }
             product(e)
         }
-        Expr::Pow(_, x)
-            if x.as_number()
-                .is_some_and(|v| v.to_bits() == (-1f64).to_bits()) =>
-        {
+        // x^(-n) reads as 1/x^n.
+        Expr::Pow(_, x) if x.as_number().is_some_and(|v| v < 0.0) => {
             product(&Expr::Mul(vec![e.clone()]))
         }
         Expr::Pow(b, x) => {
@@ -272,7 +283,7 @@ fn lpiece(e: &Expr) -> (String, u8) {
         Expr::Name(n) => (latex_name(n), ATOM),
         Expr::Add(ts) => {
             let mut s = String::new();
-            for (i, t) in ts.iter().enumerate() {
+            for (i, t) in positive_first(ts).into_iter().enumerate() {
                 match (i, negated(t)) {
                     (0, _) => s += &lwrap(lpiece(t), SUM),
                     (_, Some(p)) => s += &format!(" - {}", lwrap(lpiece(&p), PRODUCT)),
@@ -380,7 +391,9 @@ mod tests {
         assert_eq!(rt("a / b"), "a/b");
         assert_eq!(rt("-x^2"), "-x^2");
         assert_eq!(rt("(-x)^2"), "(-x)^2");
-        assert_eq!(rt("x^(-2)"), "x^(-2)");
+        assert_eq!(rt("x^(-2)"), "1/x^2");
+        assert_eq!(rt("x^(-y)"), "x^(-y)");
+        assert_eq!(rt("-x^2 + 1"), "1 - x^2");
         assert_eq!(rt("a - (b + c)"), "a - (b + c)");
         assert_eq!(rt("(a*b)^c"), "(a*b)^c");
         assert_eq!(rt("x^y^z"), "x^y^z");
