@@ -224,10 +224,11 @@ fn cond_and_part(c: &Cond) -> String {
 
 // ---------------------------------------------------------------- LaTeX
 
-const GREEK: [&str; 24] = [
+const GREEK: [&str; 35] = [
     "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa",
     "lambda", "mu", "nu", "xi", "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi",
-    "omega", "Omega",
+    "omega", "Gamma", "Delta", "Theta", "Lambda", "Xi", "Pi", "Sigma", "Upsilon", "Phi", "Psi",
+    "Omega", "varphi",
 ];
 
 /// LaTeX for a name: Greek letters, trailing digits and `_x` as subscripts.
@@ -418,6 +419,10 @@ mod tests {
         let l = |s: &str| latex(&parse(s).unwrap());
         assert_eq!(l("rho0/R_in"), "\\frac{\\rho_{0}}{R_{in}}");
         assert_eq!(l("sqrt(phi) * pi"), "\\sqrt{\\phi} \\, \\pi");
+        assert_eq!(
+            l("Omega_K + k_B + Mdot"),
+            "\\Omega_{K} + k_{B} + \\mathrm{Mdot}"
+        );
         assert_eq!(l("exp(-x^2)"), "\\exp\\left(-x^{2}\\right)");
         assert_eq!(l("(a + b)^2"), "\\left(a + b\\right)^{2}");
         assert!(l("if(x < 1, 0, x)").starts_with("\\begin{cases} 0 & \\text{if } x < 1"));
