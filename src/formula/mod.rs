@@ -166,12 +166,18 @@ impl Expr {
     pub fn name(n: &str) -> Expr {
         Expr::Name(n.to_string())
     }
-    /// `self ^ e`.
+    /// `self ^ e` (not simplified).
     pub fn pow(self, e: Expr) -> Expr {
         Expr::Pow(Box::new(self), Box::new(e))
     }
-    /// A function call.
+    /// A function call (not simplified). `args` must have the function's
+    /// arity (two for `atan2`, `min`, `max`, one otherwise).
     pub fn call(f: Func, args: Vec<Expr>) -> Expr {
+        debug_assert_eq!(
+            args.len(),
+            expr::arity(f),
+            "wrong number of arguments for {f:?}"
+        );
         Expr::Call(f, args)
     }
     /// The derivative by `name`, simplified.
@@ -261,6 +267,10 @@ impl Program {
             columns.len() >= self.n_vars,
             "Program::eval_columns: too few columns"
         );
+        assert!(
+            columns.iter().all(|c| c.len() >= out.len()),
+            "Program::eval_columns: a column is shorter than the output"
+        );
         for (k, o) in out.iter_mut().enumerate() {
             *o = compile::run(&self.code, self.depth, &|i| columns[i][k]);
         }
@@ -301,5 +311,48 @@ impl std::ops::Neg for Expr {
     type Output = Expr;
     fn neg(self) -> Expr {
         Expr::Mul(vec![Expr::Num(-1.0), self])
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn operators_build_formulas_that_simplify() {
+        let x = Expr::name("x");
+        let e = (x.clone() * Expr::num(2.0) - x.clone()) / x.clone() + -Expr::num(1.0);
+        assert!(e.simplify().as_number().is_some_and(|v| v.abs() < 1e-300));
+        let d = Expr::call(Func::Sin, vec![x.clone().pow(Expr::num(2.0))]).diff("x");
+        assert_eq!(d.to_string(), "2*x*cos(x^2)");
+        assert_eq!(Expr::name("x").as_number(), None);
+    }
+
+    #[test]
+    fn substitute_then_simplify() {
+        let e = parse("a*x + b").unwrap();
+        let mut m = BTreeMap::new();
+        m.insert("a".to_string(), Expr::num(0.0));
+        m.insert("b".to_string(), parse("x - 1").unwrap());
+        assert_eq!(e.substitute(&m).to_string(), "x - 1");
+        let names: Vec<String> = parse("x*pi + rho0").unwrap().names().into_iter().collect();
+        assert_eq!(names, vec!["rho0".to_string(), "x".to_string()]);
+    }
+
+    #[test]
+    fn errors_without_span_render_the_message() {
+        let e = FormulaError::Cycle {
+            cycle: vec!["a".into(), "b".into(), "a".into()],
+        };
+        assert_eq!(e.span(), None);
+        assert_eq!(
+            e.render("a = b"),
+            "a = b\nparameters depend on each other in a cycle: a -> b -> a"
+        );
+        let e = parse_with_names("2*rh0", &["rho0"]).unwrap_err();
+        assert_eq!(
+            e.render("2*rh0"),
+            "2*rh0\n  ^^^\nunknown name `rh0` (did you mean `rho0`?)"
+        );
     }
 }

@@ -91,6 +91,19 @@ fn negated(e: &Expr) -> Option<Expr> {
     }
 }
 
+/// Sum terms with a term that has no leading minus first (`1 - x^2`, not
+/// `-x^2 + 1`); the order of the rest is kept.
+fn positive_first(ts: &[Expr]) -> Vec<&Expr> {
+    let mut v: Vec<&Expr> = ts.iter().collect();
+    if negated(&ts[0]).is_some() {
+        if let Some(j) = ts.iter().position(|t| negated(t).is_none()) {
+            let t = v.remove(j);
+            v.insert(0, t);
+        }
+    }
+    v
+}
+
 /// Text and binding strength.
 fn piece(e: &Expr) -> (String, u8) {
     match e {
@@ -100,7 +113,7 @@ fn piece(e: &Expr) -> (String, u8) {
         Expr::Add(ts) if ts.is_empty() => ("0".into(), ATOM),
         Expr::Add(ts) => {
             let mut s = String::new();
-            for (i, t) in ts.iter().enumerate() {
+            for (i, t) in positive_first(ts).into_iter().enumerate() {
                 match (i, negated(t)) {
                     (0, _) => s += &wrap(piece(t), SUM),
                     (_, Some(pos)) => {
@@ -122,10 +135,8 @@ fn piece(e: &Expr) -> (String, u8) {
             }
             product(e)
         }
-        Expr::Pow(_, x)
-            if x.as_number()
-                .is_some_and(|v| v.to_bits() == (-1f64).to_bits()) =>
-        {
+        // x^(-n) reads as 1/x^n.
+        Expr::Pow(_, x) if x.as_number().is_some_and(|v| v < 0.0) => {
             product(&Expr::Mul(vec![e.clone()]))
         }
         Expr::Pow(b, x) => {
@@ -213,10 +224,11 @@ fn cond_and_part(c: &Cond) -> String {
 
 // ---------------------------------------------------------------- LaTeX
 
-const GREEK: [&str; 24] = [
+const GREEK: [&str; 35] = [
     "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa",
     "lambda", "mu", "nu", "xi", "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi",
-    "omega", "Omega",
+    "omega", "Gamma", "Delta", "Theta", "Lambda", "Xi", "Pi", "Sigma", "Upsilon", "Phi", "Psi",
+    "Omega", "varphi",
 ];
 
 /// LaTeX for a name: Greek letters, trailing digits and `_x` as subscripts.
@@ -272,7 +284,7 @@ fn lpiece(e: &Expr) -> (String, u8) {
         Expr::Name(n) => (latex_name(n), ATOM),
         Expr::Add(ts) => {
             let mut s = String::new();
-            for (i, t) in ts.iter().enumerate() {
+            for (i, t) in positive_first(ts).into_iter().enumerate() {
                 match (i, negated(t)) {
                     (0, _) => s += &lwrap(lpiece(t), SUM),
                     (_, Some(p)) => s += &format!(" - {}", lwrap(lpiece(&p), PRODUCT)),
@@ -380,7 +392,9 @@ mod tests {
         assert_eq!(rt("a / b"), "a/b");
         assert_eq!(rt("-x^2"), "-x^2");
         assert_eq!(rt("(-x)^2"), "(-x)^2");
-        assert_eq!(rt("x^(-2)"), "x^(-2)");
+        assert_eq!(rt("x^(-2)"), "1/x^2");
+        assert_eq!(rt("x^(-y)"), "x^(-y)");
+        assert_eq!(rt("-x^2 + 1"), "1 - x^2");
         assert_eq!(rt("a - (b + c)"), "a - (b + c)");
         assert_eq!(rt("(a*b)^c"), "(a*b)^c");
         assert_eq!(rt("x^y^z"), "x^y^z");
@@ -405,6 +419,10 @@ mod tests {
         let l = |s: &str| latex(&parse(s).unwrap());
         assert_eq!(l("rho0/R_in"), "\\frac{\\rho_{0}}{R_{in}}");
         assert_eq!(l("sqrt(phi) * pi"), "\\sqrt{\\phi} \\, \\pi");
+        assert_eq!(
+            l("Omega_K + k_B + Mdot"),
+            "\\Omega_{K} + k_{B} + \\mathrm{Mdot}"
+        );
         assert_eq!(l("exp(-x^2)"), "\\exp\\left(-x^{2}\\right)");
         assert_eq!(l("(a + b)^2"), "\\left(a + b\\right)^{2}");
         assert!(l("if(x < 1, 0, x)").starts_with("\\begin{cases} 0 & \\text{if } x < 1"));

@@ -102,7 +102,39 @@ pub(crate) fn add(terms: Vec<Expr>) -> Expr {
 
 /// A simplified product of simplified factors.
 pub(crate) fn mul(factors: Vec<Expr>) -> Expr {
-    mul_depth(factors, 0)
+    let r = mul_depth(factors, 0);
+    // A power of a product kept whole (see `pow`) may cancel against the
+    // other factors once spread: x*(x*y)^(-1) -> 1/y. Keep what is shorter.
+    let spreadable = |f: &Expr| {
+        matches!(f, Expr::Pow(b, n) if matches!(**b, Expr::Mul(_))
+            && n.as_number().is_some_and(is_integer))
+    };
+    let Expr::Mul(fs) = &r else { return r };
+    if !fs.iter().any(spreadable) {
+        return r;
+    }
+    let spread: Vec<Expr> = fs
+        .iter()
+        .map(|f| match f {
+            Expr::Pow(b, n) if spreadable(f) => match &**b {
+                Expr::Mul(inner) => mul_depth(
+                    inner
+                        .iter()
+                        .map(|g| pow(g.clone(), (**n).clone()))
+                        .collect(),
+                    0,
+                ),
+                _ => f.clone(),
+            },
+            _ => f.clone(),
+        })
+        .collect();
+    let alt = mul_depth(spread, 0);
+    if size(&alt) < size(&r) {
+        alt
+    } else {
+        r
+    }
 }
 
 fn mul_depth(factors: Vec<Expr>, depth: usize) -> Expr {
@@ -119,6 +151,20 @@ fn mul_depth(factors: Vec<Expr>, depth: usize) -> Expr {
     }
     if is(&Expr::Num(coeff), 0.0) {
         return Expr::Num(0.0);
+    }
+    // exp(a) * exp(b) = exp(a + b).
+    let is_exp = |p: &(Expr, Expr)| matches!(p.0, Expr::Call(Func::Exp, _)) && is(&p.1, 1.0);
+    if flat.iter().filter(|p| is_exp(p)).count() >= 2 {
+        let (exps, mut rest): (Vec<_>, Vec<_>) = flat.into_iter().partition(is_exp);
+        let args = exps.into_iter().filter_map(|(b, _)| match b {
+            Expr::Call(_, mut a) => a.pop(),
+            _ => None,
+        });
+        match call(Func::Exp, vec![add(args.collect())]) {
+            Expr::Num(v) => coeff *= v,
+            other => rest.push((other, Expr::Num(1.0))),
+        }
+        flat = rest;
     }
     flat.sort_by(|a, b| cmp_expr(&a.0, &b.0).then_with(|| cmp_expr(&a.1, &b.1)));
     let mut out: Vec<Expr> = Vec::with_capacity(flat.len());
@@ -199,7 +245,14 @@ pub(crate) fn pow(b: Expr, e: Expr) -> Expr {
         // (a*b)^n = a^n * b^n for integer n; a positive numeric factor may
         // always be split off.
         (Expr::Mul(fs), Some(n)) if is_integer(n) => {
-            mul(fs.into_iter().map(|f| pow(f, Expr::Num(n))).collect())
+            let kept = Expr::Pow(Box::new(Expr::Mul(fs.clone())), Box::new(e));
+            let spread = mul(fs.into_iter().map(|f| pow(f, Expr::Num(n))).collect());
+            // Only when it shortens: (R/R0)^(-1) -> R0/R, but (R/R0)^2 stays.
+            if size(&spread) < size(&kept) {
+                spread
+            } else {
+                kept
+            }
         }
         (Expr::Mul(mut fs), Some(n)) if matches!(fs[0], Expr::Num(c) if c > 0.0) => {
             let c = match fs.remove(0) {
@@ -221,6 +274,22 @@ pub(crate) fn pow(b: Expr, e: Expr) -> Expr {
             call(Func::Exp, vec![scale(n, args.pop().unwrap())])
         }
         (b, _) => Expr::Pow(Box::new(b), Box::new(e)),
+    }
+}
+
+/// The number of nodes of a tree (conditions count their expressions).
+pub(crate) fn size(e: &Expr) -> usize {
+    fn cond_size(c: &Cond) -> usize {
+        match c {
+            Cond::Cmp(_, a, b) => 1 + size(a) + size(b),
+            Cond::And(a, b) | Cond::Or(a, b) => 1 + cond_size(a) + cond_size(b),
+        }
+    }
+    match e {
+        Expr::Num(_) | Expr::Name(_) => 1,
+        Expr::Add(v) | Expr::Mul(v) | Expr::Call(_, v) => 1 + v.iter().map(size).sum::<usize>(),
+        Expr::Pow(a, b) => 1 + size(a) + size(b),
+        Expr::If(c, a, b) => 1 + cond_size(c) + size(a) + size(b),
     }
 }
 
@@ -320,10 +389,14 @@ mod tests {
         assert_eq!(s("x*x^2"), "x^3");
         assert_eq!(s("x^0.5 * x^1.5"), "x^2");
         assert_eq!(s("(x^2)^3"), "x^6");
-        assert_eq!(s("(2*x*y)^2"), "4*x^2*y^2");
+        assert_eq!(s("(2*x*y)^2"), "(2*x*y)^2");
+        assert_eq!(s("(x/y)^(-1)"), "y/x");
+        assert_eq!(s("x*(x*y)^(-1)"), "1/y");
         assert_eq!(s("y*x + x*y"), "2*x*y");
         assert_eq!(s("(a + (b + c)) - c"), "a + b");
         assert_eq!(s("exp(x)^2"), "exp(2*x)");
+        assert_eq!(s("exp(x)^2 * exp(-x) * y"), "y*exp(x)");
+        assert_eq!(s("exp(x) * exp(-x)"), "1");
     }
 
     #[test]

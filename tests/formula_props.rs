@@ -1,0 +1,244 @@
+//! Property tests of the formula engine on randomly generated formulas:
+//! derivatives against central finite differences, print → parse round
+//! trips, value-preserving simplification, and compiled programs against the
+//! tree walker. Points where a formula is not finite (or not smooth, for the
+//! derivative check) are skipped; each property also has a fixed-formula
+//! test asserting that the checks actually ran.
+
+use proptest::prelude::*;
+use stillpoint::formula::{parse, Expr, Func, Program};
+
+const FUNCS1: [Func; 14] = [
+    Func::Sqrt,
+    Func::Exp,
+    Func::Log,
+    Func::Log10,
+    Func::Sin,
+    Func::Cos,
+    Func::Tan,
+    Func::Asin,
+    Func::Acos,
+    Func::Atan,
+    Func::Sinh,
+    Func::Cosh,
+    Func::Tanh,
+    Func::Abs,
+];
+const FUNCS2: [Func; 3] = [Func::Atan2, Func::Min, Func::Max];
+const POINTS: [(f64, f64); 7] = [
+    (0.37, 1.21),
+    (0.83, 0.45),
+    (1.37, 1.9),
+    (1.71, 0.66),
+    (0.55, 0.58),
+    (-0.74, 1.13),
+    (0.61, -1.42),
+];
+
+fn leaf() -> impl Strategy<Value = Expr> {
+    prop_oneof![
+        Just(Expr::name("x")),
+        Just(Expr::name("y")),
+        Just(Expr::name("pi")),
+        prop::sample::select(vec![0.5, 1.0, 2.0, 3.0, -1.5, 0.25, 1e-3]).prop_map(Expr::num),
+    ]
+}
+
+fn formula() -> impl Strategy<Value = Expr> {
+    leaf().prop_recursive(4, 24, 3, |inner| {
+        prop_oneof![
+            (inner.clone(), inner.clone()).prop_map(|(a, b)| a + b),
+            (inner.clone(), inner.clone()).prop_map(|(a, b)| a - b),
+            (inner.clone(), inner.clone()).prop_map(|(a, b)| a * b),
+            (inner.clone(), inner.clone()).prop_map(|(a, b)| a / b),
+            inner.clone().prop_map(|a| -a),
+            (
+                inner.clone(),
+                prop::sample::select(vec![2.0, 3.0, -1.0, -2.0, 0.5, 1.5, -0.5])
+            )
+                .prop_map(|(a, n)| a.pow(Expr::num(n))),
+            (inner.clone(), inner.clone()).prop_map(|(a, b)| a.pow(b)),
+            (inner.clone(), prop::sample::select(FUNCS1.to_vec()))
+                .prop_map(|(a, f)| Expr::call(f, vec![a])),
+            (
+                inner.clone(),
+                inner.clone(),
+                prop::sample::select(FUNCS2.to_vec())
+            )
+                .prop_map(|(a, b, f)| Expr::call(f, vec![a, b])),
+            (inner.clone(), inner.clone(), inner.clone(), inner.clone()).prop_map(
+                |(a, b, c, d)| {
+                    let cond = stillpoint::formula::Cond::Cmp(stillpoint::formula::CmpOp::Lt, a, b);
+                    Expr::If(Box::new(cond), Box::new(c), Box::new(d))
+                }
+            ),
+        ]
+    })
+}
+
+fn at(e: &Expr, x: f64, y: f64) -> f64 {
+    e.eval(&|n| match n {
+        "x" => Some(x),
+        "y" => Some(y),
+        _ => None,
+    })
+    .expect("only x and y are used")
+}
+
+fn at_ext(e: &Expr, x: f64, y: f64) -> f64 {
+    e.eval_extended(&|n| match n {
+        "x" => Some(x),
+        "y" => Some(y),
+        _ => None,
+    })
+    .expect("only x and y are used")
+}
+
+fn close(a: f64, b: f64, rel: f64) -> bool {
+    (a - b).abs() <= rel * (1.0 + a.abs().max(b.abs()))
+}
+
+/// Compare the derivative by x with central differences at every point where
+/// the function is smooth and moderate; returns how many points were checked.
+fn check_derivative(e: &Expr) -> Result<usize, String> {
+    let d = e.diff("x");
+    let mut checked = 0;
+    for (x, y) in POINTS {
+        let f = at(e, x, y);
+        let h = 1e-5 * (1.0 + x.abs());
+        let fd = |h: f64| (at(e, x + h, y) - at(e, x - h, y)) / (2.0 * h);
+        let (fd1, fd2) = (fd(h), fd(h / 2.0));
+        let scale = 1.0 + f.abs() + fd2.abs();
+        if !f.is_finite()
+            || !fd1.is_finite()
+            || !fd2.is_finite()
+            || f.abs() > 1e6
+            || fd2.abs() > 1e6
+        {
+            continue;
+        }
+        // Step halving changes a smooth estimate only at O(h^2): if it moves
+        // a lot, a kink, a jump or rounding noise sits nearby.
+        if (fd1 - fd2).abs() > 1e-6 * scale {
+            continue;
+        }
+        let dv = at(&d, x, y);
+        if (dv - fd2).abs() > 1e-5 * scale {
+            return Err(format!(
+                "d/dx {e} = {d} at ({x}, {y}): {dv} vs finite difference {fd2}"
+            ));
+        }
+        checked += 1;
+    }
+    Ok(checked)
+}
+
+fn check_round_trip(e: &Expr) -> Result<usize, String> {
+    let text = e.to_string();
+    let back = parse(&text).map_err(|err| format!("`{text}` does not parse: {err}"))?;
+    let mut checked = 0;
+    for (x, y) in POINTS {
+        let (a, b) = (at_ext(e, x, y), at_ext(&back, x, y));
+        if a.is_finite() && a.abs() < 1e12 {
+            if !close(a, b, 1e-12) {
+                return Err(format!(
+                    "`{text}` at ({x}, {y}): {a} vs {b} after round trip"
+                ));
+            }
+            checked += 1;
+        }
+    }
+    Ok(checked)
+}
+
+fn check_simplify(e: &Expr) -> Result<usize, String> {
+    let s = e.simplify();
+    let mut checked = 0;
+    for (x, y) in POINTS {
+        let (a, b) = (at_ext(e, x, y), at_ext(&s, x, y));
+        if a.is_finite() && a.abs() < 1e12 {
+            if !close(a, b, 1e-9) {
+                return Err(format!("{e} simplified to {s} at ({x}, {y}): {a} vs {b}"));
+            }
+            checked += 1;
+        }
+    }
+    Ok(checked)
+}
+
+fn check_program(e: &Expr) -> Result<usize, String> {
+    let p = Program::compile(e, &["x", "y"], &|_| None).map_err(|err| err.to_string())?;
+    let mut checked = 0;
+    for (x, y) in POINTS {
+        let (a, b) = (at(e, x, y), p.eval(&[x, y]));
+        if a.is_nan() {
+            if !b.is_nan() {
+                return Err(format!("{e} at ({x}, {y}): tree gives NaN, program {b}"));
+            }
+        } else if a.is_finite() {
+            if !close(a, b, 1e-12) {
+                return Err(format!("{e} at ({x}, {y}): tree {a} vs program {b}"));
+            }
+            checked += 1;
+        }
+    }
+    Ok(checked)
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 200, ..ProptestConfig::default() })]
+
+    #[test]
+    fn derivative_matches_finite_differences(e in formula()) {
+        check_derivative(&e).map_err(TestCaseError::fail)?;
+    }
+
+    #[test]
+    fn print_parse_round_trip_keeps_values(e in formula()) {
+        check_round_trip(&e).map_err(TestCaseError::fail)?;
+        check_round_trip(&e.simplify()).map_err(TestCaseError::fail)?;
+    }
+
+    #[test]
+    fn simplify_keeps_values(e in formula()) {
+        check_simplify(&e).map_err(TestCaseError::fail)?;
+    }
+
+    #[test]
+    fn program_matches_tree_walk(e in formula()) {
+        check_program(&e).map_err(TestCaseError::fail)?;
+        check_program(&e.diff("x")).map_err(TestCaseError::fail)?;
+    }
+}
+
+/// The same checks on fixed formulas, asserting that points were checked
+/// (so the skipping rules cannot silently make the properties vacuous).
+#[test]
+fn checks_run_on_fixed_formulas() {
+    let srcs = [
+        "x^3*y - sin(x)/x",
+        "atan2(y, x) * exp(-x^2) + log10(x + y)",
+        "if(x < 1, x^2, 2*x - 1) + abs(x - y) + min(x, y)*max(x, 2*y)",
+        "(x/y)^(-1.5) + sqrt(x)^2 + x^y + asin(x/2) + acos(x/3)",
+        "tanh(x) + cosh(x)/sinh(y) + tan(x/2) - atan(x*y)",
+        // Rewrites that are only valid for positive bases must not happen.
+        "((x - 1)^2)^0.5 + (x^2*y^2)^1.5 + (x*y)^0.5 + ((x + y)^4)^0.25",
+    ];
+    for s in srcs {
+        let e = parse(s).unwrap();
+        assert!(check_derivative(&e).unwrap() >= 4, "{s}");
+        assert!(check_round_trip(&e).unwrap() >= 4, "{s}");
+        assert!(check_simplify(&e).unwrap() >= 4, "{s}");
+        assert!(check_program(&e).unwrap() >= 4, "{s}");
+    }
+}
+
+/// The derivative check catches a wrong derivative (guards the tolerance).
+#[test]
+fn finite_differences_would_catch_an_error() {
+    let e = parse("x^3").unwrap();
+    let wrong = parse("3*x^2 + 1e-3").unwrap();
+    let (x, h) = (0.8_f64, 1e-5);
+    let fd = (at(&e, x + h, 0.0) - at(&e, x - h, 0.0)) / (2.0 * h);
+    assert!((at(&wrong, x, 0.0) - fd).abs() > 1e-5 * (1.0 + fd.abs()));
+}
