@@ -7,7 +7,7 @@
 
 use super::ClosureError;
 use crate::background::Shape;
-use crate::formula::{Expr, Func};
+use crate::formula::Expr;
 use crate::model::{Model, Unknown};
 
 /// The formulas a closure evaluates, in the background coordinate.
@@ -93,7 +93,8 @@ impl Laws {
                 refuse(&m.rotation, "rotation", &why)?;
                 let p = (rho.clone() * c2).simplify();
                 let p_r = p.diff(s);
-                let v2 = (r.clone() * (phi_s.clone() + p_r.clone() / rho.clone())).simplify();
+                let grad = p_r.distribute(&(Expr::num(1.0) / rho.clone()));
+                let v2 = (phi_s.clone() + grad).distribute(&r);
                 derived.push(DerivedLaw {
                     name: "P".into(),
                     expr: p.clone(),
@@ -123,7 +124,8 @@ impl Laws {
                 refuse(&m.density, "density", &why)?;
                 let v2 = (v.clone() * v).simplify();
                 let c2_r = c2.diff(s);
-                let f = ((v2.clone() / r.clone() - phi_s.clone() - c2_r.clone()) / c2).simplify();
+                let f = (v2.clone() / r.clone() - phi_s.clone() - c2_r.clone())
+                    .distribute(&(Expr::num(1.0) / c2));
                 derived.push(DerivedLaw {
                     name: format!("dc^2/d{s}"),
                     expr: c2_r,
@@ -142,7 +144,7 @@ impl Laws {
                 let rho = need(&m.density, "density", &why)?;
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let v2 = (v.clone() * v).simplify();
-                let f = (rho.clone() * (v2.clone() / r.clone() - phi_s.clone())).simplify();
+                let f = (v2.clone() / r.clone() - phi_s.clone()).distribute(&rho);
                 derived.push(DerivedLaw {
                     name: format!("dP/d{s}"),
                     expr: f.clone(),
@@ -217,7 +219,7 @@ impl Laws {
         let rho = self.density.clone()?;
         let p = self.pressure.clone()?;
         let phi_s = self.potential.diff(s);
-        let grad = (p.diff(s) / rho).simplify();
+        let grad = p.diff(s).distribute(&(Expr::num(1.0) / rho));
         if m.shape == Shape::DiskMidplane {
             let cen = (self.rotation_sq.clone()? / Expr::name(s)).simplify();
             let res = (cen.clone() - phi_s.clone() - grad.clone()).simplify();
@@ -253,9 +255,4 @@ fn shape_word(s: Shape) -> &'static str {
         Shape::Spherical => "sphere",
         _ => "disk",
     }
-}
-
-#[allow(dead_code)]
-fn sqrt(e: Expr) -> Expr {
-    Expr::call(Func::Sqrt, vec![e])
 }

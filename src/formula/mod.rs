@@ -192,6 +192,21 @@ impl Expr {
     pub fn substitute(&self, map: &BTreeMap<String, Expr>) -> Expr {
         expr::substitute(self, map).simplify()
     }
+    /// `factor × self` with the product distributed over the terms of a
+    /// sum, each term simplified on its own, so that factors cancel term by
+    /// term: `R*(a + b/rho)` becomes `R*a + R*b/rho`.
+    pub fn distribute(&self, factor: &Expr) -> Expr {
+        match self.simplify() {
+            Expr::Add(terms) => Expr::Add(
+                terms
+                    .into_iter()
+                    .map(|t| (factor.clone() * t).simplify())
+                    .collect(),
+            )
+            .simplify(),
+            other => (factor.clone() * other).simplify(),
+        }
+    }
     /// The names the formula uses (built-in constants such as `pi` excluded).
     pub fn names(&self) -> BTreeSet<String> {
         let mut out = BTreeSet::new();

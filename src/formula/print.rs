@@ -325,7 +325,14 @@ fn lpiece(e: &Expr) -> (String, u8) {
                 let d = latex(&super::simplify::pow((**b).clone(), Expr::Num(v)));
                 return (format!("\\frac{{1}}{{{d}}}"), ATOM);
             }
-            let base = lwrap(lpiece(b), ATOM);
+            // A fraction or root is an atom inside a product, but as the base
+            // of a power it needs parentheses: (R/R_0)^{-p}, not R/R_0^{-p}.
+            let piece = lpiece(b);
+            let base = if piece.0.starts_with("\\frac") || piece.0.starts_with("\\sqrt") {
+                format!("\\left({}\\right)", piece.0)
+            } else {
+                lwrap(piece, ATOM)
+            };
             (format!("{base}^{{{}}}", latex(x)), POWER)
         }
         Expr::Call(Func::Sqrt, a) => (format!("\\sqrt{{{}}}", latex(&a[0])), ATOM),
@@ -418,6 +425,8 @@ mod tests {
     fn latex_forms() {
         let l = |s: &str| latex(&parse(s).unwrap());
         assert_eq!(l("rho0/R_in"), "\\frac{\\rho_{0}}{R_{in}}");
+        assert_eq!(l("(R/R0)^(-p)"), "\\left(\\frac{R}{R_{0}}\\right)^{-p}");
+        assert_eq!(l("sqrt(x)^3"), "\\left(\\sqrt{x}\\right)^{3}");
         assert_eq!(l("sqrt(phi) * pi"), "\\sqrt{\\phi} \\, \\pi");
         assert_eq!(
             l("Omega_K + k_B + Mdot"),

@@ -335,7 +335,7 @@ pub fn from_text(
         }),
         (None, Some(t)) => {
             let node = t.node();
-            let (Some(k), Some(m)) = (units.constants().k_b, units.constants().m_u) else {
+            if !units.is_physical() {
                 return Err(node.error(
                     "a temperature needs physical units (units: si, cgs or astro); in code units give gas.sound_speed_sq",
                 ));
@@ -348,7 +348,10 @@ pub fn from_text(
                 ));
             };
             let t_expr = node.formula(&law_names)?;
-            let expr = (Expr::num(k / (mu * m)) * t_expr).simplify();
+            // c² = k_B T / (μ m_u), with k_B and m_u kept as names so that
+            // derived laws print readably; they are built-ins of the units.
+            let expr =
+                (Expr::name("k_B") * t_expr / (Expr::num(mu) * Expr::name("m_u"))).simplify();
             Some(Law {
                 expr,
                 origin: node.path(),
