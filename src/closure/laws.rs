@@ -40,6 +40,16 @@ pub struct DerivedLaw {
     pub note: String,
 }
 
+impl DerivedLaw {
+    fn new(name: impl Into<String>, expr: Expr, note: impl Into<String>) -> DerivedLaw {
+        DerivedLaw {
+            name: name.into(),
+            expr,
+            note: note.into(),
+        }
+    }
+}
+
 fn need(law: &Option<crate::model::Law>, key: &str, why: &str) -> Result<Expr, ClosureError> {
     law.as_ref()
         .map(|l| l.expr.clone())
@@ -62,11 +72,11 @@ impl Laws {
         let s = m.coordinate();
         let phi = m.potential.expr.clone();
         let phi_s = phi.diff(s);
-        let mut derived = vec![DerivedLaw {
-            name: format!("dPhi/d{s}"),
-            expr: phi_s.clone(),
-            note: "derivative of the potential".into(),
-        }];
+        let mut derived = vec![DerivedLaw::new(
+            format!("dPhi/d{s}"),
+            phi_s.clone(),
+            "derivative of the potential",
+        )];
         let mut laws = Laws {
             potential: phi,
             density: None,
@@ -95,21 +105,13 @@ impl Laws {
                 let p_r = p.diff(s);
                 let grad = p_r.distribute(&(Expr::num(1.0) / rho.clone()));
                 let v2 = (phi_s.clone() + grad).distribute(&r);
-                derived.push(DerivedLaw {
-                    name: "P".into(),
-                    expr: p.clone(),
-                    note: "P = rho c^2".into(),
-                });
-                derived.push(DerivedLaw {
-                    name: format!("dP/d{s}"),
-                    expr: p_r,
-                    note: "exact derivative".into(),
-                });
-                derived.push(DerivedLaw {
-                    name: "v_phi^2".into(),
-                    expr: v2.clone(),
-                    note: format!("v_phi^2 = {s} (dPhi/d{s} + (1/rho) dP/d{s})"),
-                });
+                derived.push(DerivedLaw::new("P", p.clone(), "P = rho c^2"));
+                derived.push(DerivedLaw::new(format!("dP/d{s}"), p_r, "exact derivative"));
+                derived.push(DerivedLaw::new(
+                    "v_phi^2",
+                    v2.clone(),
+                    format!("v_phi^2 = {s} (dPhi/d{s} + (1/rho) dP/d{s})"),
+                ));
                 laws.density = Some(rho);
                 laws.pressure = Some(p);
                 laws.rotation_sq = Some(v2);
@@ -126,16 +128,16 @@ impl Laws {
                 let c2_r = c2.diff(s);
                 let f = (v2.clone() / r.clone() - phi_s.clone() - c2_r.clone())
                     .distribute(&(Expr::num(1.0) / c2));
-                derived.push(DerivedLaw {
-                    name: format!("dc^2/d{s}"),
-                    expr: c2_r,
-                    note: "exact derivative".into(),
-                });
-                derived.push(DerivedLaw {
-                    name: format!("d ln(rho)/d{s}"),
-                    expr: f.clone(),
-                    note: "integrated from the anchor (double-exponential rule)".into(),
-                });
+                derived.push(DerivedLaw::new(
+                    format!("dc^2/d{s}"),
+                    c2_r,
+                    "exact derivative",
+                ));
+                derived.push(DerivedLaw::new(
+                    format!("d ln(rho)/d{s}"),
+                    f.clone(),
+                    "integrated from the anchor (double-exponential rule)",
+                ));
                 laws.rotation_sq = Some(v2);
                 laws.integrand = Some(f);
             }
@@ -145,11 +147,11 @@ impl Laws {
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let v2 = (v.clone() * v).simplify();
                 let f = (v2.clone() / r.clone() - phi_s.clone()).distribute(&rho);
-                derived.push(DerivedLaw {
-                    name: format!("dP/d{s}"),
-                    expr: f.clone(),
-                    note: "integrated from the anchor (double-exponential rule)".into(),
-                });
+                derived.push(DerivedLaw::new(
+                    format!("dP/d{s}"),
+                    f.clone(),
+                    "integrated from the anchor (double-exponential rule)",
+                ));
                 laws.density = Some(rho);
                 laws.rotation_sq = Some(v2);
                 laws.integrand = Some(f);
@@ -162,23 +164,22 @@ impl Laws {
                 )?;
                 refuse(&m.density, "density", &why)?;
                 let f = (-(phi_s.clone() / c2)).simplify();
-                derived.push(DerivedLaw {
-                    name: format!("d ln(P)/d{s}"),
-                    expr: f.clone(),
-                    note: "integrated from the anchor (double-exponential rule); rho = P/c^2"
-                        .into(),
-                });
+                derived.push(DerivedLaw::new(
+                    format!("d ln(P)/d{s}"),
+                    f.clone(),
+                    "integrated from the anchor (double-exponential rule); rho = P/c^2",
+                ));
                 laws.integrand = Some(f);
             }
             (false, Unknown::Pressure) => {
                 let rho = need(&m.density, "density", &why)?;
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let f = (-(rho.clone() * phi_s.clone())).simplify();
-                derived.push(DerivedLaw {
-                    name: format!("dP/d{s}"),
-                    expr: f.clone(),
-                    note: "integrated from the anchor (double-exponential rule)".into(),
-                });
+                derived.push(DerivedLaw::new(
+                    format!("dP/d{s}"),
+                    f.clone(),
+                    "integrated from the anchor (double-exponential rule)",
+                ));
                 laws.density = Some(rho);
                 laws.integrand = Some(f);
             }
