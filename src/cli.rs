@@ -53,7 +53,7 @@ pub enum Command {
         #[command(flatten)]
         common: Common,
         /// Largest relative residual accepted.
-        #[arg(long, value_name = "T", default_value_t = 1e-10)]
+        #[arg(long, value_name = "T", default_value = "1e-10")]
         tolerance: f64,
     },
     /// Print the background along its coordinate (rotation curve for disks).
@@ -63,11 +63,14 @@ pub enum Command {
     Table {
         #[command(flatten)]
         common: Common,
-        /// Number of evenly spaced points over the grid's range.
-        #[arg(long, value_name = "N", conflicts_with = "at")]
-        points: Option<usize>,
-        /// Comma-separated coordinates (numbers or formulas of parameters).
-        #[arg(long, value_name = "LIST")]
+        /// Number of evenly spaced points over the grid's range, both ends
+        /// included (at least 2; default 11).
+        #[arg(long, value_name = "N", conflicts_with = "at",
+              value_parser = clap::value_parser!(u32).range(2..))]
+        points: Option<u32>,
+        /// Comma-separated coordinates (numbers or formulas of parameters;
+        /// negative values are accepted, e.g. `--at -1,0,1`).
+        #[arg(long, value_name = "LIST", allow_hyphen_values = true)]
         at: Option<String>,
         /// Print CSV instead of aligned text.
         #[arg(long)]
@@ -154,7 +157,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             let xs = match at {
                 Some(list) => parse_list(&loaded, &list)?,
                 None => {
-                    let n = points.unwrap_or(11).max(2);
+                    let n = points.unwrap_or(11) as usize;
                     (0..n)
                         .map(|i| domain.lo + (domain.hi - domain.lo) * i as f64 / (n - 1) as f64)
                         .collect()
@@ -175,11 +178,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 error,
             })?;
             let show = |e: &crate::formula::Expr| if latex { e.to_latex() } else { e.to_string() };
-            let shape = match m.shape {
-                crate::background::Shape::Slab => "slab",
-                crate::background::Shape::Spherical => "sphere",
-                _ => "disk midplane",
-            };
+            let shape = pipeline::balance_description(m);
             println!(
                 "{} ({}): {shape} balance, solved for {}",
                 m.name,

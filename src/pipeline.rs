@@ -121,10 +121,7 @@ pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
         units: loaded.model.units,
         cautions: cautions(loaded, &bg, &domain),
         extra: vec![
-            (
-                "balance".into(),
-                format!("{:?}", loaded.model.shape).to_lowercase(),
-            ),
+            ("balance".into(), balance_description(&loaded.model).into()),
             ("solved_for".into(), loaded.model.unknown.key().into()),
             ("gamma".into(), format!("{}", loaded.model.gamma)),
         ],
@@ -186,6 +183,17 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
         }
     }
     out
+}
+
+/// The balance in words, as `derive` prints it and files record it:
+/// `slab`, `sphere`, `disk midplane` or `vertically integrated disk` (where
+/// the density is a surface density and the pressure is integrated in z).
+pub fn balance_description(m: &crate::model::Model) -> &'static str {
+    match m.shape {
+        Shape::DiskMidplane if m.vertically_integrated => "vertically integrated disk",
+        Shape::DiskMidplane => "disk midplane",
+        other => shape_key(other),
+    }
 }
 
 /// The profile key of a balance shape.
