@@ -449,3 +449,34 @@ fn issue2_vertically_integrated_disk_is_named_so() {
     let b: hdf5::types::VarLenUnicode = f.attr("balance").unwrap().read_scalar().unwrap();
     assert_eq!(b.as_str(), "vertically integrated disk");
 }
+
+#[test]
+fn issue2_building_an_unbalanced_audit_carries_a_caution() {
+    // ρ = e^(−z/(1.01 H)) with c² = g H: the hydrostatic residual is
+    // g (1 − 1/1.01) ≈ 9.9e-3 of g everywhere (closed form of the slab).
+    let d = tmp();
+    let p = GOOD
+        .replace(
+            "\"solve_for\": \"density\"",
+            "\"solve_for\": \"nothing\", \"density\": \"exp(-z/(1.01*H))\"",
+        )
+        .replace(
+            ",\n    \"anchor\": { \"at\": 0, \"value\": \"P_base\" }",
+            "",
+        );
+    assert!(p.contains("nothing") && !p.contains("anchor"), "{p}");
+    std::fs::write(d.path().join("p.json"), p).unwrap();
+    let o = stillpoint(d.path(), &["build", "p.json", "-o", "a.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    assert!(
+        text(&o).contains("caution: the given laws are not an equilibrium"),
+        "{}",
+        text(&o)
+    );
+    assert!(text(&o).contains("9.90"), "{}", text(&o));
+    let f = hdf5::File::open(d.path().join("a.h5")).unwrap();
+    let c: hdf5::types::VarLenUnicode = f.attr("cautions").unwrap().read_scalar().unwrap();
+    assert!(c.as_str().contains("not an equilibrium"), "{}", c.as_str());
+    let o = stillpoint(d.path(), &["check", "p.json"]);
+    assert_eq!(o.status.code(), Some(1), "{}", text(&o));
+}
