@@ -25,6 +25,9 @@ use crate::formula::Program;
 use crate::model::Model;
 use crate::sample::gauss::GaussLegendre;
 
+/// The largest relative residual accepted by default (`check --tolerance`).
+pub const DEFAULT_TOLERANCE: f64 = 1e-10;
+
 /// How the balance holds.
 #[derive(Clone, Debug, PartialEq)]
 pub enum Verdict {

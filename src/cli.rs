@@ -15,6 +15,33 @@ use crate::pipeline::{self, Error};
 use crate::profile::{self, bundled, Loaded};
 use crate::table;
 
+/// Print a line on stdout. A closed pipe (`stillpoint table … | head -3`)
+/// ends the process quietly instead of panicking.
+macro_rules! say {
+    ($($t:tt)*) => {{
+        use std::io::Write;
+        let mut out = std::io::stdout().lock();
+        if let Err(e) = writeln!(out, $($t)*) {
+            if e.kind() == std::io::ErrorKind::BrokenPipe {
+                std::process::exit(0);
+            }
+        }
+    }};
+}
+
+/// [`say!`] without the newline.
+macro_rules! say_raw {
+    ($($t:tt)*) => {{
+        use std::io::Write;
+        let mut out = std::io::stdout().lock();
+        if let Err(e) = write!(out, $($t)*) {
+            if e.kind() == std::io::ErrorKind::BrokenPipe {
+                std::process::exit(0);
+            }
+        }
+    }};
+}
+
 /// stillpoint: exact equilibrium states and initial conditions for
 /// gas-dynamics simulations.
 #[derive(Debug, Parser)]
@@ -53,7 +80,7 @@ pub enum Command {
         #[command(flatten)]
         common: Common,
         /// Largest relative residual accepted.
-        #[arg(long, value_name = "T", default_value_t = 1e-10)]
+        #[arg(long, value_name = "T", default_value = "1e-10")]
         tolerance: f64,
     },
     /// Print the background along its coordinate (rotation curve for disks).
@@ -63,11 +90,14 @@ pub enum Command {
     Table {
         #[command(flatten)]
         common: Common,
-        /// Number of evenly spaced points over the grid's range.
-        #[arg(long, value_name = "N", conflicts_with = "at")]
-        points: Option<usize>,
-        /// Comma-separated coordinates (numbers or formulas of parameters).
-        #[arg(long, value_name = "LIST")]
+        /// Number of evenly spaced points over the grid's range, both ends
+        /// included (at least 2; default 11).
+        #[arg(long, value_name = "N", conflicts_with = "at",
+              value_parser = clap::value_parser!(u32).range(2..))]
+        points: Option<u32>,
+        /// Comma-separated coordinates (numbers or formulas of parameters;
+        /// negative values are accepted, e.g. `--at -1,0,1`).
+        #[arg(long, value_name = "LIST", allow_hyphen_values = true)]
         at: Option<String>,
         /// Print CSV instead of aligned text.
         #[arg(long)]
@@ -132,10 +162,10 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                         error,
                     }
                 })?;
-            println!("{} ({})", loaded.model.name, loaded.source);
-            println!("{report}");
+            say!("{} ({})", loaded.model.name, loaded.source);
+            say!("{report}");
             for c in pipeline::cautions(&loaded, &bg, &domain) {
-                println!("caution: {c}");
+                say!("caution: {c}");
             }
             Ok(if report.passed() {
                 Outcome::Ok
@@ -154,7 +184,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             let xs = match at {
                 Some(list) => parse_list(&loaded, &list)?,
                 None => {
-                    let n = points.unwrap_or(11).max(2);
+                    let n = points.unwrap_or(11) as usize;
                     (0..n)
                         .map(|i| domain.lo + (domain.hi - domain.lo) * i as f64 / (n - 1) as f64)
                         .collect()
@@ -164,7 +194,14 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 source_label: loaded.source.clone(),
                 error,
             })?;
-            print!("{}", if csv { t.to_csv() } else { t.to_text() });
+            say_raw!("{}", if csv { t.to_csv() } else { t.to_text() });
+            let s = loaded.model.coordinate();
+            for x in xs.iter().filter(|x| **x < domain.lo || **x > domain.hi) {
+                eprintln!(
+                    "caution: {s} = {x} lies outside the grid [{}, {}]: the laws are extrapolated there",
+                    domain.lo, domain.hi
+                );
+            }
             Ok(Outcome::Ok)
         }
         Command::Derive { common, latex } => {
@@ -175,19 +212,15 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 error,
             })?;
             let show = |e: &crate::formula::Expr| if latex { e.to_latex() } else { e.to_string() };
-            let shape = match m.shape {
-                crate::background::Shape::Slab => "slab",
-                crate::background::Shape::Spherical => "sphere",
-                _ => "disk midplane",
-            };
-            println!(
+            let shape = pipeline::balance_description(m);
+            say!(
                 "{} ({}): {shape} balance, solved for {}",
                 m.name,
                 loaded.source,
                 m.unknown.key()
             );
-            println!("given");
-            println!("  Phi = {}", show(&m.potential.expr));
+            say!("given");
+            say!("  Phi = {}", show(&m.potential.expr));
             for (n, l) in [
                 ("rho", &m.density),
                 ("c^2", &m.sound_speed_sq),
@@ -195,19 +228,19 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 ("P", &m.pressure),
             ] {
                 if let Some(l) = l {
-                    println!("  {n} = {}", show(&l.expr));
+                    say!("  {n} = {}", show(&l.expr));
                 }
             }
-            println!("derived");
+            say!("derived");
             for d in laws {
-                println!("  {} = {}", d.name, show(&d.expr));
-                println!("      ({})", d.note);
+                say!("  {} = {}", d.name, show(&d.expr));
+                say!("      ({})", d.note);
             }
             Ok(Outcome::Ok)
         }
         Command::Profiles => {
             for (name, text) in bundled::BUNDLED {
-                println!("{name:<24} {}", bundled::about(text));
+                say!("{name:<24} {}", bundled::about(text));
             }
             Ok(Outcome::Ok)
         }
@@ -219,7 +252,7 @@ fn parse_list(loaded: &Loaded, list: &str) -> Result<Vec<f64>, Error> {
         .map(|item| {
             let item = item.trim();
             let e = profile::formula_for(&loaded.model, item)
-                .map_err(|e| Error::Usage(format!("--at: {e}\n{}", e.render(item))))?;
+                .map_err(|e| Error::Usage(format!("--at: {}", e.render(item))))?;
             e.eval(&|n| loaded.model.lookup(n))
                 .map_err(|e| Error::Usage(format!("--at: {e}")))
         })
@@ -271,7 +304,7 @@ fn build(
 
 fn report_written(loaded: &Loaded, h5: &Path, csv: Option<&Path>, cautions: &[String]) {
     let shape: Vec<String> = loaded.grid.shape().iter().map(|n| n.to_string()).collect();
-    println!(
+    say!(
         "{}: {} cells ({}), {}",
         loaded.model.name,
         shape.join(" x "),
@@ -284,11 +317,11 @@ fn report_written(loaded: &Loaded, h5: &Path, csv: Option<&Path>, cautions: &[St
             .join(", "),
         loaded.sampling.describe(&loaded.grid)
     );
-    println!("wrote {}", h5.display());
+    say!("wrote {}", h5.display());
     if let Some(c) = csv {
-        println!("wrote {}", c.display());
+        say!("wrote {}", c.display());
     }
     for c in cautions {
-        println!("caution: {c}");
+        say!("caution: {c}");
     }
 }

@@ -119,12 +119,13 @@ pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
         command_line: command_line.to_string(),
         generator: format!("stillpoint {}", env!("CARGO_PKG_VERSION")),
         units: loaded.model.units,
-        cautions: cautions(loaded, &bg, &domain),
+        cautions: {
+            let mut c = cautions(loaded, &bg, &domain);
+            c.extend(audit_caution(loaded, &bg, &domain));
+            c
+        },
         extra: vec![
-            (
-                "balance".into(),
-                format!("{:?}", loaded.model.shape).to_lowercase(),
-            ),
+            ("balance".into(), balance_description(&loaded.model).into()),
             ("solved_for".into(), loaded.model.unknown.key().into()),
             ("gamma".into(), format!("{}", loaded.model.gamma)),
         ],
@@ -186,6 +187,39 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
         }
     }
     out
+}
+
+/// The balance in words, as `derive` prints it and files record it:
+/// `slab`, `sphere`, `disk midplane` or `vertically integrated disk` (where
+/// the density is a surface density and the pressure is integrated in z).
+pub fn balance_description(m: &crate::model::Model) -> &'static str {
+    match m.shape {
+        Shape::DiskMidplane if m.vertically_integrated => "vertically integrated disk",
+        Shape::DiskMidplane => "disk midplane",
+        other => shape_key(other),
+    }
+}
+
+/// For an audit (`solve_for: nothing`) whose laws do not balance, the caution
+/// a built file must carry: nothing was solved, so nothing else says that
+/// the state will move. `check` reports the same imbalance as its verdict.
+fn audit_caution(loaded: &Loaded, bg: &Solved, domain: &Domain) -> Option<String> {
+    let m = &loaded.model;
+    if m.unknown != crate::model::Unknown::Nothing {
+        return None;
+    }
+    let centres = centres_for(&loaded.grid);
+    let report =
+        crate::check::run(m, bg, domain, &centres, crate::check::DEFAULT_TOLERANCE).ok()?;
+    match report.verdict {
+        crate::check::Verdict::NotEquilibrium { max, at } => Some(format!(
+            "the given laws are not an equilibrium (balance.solve_for is nothing): the largest \
+             relative residual is {max:.3e} at {} = {at:.6}; the state will move from the first \
+             step (run `stillpoint check` for details)",
+            m.coordinate()
+        )),
+        _ => None,
+    }
 }
 
 /// The profile key of a balance shape.

@@ -87,12 +87,13 @@ pub fn tabulate(model: &Model, bg: &dyn Background, at: &[f64]) -> Result<Table,
 }
 
 impl Table {
-    /// Aligned text with a header of names and a line of units.
+    /// Aligned text with a header of names and a line of units; values that
+    /// are not finite (v_φ/v_K without gravity, Ω on the axis) print as `-`.
     pub fn to_text(&self) -> String {
         let cells: Vec<Vec<String>> = self
             .rows
             .iter()
-            .map(|r| r.iter().map(|v| format!("{v:.6e}")).collect())
+            .map(|r| r.iter().map(|v| number(*v)).collect())
             .collect();
         let units: Vec<String> = self.units.iter().map(|u| format!("[{u}]")).collect();
         let width: Vec<usize> = (0..self.names.len())
@@ -136,5 +137,13 @@ impl Table {
             out.push('\n');
         }
         out
+    }
+}
+
+fn number(v: f64) -> String {
+    if v.is_finite() {
+        format!("{v:.6e}")
+    } else {
+        "-".to_string()
     }
 }

@@ -101,7 +101,7 @@ fn bad_build(profile: &str, extra: &[&str]) -> String {
     let mut args = vec!["build", "p.json", "-o", "out.h5"];
     args.extend(extra);
     let o = stillpoint(d.path(), &args);
-    assert!(!o.status.success(), "expected failure: {}", text(&o));
+    assert_eq!(o.status.code(), Some(2), "expected an error: {}", text(&o));
     assert!(
         !d.path().join("out.h5").exists(),
         "no output file on failure"
@@ -312,4 +312,171 @@ fn issue2_edges_from_file_and_single_precision_caution() {
         text(&o)
     );
     assert!(!d.path().join("f.h5").exists());
+}
+
+const DISK: &str = include_str!("../profiles/powerlaw-disk.json");
+const TAPERED: &str = include_str!("../profiles/tapered-disk-cartesian.json");
+
+#[test]
+fn issue2_reversed_range_names_from_and_to() {
+    let t = bad_build(&GOOD.replace("\"from\": 0,", "\"from\": 9,"), &[]);
+    assert!(
+        t.contains("grid.z") && t.contains("`to` (8) must exceed `from` (9)"),
+        "{t}"
+    );
+}
+
+#[test]
+fn issue2_edges_with_cells_is_refused() {
+    let p = GOOD.replace(
+        "\"z\": { \"from\": 0, \"to\": \"8*H\", \"cells\": 256 }",
+        "\"z\": { \"edges\": [0, 1, 2], \"cells\": 3 }",
+    );
+    assert_ne!(p, GOOD);
+    let t = bad_build(&p, &[]);
+    assert!(
+        t.contains("grid.z: `edges` and `cells` cannot both be given"),
+        "{t}"
+    );
+}
+
+#[test]
+fn issue2_missing_sound_speed_names_the_gas_key() {
+    let p = GOOD.replace(", \"sound_speed_sq\": \"cs2\"", "");
+    assert_ne!(p, GOOD);
+    let t = bad_build(&p, &[]);
+    assert!(
+        t.contains("gas.sound_speed_sq (or gas.temperature) is required"),
+        "{t}"
+    );
+    assert!(!t.contains("balance.sound_speed_sq"), "{t}");
+}
+
+#[test]
+fn issue2_negative_anchor_pressure_is_named() {
+    let p = include_str!("../profiles/steady-vortex.json")
+        .replace("\"P_center\": 1.0", "\"P_center\": -1.0");
+    let t = bad_build(&p, &[]);
+    assert!(
+        t.contains("balance.anchor.value: the pressure at the anchor must be positive, found -1"),
+        "{t}"
+    );
+}
+
+#[test]
+fn issue2_negative_density_is_reported_before_rotation() {
+    // Σ = 1 − R turns negative at R = 1 inside the grid (0.4 to 2.5): the
+    // message must blame the density, not the v_phi^2 it spoils.
+    let p = DISK.replace("\"sigma0*(R/R0)^(-p)\"", "\"1 - R\"");
+    assert_ne!(p, DISK);
+    let t = bad_build(&p, &[]);
+    assert!(t.contains("density ≤ 0") && t.contains("at R = 1"), "{t}");
+    assert!(!t.contains("v_phi^2"), "{t}");
+}
+
+#[test]
+fn issue2_unsoftened_point_mass_on_cartesian_grid_is_refused() {
+    let p = TAPERED.replace(", \"softening\": \"eps\"", "");
+    assert_ne!(p, TAPERED);
+    let t = bad_build(&p, &[]);
+    assert!(t.contains("the potential is singular at R = 0"), "{t}");
+    assert!(t.contains("gravity.softening"), "{t}");
+}
+
+#[test]
+fn issue2_derived_rotation_on_the_axis_is_zero() {
+    // 21 x 21 centred cells put a cell centre on R = 0, where the derived
+    // v_phi^2 = R (Φ_R + P_R/ρ) is written with terms in 1/R. A softened
+    // star and a regular disk rotate with v_phi → 0 there (regularity on
+    // the axis of an axisymmetric flow; no source needed beyond the limit).
+    let d = tmp();
+    let p = TAPERED.replace("\"cells\": 200", "\"cells\": 21").replace(
+        "{ \"rule\": \"average\", \"points\": 3 }",
+        "{ \"rule\": \"center\" }",
+    );
+    assert_ne!(p, TAPERED);
+    std::fs::write(d.path().join("p.json"), p).unwrap();
+    let o = stillpoint(d.path(), &["build", "p.json", "-o", "out.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let f = hdf5::File::open(d.path().join("out.h5")).unwrap();
+    let vx: Vec<f64> = f.dataset("state/velocity_x").unwrap().read_raw().unwrap();
+    let vy: Vec<f64> = f.dataset("state/velocity_y").unwrap().read_raw().unwrap();
+    assert!(vx.iter().chain(&vy).all(|v| v.is_finite()));
+    let centre = 10 * 21 + 10;
+    assert!(vx[centre].abs() < 1e-300 && vy[centre].abs() < 1e-300);
+}
+
+#[test]
+fn issue2_output_into_missing_folder_says_so() {
+    let d = tmp();
+    let o = stillpoint(d.path(), &["build", "quiet-slab", "-o", "absent/s.h5"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        text(&o).contains("the folder absent does not exist"),
+        "{}",
+        text(&o)
+    );
+    assert_eq!(std::fs::read_dir(d.path()).unwrap().count(), 0);
+}
+
+#[test]
+fn issue2_table_points_and_negative_at() {
+    let d = tmp();
+    for n in ["0", "1"] {
+        let o = stillpoint(d.path(), &["table", "quiet-slab", "--points", n]);
+        assert_eq!(o.status.code(), Some(2), "{}", text(&o));
+    }
+    let o = stillpoint(d.path(), &["table", "quiet-slab", "--at", "-1,0", "--csv"]);
+    assert!(o.status.success(), "{}", text(&o));
+    // Isothermal slab with g = c² = 1: ρ = e^(−z), so ρ(−1) = e (closed form).
+    let row = text(&o).lines().nth(1).unwrap().to_string();
+    let rho: f64 = row.split(',').nth(1).unwrap().parse().unwrap();
+    assert!((rho - std::f64::consts::E).abs() < 1e-12, "{row}");
+}
+
+#[test]
+fn issue2_vertically_integrated_disk_is_named_so() {
+    let d = tmp();
+    let o = stillpoint(d.path(), &["derive", "powerlaw-disk"]);
+    assert!(
+        text(&o).contains("vertically integrated disk balance"),
+        "{}",
+        text(&o)
+    );
+    let o = stillpoint(d.path(), &["build", "powerlaw-disk", "-o", "d.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let f = hdf5::File::open(d.path().join("d.h5")).unwrap();
+    let b: hdf5::types::VarLenUnicode = f.attr("balance").unwrap().read_scalar().unwrap();
+    assert_eq!(b.as_str(), "vertically integrated disk");
+}
+
+#[test]
+fn issue2_building_an_unbalanced_audit_carries_a_caution() {
+    // ρ = e^(−z/(1.01 H)) with c² = g H: the hydrostatic residual is
+    // g (1 − 1/1.01) ≈ 9.9e-3 of g everywhere (closed form of the slab).
+    let d = tmp();
+    let p = GOOD
+        .replace(
+            "\"solve_for\": \"density\"",
+            "\"solve_for\": \"nothing\", \"density\": \"exp(-z/(1.01*H))\"",
+        )
+        .replace(
+            ",\n    \"anchor\": { \"at\": 0, \"value\": \"P_base\" }",
+            "",
+        );
+    assert!(p.contains("nothing") && !p.contains("anchor"), "{p}");
+    std::fs::write(d.path().join("p.json"), p).unwrap();
+    let o = stillpoint(d.path(), &["build", "p.json", "-o", "a.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    assert!(
+        text(&o).contains("caution: the given laws are not an equilibrium"),
+        "{}",
+        text(&o)
+    );
+    assert!(text(&o).contains("9.90"), "{}", text(&o));
+    let f = hdf5::File::open(d.path().join("a.h5")).unwrap();
+    let c: hdf5::types::VarLenUnicode = f.attr("cautions").unwrap().read_scalar().unwrap();
+    assert!(c.as_str().contains("not an equilibrium"), "{}", c.as_str());
+    let o = stillpoint(d.path(), &["check", "p.json"]);
+    assert_eq!(o.status.code(), Some(1), "{}", text(&o));
 }

@@ -50,10 +50,12 @@ impl DerivedLaw {
     }
 }
 
+/// The law `key` (a full profile path such as `balance.density`) or an error
+/// saying that it is required and why.
 fn need(law: &Option<crate::model::Law>, key: &str, why: &str) -> Result<Expr, ClosureError> {
     law.as_ref()
         .map(|l| l.expr.clone())
-        .ok_or_else(|| ClosureError::Incomplete(format!("balance.{key} is required when {why}")))
+        .ok_or_else(|| ClosureError::Incomplete(format!("{key} is required when {why}")))
 }
 
 fn refuse(law: &Option<crate::model::Law>, key: &str, why: &str) -> Result<(), ClosureError> {
@@ -65,6 +67,9 @@ fn refuse(law: &Option<crate::model::Law>, key: &str, why: &str) -> Result<(), C
         None => Ok(()),
     }
 }
+
+/// Where a profile gives the sound speed.
+const SOUND_SPEED: &str = "gas.sound_speed_sq (or gas.temperature)";
 
 impl Laws {
     /// Build the formulas of the model's closure.
@@ -94,12 +99,8 @@ impl Laws {
         let why = format!("solving a {} for {}", shape_word(m.shape), m.unknown.key());
         match (disk, m.unknown) {
             (true, Unknown::Rotation) => {
-                let rho = need(&m.density, "density", &why)?;
-                let c2 = need(
-                    &m.sound_speed_sq,
-                    "sound_speed_sq (or gas.temperature)",
-                    &why,
-                )?;
+                let rho = need(&m.density, "balance.density", &why)?;
+                let c2 = need(&m.sound_speed_sq, SOUND_SPEED, &why)?;
                 refuse(&m.rotation, "rotation", &why)?;
                 let p = (rho.clone() * c2).simplify();
                 let p_r = p.diff(s);
@@ -117,12 +118,8 @@ impl Laws {
                 laws.rotation_sq = Some(v2);
             }
             (true, Unknown::Density) => {
-                let v = need(&m.rotation, "rotation", &why)?;
-                let c2 = need(
-                    &m.sound_speed_sq,
-                    "sound_speed_sq (or gas.temperature)",
-                    &why,
-                )?;
+                let v = need(&m.rotation, "balance.rotation", &why)?;
+                let c2 = need(&m.sound_speed_sq, SOUND_SPEED, &why)?;
                 refuse(&m.density, "density", &why)?;
                 let v2 = (v.clone() * v).simplify();
                 let c2_r = c2.diff(s);
@@ -142,8 +139,8 @@ impl Laws {
                 laws.integrand = Some(f);
             }
             (true, Unknown::Pressure) => {
-                let v = need(&m.rotation, "rotation", &why)?;
-                let rho = need(&m.density, "density", &why)?;
+                let v = need(&m.rotation, "balance.rotation", &why)?;
+                let rho = need(&m.density, "balance.density", &why)?;
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let v2 = (v.clone() * v).simplify();
                 let f = (v2.clone() / r.clone() - phi_s.clone()).distribute(&rho);
@@ -157,11 +154,7 @@ impl Laws {
                 laws.integrand = Some(f);
             }
             (false, Unknown::Density) => {
-                let c2 = need(
-                    &m.sound_speed_sq,
-                    "sound_speed_sq (or gas.temperature)",
-                    &why,
-                )?;
+                let c2 = need(&m.sound_speed_sq, SOUND_SPEED, &why)?;
                 refuse(&m.density, "density", &why)?;
                 let f = (-(phi_s.clone() / c2)).simplify();
                 derived.push(DerivedLaw::new(
@@ -172,7 +165,7 @@ impl Laws {
                 laws.integrand = Some(f);
             }
             (false, Unknown::Pressure) => {
-                let rho = need(&m.density, "density", &why)?;
+                let rho = need(&m.density, "balance.density", &why)?;
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let f = (-(rho.clone() * phi_s.clone())).simplify();
                 derived.push(DerivedLaw::new(
@@ -184,7 +177,7 @@ impl Laws {
                 laws.integrand = Some(f);
             }
             (_, Unknown::Nothing) => {
-                let rho = need(&m.density, "density", "auditing a set of laws")?;
+                let rho = need(&m.density, "balance.density", "auditing a set of laws")?;
                 let p = match (&m.pressure, &m.sound_speed_sq) {
                     (Some(p), None) => p.expr.clone(),
                     (None, Some(c2)) => (rho.clone() * c2.expr.clone()).simplify(),
@@ -197,7 +190,7 @@ impl Laws {
                     }
                 };
                 if disk {
-                    let v = need(&m.rotation, "rotation", "auditing a disk")?;
+                    let v = need(&m.rotation, "balance.rotation", "auditing a disk")?;
                     laws.rotation_sq = Some((v.clone() * v).simplify());
                 }
                 laws.density = Some(rho);

@@ -105,6 +105,20 @@ pub struct Solved {
     integral: Option<(Integrated, Cumulative, f64)>,
 }
 
+impl Solved {
+    /// v_φ² at `s`, or None when there is no rotation. On the axis of a disk
+    /// (R = 0) a derived law is often 0/0 — R times terms in 1/R, or a
+    /// derivative written u^n n u′/u — although its limit is finite; there
+    /// the flow of a regular axisymmetric state does not rotate, so a NaN on
+    /// the axis is the limit v_φ² = 0. (A potential singular on the axis is
+    /// refused before this matters, see `verify_existence`.)
+    fn rotation_sq_at(&self, s: f64) -> Option<f64> {
+        let v2 = self.rotation_sq.as_ref()?.eval(&[s]);
+        let on_axis = self.shape == Shape::DiskMidplane && s == 0.0;
+        Some(if on_axis && v2.is_nan() { 0.0 } else { v2 })
+    }
+}
+
 impl Background for Solved {
     fn shape(&self) -> Shape {
         self.shape
@@ -136,10 +150,7 @@ impl Background for Solved {
                 }
             }
         };
-        let rotation = match (&self.rotation_sq, self.shape) {
-            (Some(v2), _) => v2.eval(&[s]).sqrt(),
-            (None, _) => 0.0,
-        };
+        let rotation = self.rotation_sq_at(s).map_or(0.0, f64::sqrt);
         PointState {
             density,
             pressure,
@@ -185,9 +196,15 @@ pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
             (_, Unknown::Pressure) => Integrated::Pressure,
             _ => Integrated::LogPressure,
         };
-        if matches!(kind, Integrated::LogDensity | Integrated::LogPressure) && anchor.value <= 0.0 {
+        // ρ or P at the anchor is a physical density or pressure, whichever
+        // closure integrates from it.
+        if anchor.value.is_nan() || anchor.value <= 0.0 {
+            let what = match kind {
+                Integrated::LogDensity => "density",
+                Integrated::Pressure | Integrated::LogPressure => "pressure",
+            };
             return Err(ClosureError::NoEquilibrium(format!(
-                "balance.anchor.value must be positive, found {}",
+                "balance.anchor.value: the {what} at the anchor must be positive, found {}",
                 anchor.value
             )));
         }
@@ -217,8 +234,18 @@ pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
 /// v_φ² < 0 (an interval), density, pressure or c² not positive or not finite.
 fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), ClosureError> {
     let s = model.coordinate();
+    if domain.axis_at_lo && !bg.potential.eval(&[domain.lo]).is_finite() {
+        return Err(ClosureError::NoEquilibrium(format!(
+            "the potential is singular at {s} = {}, which the grid contains: soften the point \
+             mass (gravity.softening) or keep {s} = {} off the grid",
+            domain.lo, domain.lo
+        )));
+    }
     let pts = domain.scan_points();
-    if let Some(v2) = &bg.rotation_sq {
+    // The given laws first: a density, pressure or c² that is not positive
+    // is the cause, and a derived rotation law only its symptom.
+    verify_positive(s, bg, &pts)?;
+    if bg.rotation_sq.is_some() {
         let law = if model.unknown == Unknown::Rotation {
             "the derived rotation law"
         } else {
@@ -226,7 +253,7 @@ fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), C
         };
         let mut bad: Option<(f64, f64, f64, f64)> = None; // from, to, min value, where
         for &x in &pts {
-            let v = v2.eval(&[x]);
+            let v = bg.rotation_sq_at(x).unwrap_or(0.0);
             if v < 0.0 || v.is_nan() {
                 let b = bad.get_or_insert((x, x, v, x));
                 b.1 = x;
@@ -241,16 +268,37 @@ fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), C
         if let Some((a, b, v, at)) = bad {
             if v.is_nan() {
                 return Err(ClosureError::NoEquilibrium(format!(
-                    "{law} gives v_phi^2 that is not a number at {s} = {at}"
+                    "{law} gives v_phi^2 that is not a number at {s} = {}",
+                    show(at)
                 )));
             }
             return Err(ClosureError::NoEquilibrium(format!(
-                "{law} needs v_phi^2 < 0 between {s} = {a} and {s} = {b} (v_phi^2 = {v:.6e} at {s} = {at}): \
-                 gravity cannot hold the pressure gradient there"
+                "{law} needs v_phi^2 < 0 between {s} = {} and {s} = {} (v_phi^2 = {v:.6e} at {s} = {}): \
+                 gravity cannot hold the pressure gradient there",
+                show(a),
+                show(b),
+                show(at)
             )));
         }
     }
-    for &x in &pts {
+    Ok(())
+}
+
+/// A coordinate for a message: six significant digits, so that scan points
+/// such as 0.9979750000000001 read as 0.997975.
+fn show(x: f64) -> String {
+    let rounded: f64 = format!("{x:.5e}").parse().unwrap_or(x);
+    if rounded.abs() >= 1e-4 && rounded.abs() < 1e7 || rounded == 0.0 {
+        rounded.to_string()
+    } else {
+        format!("{rounded:e}")
+    }
+}
+
+/// Density, pressure and c² positive and finite, and the potential finite, at
+/// every scan point.
+fn verify_positive(s: &str, bg: &Solved, pts: &[f64]) -> Result<(), ClosureError> {
+    for &x in pts {
         let st = bg.at(x);
         let c2 = st.sound_speed_sq();
         for (name, v) in [
@@ -265,15 +313,32 @@ fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), C
                     "is not finite"
                 };
                 return Err(ClosureError::NoEquilibrium(format!(
-                    "{name} {what} ({v:e}) at {s} = {x}"
+                    "{name} {what} ({v:e}) at {s} = {}",
+                    show(x)
                 )));
             }
         }
         if !st.potential.is_finite() {
             return Err(ClosureError::NoEquilibrium(format!(
-                "the potential is not finite at {s} = {x}"
+                "the potential is not finite at {s} = {}",
+                show(x)
             )));
         }
     }
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::show;
+
+    #[test]
+    fn coordinates_in_messages_have_six_significant_digits() {
+        assert_eq!(show(0.997_975_000_000_000_1), "0.997975");
+        assert_eq!(show(1.778_125_000_000_000_2), "1.77813");
+        assert_eq!(show(2.5), "2.5");
+        assert_eq!(show(0.0), "0");
+        assert_eq!(show(1.414_213_562_373_095e-9), "1.41421e-9");
+        assert_eq!(show(-6.0e7), "-6e7");
+    }
 }

@@ -316,7 +316,14 @@ fn lpiece(e: &Expr) -> (String, u8) {
             if bottom.is_empty() {
                 (t, PRODUCT)
             } else {
-                (format!("\\frac{{{t}}}{{{}}}", join(&bottom)), ATOM)
+                // A lone factor above or below the bar needs no parentheses.
+                let lone = |v: &[Expr], joined: String| match v {
+                    [one] => latex(one),
+                    _ => joined,
+                };
+                let t = lone(&top, t);
+                let b = lone(&bottom, join(&bottom));
+                (format!("\\frac{{{t}}}{{{b}}}"), ATOM)
             }
         }
         Expr::Pow(b, x) => {
@@ -328,7 +335,7 @@ fn lpiece(e: &Expr) -> (String, u8) {
             // A fraction or root is an atom inside a product, but as the base
             // of a power it needs parentheses: (R/R_0)^{-p}, not R/R_0^{-p}.
             let piece = lpiece(b);
-            let base = if piece.0.starts_with("\\frac") || piece.0.starts_with("\\sqrt") {
+            let base = if ["\\frac", "\\sqrt", "\\begin"].iter().any(|p| piece.0.starts_with(p)) {
                 format!("\\left({}\\right)", piece.0)
             } else {
                 lwrap(piece, ATOM)

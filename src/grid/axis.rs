@@ -33,12 +33,23 @@ pub struct Axis {
     pub spacing: Spacing,
 }
 
+/// `from < to`, so that a reversed or empty range is reported as such rather
+/// than as edges that fail to increase.
+fn check_range(coord: Coord, from: f64, to: f64) -> Result<(), GridError> {
+    if from < to {
+        Ok(())
+    } else {
+        Err(GridError::EmptyRange { coord, from, to })
+    }
+}
+
 impl Axis {
     /// `cells` equal cells from `from` to `to`.
     pub fn uniform(coord: Coord, from: f64, to: f64, cells: usize) -> Result<Axis, GridError> {
         if cells == 0 {
             return Err(GridError::NoCells { coord });
         }
+        check_range(coord, from, to)?;
         let h = (to - from) / cells as f64;
         let mut edges: Vec<f64> = (0..=cells).map(|i| from + h * i as f64).collect();
         edges[cells] = to; // the last edge exactly as given
@@ -54,6 +65,7 @@ impl Axis {
         if from.is_nan() || from <= 0.0 {
             return Err(GridError::LogNonPositive { coord, from });
         }
+        check_range(coord, from, to)?;
         let step = (to / from).ln() / cells as f64;
         let mut edges: Vec<f64> = (0..=cells)
             .map(|i| from * (step * i as f64).exp())
@@ -190,6 +202,19 @@ mod tests {
             Err(GridError::NoCells { coord: Coord::Z })
         );
     }
+    #[test]
+    fn reversed_or_empty_ranges_name_from_and_to() {
+        for axis in [
+            Axis::uniform(Coord::Z, 9.0, 8.0, 4),
+            Axis::log(Coord::R, 2.0, 2.0, 4),
+        ] {
+            let e = axis.unwrap_err().to_string();
+            assert!(e.contains("must exceed `from`"), "{e}");
+        }
+        let e = Axis::uniform(Coord::Z, 9.0, 8.0, 4).unwrap_err();
+        assert_eq!(e.to_string(), "axis z: `to` (8) must exceed `from` (9)");
+    }
+
     #[test]
     fn explicit_edges_are_checked() {
         let e = Axis::explicit(Coord::Z, vec![0.0, 1.0, 2.0, 2.5, 2.5]).unwrap_err();

@@ -121,6 +121,16 @@ pub enum GridError {
         /// The value of the edge before it.
         previous: f64,
     },
+    /// A `from`/`to` range that is empty or reversed.
+    #[error("axis {coord}: `to` ({to}) must exceed `from` ({from})")]
+    EmptyRange {
+        /// The axis.
+        coord: Coord,
+        /// The start given.
+        from: f64,
+        /// The end given.
+        to: f64,
+    },
     /// A logarithmic axis that does not start above zero.
     #[error("axis {coord}: logarithmic spacing needs from > 0, got from = {from}")]
     LogNonPositive {

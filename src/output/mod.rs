@@ -201,6 +201,21 @@ pub fn commit(
             message: "not a file name".to_string(),
         });
     };
+    // Say plainly when the folder is missing, rather than let the writer
+    // fail on the temporary file's name.
+    let dir = path
+        .parent()
+        .filter(|d| !d.as_os_str().is_empty())
+        .unwrap_or(Path::new("."));
+    if !dir.is_dir() {
+        return Err(OutputError::Io {
+            path: path.to_path_buf(),
+            message: format!(
+                "the folder {} does not exist (create it first)",
+                dir.display()
+            ),
+        });
+    }
     let mut temp_name = std::ffi::OsString::from(".");
     temp_name.push(name);
     temp_name.push(format!(".partial-{}", std::process::id()));
@@ -335,6 +350,19 @@ pub(crate) mod tests {
             0,
             "no output, no temporary file"
         );
+    }
+
+    #[test]
+    fn missing_folder_is_named() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("absent").join("out.h5");
+        let e = commit(&path, false, text_writer("x")).unwrap_err();
+        assert!(
+            e.to_string()
+                .ends_with("absent does not exist (create it first)"),
+            "{e}"
+        );
+        assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 0);
     }
 
     #[test]

@@ -553,6 +553,22 @@ fn grid(
         };
         ax.only_keys(&["from", "to", "cells", "spacing", "edges", "edges_file"])?;
         let err = |e: crate::grid::GridError| ax.error(e.to_string());
+        // Explicit edges fix the cells themselves: any other way of choosing
+        // them alongside would be silently ignored, so refuse it.
+        let explicit = ["edges", "edges_file"]
+            .into_iter()
+            .find(|k| ax.child(k).is_some());
+        if let Some(given) = explicit {
+            let extra = ["edges", "edges_file", "from", "to", "cells", "spacing"]
+                .into_iter()
+                .find(|k| *k != given && ax.child(k).is_some());
+            if let Some(extra) = extra {
+                return Err(ax.error(format!(
+                    "`{given}` and `{extra}` cannot both be given: `{given}` sets the cells; \
+                     remove `{extra}`"
+                )));
+            }
+        }
         let axis = if let Some(e) = ax.child("edges") {
             let edges = e
                 .node()
