@@ -71,3 +71,42 @@ pub trait Background: Sync {
     /// Outside the domain the background was built for, fields may be NaN.
     fn at(&self, s: f64) -> PointState;
 }
+
+/// A background that remembers every state it has evaluated, keyed by the
+/// exact coordinate. Grids repeat coordinates (every φ of a polar ring, the
+/// mirror cells of a symmetric Cartesian box), so a background whose `at` is
+/// costly — an integrated closure runs a quadrature per call — is evaluated
+/// once per distinct coordinate.
+pub struct Memoized<'a> {
+    inner: &'a dyn Background,
+    cache: std::sync::Mutex<std::collections::HashMap<u64, PointState>>,
+}
+
+impl<'a> Memoized<'a> {
+    /// Wrap a background.
+    pub fn new(inner: &'a dyn Background) -> Memoized<'a> {
+        Memoized {
+            inner,
+            cache: Default::default(),
+        }
+    }
+}
+
+impl Background for Memoized<'_> {
+    fn shape(&self) -> Shape {
+        self.inner.shape()
+    }
+
+    fn at(&self, s: f64) -> PointState {
+        // +0.0 and −0.0 are the same point.
+        let key = if s == 0.0 { 0 } else { s.to_bits() };
+        if let Some(st) = self.cache.lock().ok().and_then(|c| c.get(&key).copied()) {
+            return st;
+        }
+        let st = self.inner.at(s);
+        if let Ok(mut c) = self.cache.lock() {
+            c.insert(key, st);
+        }
+        st
+    }
+}

@@ -5,7 +5,7 @@
 //! and sampler, the stability cautions, and assembling the metadata. Does
 //! not own: command-line parsing or file formats.
 
-use crate::background::{Background, Shape};
+use crate::background::{Background, Memoized, Shape};
 use crate::closure::{self, ClosureError, Domain, Solved};
 use crate::fields::FieldSet;
 use crate::grid::{Grid, Layout};
@@ -108,11 +108,18 @@ pub struct Built {
 /// Solve, sample and describe.
 pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
     let (bg, domain) = solve(loaded)?;
-    let background = sample::sample(&bg, &loaded.grid, &loaded.sampling, &gas_constants(loaded))
-        .map_err(|error| Error::Sample {
-            source_label: loaded.source.clone(),
-            error,
-        })?;
+    let memo = Memoized::new(&bg);
+    let source: &dyn Background = if bg.is_integrated() { &memo } else { &bg };
+    let background = sample::sample(
+        source,
+        &loaded.grid,
+        &loaded.sampling,
+        &gas_constants(loaded),
+    )
+    .map_err(|error| Error::Sample {
+        source_label: loaded.source.clone(),
+        error,
+    })?;
     let state = background.clone();
     let metadata = Metadata {
         profile_json: loaded.json_text.clone(),

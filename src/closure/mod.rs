@@ -119,6 +119,14 @@ impl Solved {
     }
 }
 
+impl Solved {
+    /// True when evaluating the background runs a quadrature (an integrated
+    /// closure), so that callers may want to memoize it.
+    pub fn is_integrated(&self) -> bool {
+        self.integral.is_some()
+    }
+}
+
 impl Background for Solved {
     fn shape(&self) -> Shape {
         self.shape
