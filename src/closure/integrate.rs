@@ -8,7 +8,7 @@
 
 use std::collections::BTreeSet;
 
-use crate::formula::{Cond, Expr, Func, Program};
+use crate::formula::{Cond, Expr, Func, Program, Visit};
 
 /// Accuracy requested from each double-exponential segment, relative to the
 /// segment's scale |b − a| max|f|. Measured with the `quadrature` crate's
@@ -150,40 +150,15 @@ pub fn breakpoints(
         .collect()
 }
 
+/// The differences whose sign switches a piecewise formula: the argument of
+/// `abs`, a − b of `min(a, b)` and `max(a, b)`, and a − b of each comparison.
 fn collect_switches(e: &Expr, out: &mut Vec<Expr>) {
-    match e {
-        Expr::Num(_) | Expr::Name(_) => {}
-        Expr::Add(v) | Expr::Mul(v) => v.iter().for_each(|x| collect_switches(x, out)),
-        Expr::Pow(a, b) => {
-            collect_switches(a, out);
-            collect_switches(b, out);
+    e.walk(&mut |v| match v {
+        Visit::Expr(Expr::Call(Func::Abs, a)) if a.len() == 1 => out.push(a[0].clone()),
+        Visit::Expr(Expr::Call(Func::Min | Func::Max, a)) if a.len() == 2 => {
+            out.push(a[0].clone() - a[1].clone())
         }
-        Expr::Call(f, args) => {
-            args.iter().for_each(|x| collect_switches(x, out));
-            match (f, args.as_slice()) {
-                (Func::Abs, [a]) => out.push(a.clone()),
-                (Func::Min | Func::Max, [a, b]) => out.push(a.clone() - b.clone()),
-                _ => {}
-            }
-        }
-        Expr::If(c, a, b) => {
-            collect_cond(c, out);
-            collect_switches(a, out);
-            collect_switches(b, out);
-        }
-    }
-}
-
-fn collect_cond(c: &Cond, out: &mut Vec<Expr>) {
-    match c {
-        Cond::Cmp(_, a, b) => {
-            collect_switches(a, out);
-            collect_switches(b, out);
-            out.push(a.clone() - b.clone());
-        }
-        Cond::And(x, y) | Cond::Or(x, y) => {
-            collect_cond(x, out);
-            collect_cond(y, out);
-        }
-    }
+        Visit::Cond(Cond::Cmp(_, a, b)) => out.push(a.clone() - b.clone()),
+        _ => {}
+    });
 }

@@ -119,41 +119,56 @@ pub(crate) fn compare_f64(op: CmpOp, a: f64, b: f64) -> bool {
     }
 }
 
-/// Collect the names used (built-in constants excluded).
-pub(crate) fn collect_names(e: &Expr, out: &mut BTreeSet<String>) {
+/// A node met while walking a formula: a sub-formula or a condition.
+#[derive(Clone, Copy, Debug)]
+pub enum Visit<'a> {
+    /// A sub-formula (the formula itself first).
+    Expr(&'a Expr),
+    /// A condition of an `if`.
+    Cond(&'a Cond),
+}
+
+/// Call `f` on every node of `e`, parents before children.
+pub(crate) fn walk<'a>(e: &'a Expr, f: &mut dyn FnMut(Visit<'a>)) {
+    f(Visit::Expr(e));
     match e {
-        Expr::Num(_) => {}
-        Expr::Name(n) => {
-            if !is_builtin_constant(n) {
-                out.insert(n.clone());
-            }
-        }
-        Expr::Add(v) | Expr::Mul(v) | Expr::Call(_, v) => {
-            v.iter().for_each(|x| collect_names(x, out));
-        }
+        Expr::Num(_) | Expr::Name(_) => {}
+        Expr::Add(v) | Expr::Mul(v) | Expr::Call(_, v) => v.iter().for_each(|x| walk(x, f)),
         Expr::Pow(a, b) => {
-            collect_names(a, out);
-            collect_names(b, out);
+            walk(a, f);
+            walk(b, f);
         }
         Expr::If(c, a, b) => {
-            collect_cond_names(c, out);
-            collect_names(a, out);
-            collect_names(b, out);
+            walk_cond(c, f);
+            walk(a, f);
+            walk(b, f);
         }
     }
 }
 
-fn collect_cond_names(c: &Cond, out: &mut BTreeSet<String>) {
+fn walk_cond<'a>(c: &'a Cond, f: &mut dyn FnMut(Visit<'a>)) {
+    f(Visit::Cond(c));
     match c {
         Cond::Cmp(_, a, b) => {
-            collect_names(a, out);
-            collect_names(b, out);
+            walk(a, f);
+            walk(b, f);
         }
         Cond::And(a, b) | Cond::Or(a, b) => {
-            collect_cond_names(a, out);
-            collect_cond_names(b, out);
+            walk_cond(a, f);
+            walk_cond(b, f);
         }
     }
+}
+
+/// The names a formula uses, built-in constants excluded.
+pub(crate) fn collect_names(e: &Expr, out: &mut BTreeSet<String>) {
+    walk(e, &mut |v| {
+        if let Visit::Expr(Expr::Name(n)) = v {
+            if !is_builtin_constant(n) {
+                out.insert(n.clone());
+            }
+        }
+    });
 }
 
 /// Replace names simultaneously (no simplification).

@@ -23,7 +23,7 @@ mod parser;
 mod print;
 mod simplify;
 
-pub use expr::{func_by_name, func_name};
+pub use expr::{func_by_name, func_name, Visit};
 pub use params::parameter_using;
 
 /// A function the formula language knows.
@@ -206,6 +206,11 @@ impl Expr {
             .simplify(),
             other => (factor.clone() * other).simplify(),
         }
+    }
+    /// Call `f` on every node of the formula (sub-formulas and conditions),
+    /// parents before children.
+    pub fn walk<'a>(&'a self, f: &mut dyn FnMut(Visit<'a>)) {
+        expr::walk(self, f)
     }
     /// The names the formula uses (built-in constants such as `pi` excluded).
     pub fn names(&self) -> BTreeSet<String> {
