@@ -6,7 +6,7 @@
 //! test asserting that the checks actually ran.
 
 use proptest::prelude::*;
-use stillpoint::formula::{parse, Expr, Func, Program};
+use stillpoint::formula::{parse, Expr, Func, Program, Visit};
 
 const FUNCS1: [Func; 14] = [
     Func::Sqrt,
@@ -94,6 +94,26 @@ fn at_ext(e: &Expr, x: f64, y: f64) -> f64 {
     .expect("only x and y are used")
 }
 
+/// True when every sub-formula of `e` is finite at the point. Simplification
+/// and differentiation keep values where the original is defined throughout;
+/// where a part is undefined (x^x for x < 0 inside a condition, say), rules
+/// such as 0*u -> 0 legitimately differ, as in every algebra system.
+/// Points on a switch of a piecewise formula (the two sides of a condition
+/// equal to within 1e-9) are also left out: there the branch taken depends on
+/// the last bit of rounding, in f64 as in extended precision.
+fn defined(e: &Expr, x: f64, y: f64) -> bool {
+    let mut ok = true;
+    e.walk(&mut |v| match v {
+        Visit::Expr(s) => ok &= at(s, x, y).is_finite(),
+        Visit::Cond(stillpoint::formula::Cond::Cmp(_, a, b)) => {
+            let (a, b) = (at(a, x, y), at(b, x, y));
+            ok &= (a - b).abs() > 1e-9 * (1.0 + a.abs().max(b.abs()));
+        }
+        Visit::Cond(_) => {}
+    });
+    ok
+}
+
 fn close(a: f64, b: f64, rel: f64) -> bool {
     (a - b).abs() <= rel * (1.0 + a.abs().max(b.abs()))
 }
@@ -109,7 +129,8 @@ fn check_derivative(e: &Expr) -> Result<usize, String> {
         let fd = |h: f64| (at(e, x + h, y) - at(e, x - h, y)) / (2.0 * h);
         let (fd1, fd2) = (fd(h), fd(h / 2.0));
         let scale = 1.0 + f.abs() + fd2.abs();
-        if !f.is_finite()
+        if !defined(e, x, y)
+            || !f.is_finite()
             || !fd1.is_finite()
             || !fd2.is_finite()
             || f.abs() > 1e6
@@ -156,7 +177,7 @@ fn check_simplify(e: &Expr) -> Result<usize, String> {
     let mut checked = 0;
     for (x, y) in POINTS {
         let (a, b) = (at_ext(e, x, y), at_ext(&s, x, y));
-        if a.is_finite() && a.abs() < 1e12 {
+        if a.is_finite() && a.abs() < 1e12 && defined(e, x, y) {
             if !close(a, b, 1e-9) {
                 return Err(format!("{e} simplified to {s} at ({x}, {y}): {a} vs {b}"));
             }
