@@ -1,0 +1,241 @@
+//! The sections of a profile that stand on their own: gravity (the
+//! potential), the grid, the sampling rule and the output settings. Each
+//! reads its JSON node and reports errors with the node's path.
+//!
+//! Owns: turning those nodes into a potential law, a [`Grid`], a
+//! [`SamplingRule`] and an [`OutputSpec`]. Does not own: parameters, laws of
+//! the balance or the order in which sections are read (`mod.rs`).
+
+use std::path::{Path, PathBuf};
+
+use super::json::{closest, Node};
+use super::{OutputSpec, ProfileError};
+use crate::background::Shape;
+use crate::formula::{Expr, Func};
+use crate::grid::{Axis, Coord, Grid};
+use crate::model::Law;
+use crate::output::Precision;
+use crate::sample::SamplingRule;
+
+pub(super) fn potential(node: Node, shape: Shape, consts: &[&str]) -> Result<Law, ProfileError> {
+    node.only_keys(&["uniform", "point_mass", "softening", "potential"])?;
+    let coord = shape.coordinate();
+    let mut names: Vec<&str> = consts.to_vec();
+    names.push(coord);
+    let count = ["uniform", "point_mass", "potential"]
+        .iter()
+        .filter(|k| node.child(k).is_some())
+        .count();
+    if count != 1 {
+        return Err(node.error("give exactly one of uniform, point_mass, potential"));
+    }
+    if let Some(g) = node.child("uniform") {
+        let g = g.node();
+        if shape == Shape::DiskMidplane {
+            return Err(g.error(
+                "a disk needs a central potential (point_mass or potential), not uniform gravity",
+            ));
+        }
+        if node.child("softening").is_some() {
+            return Err(node.error("softening goes with point_mass only"));
+        }
+        let expr = (g.formula(consts)? * Expr::name(coord)).simplify();
+        return Ok(Law {
+            expr,
+            origin: g.path(),
+        });
+    }
+    if let Some(m) = node.child("point_mass") {
+        let m = m.node();
+        let mass = m.formula(consts)?;
+        let s = Expr::name(coord);
+        let gm = Expr::name("G") * mass;
+        let expr = match node.child("softening") {
+            // Plummer (1911) softened point mass: Φ = −G M / √(s² + ε²).
+            Some(e) => {
+                let eps = e.node().formula(consts)?;
+                let r2 = s.clone() * s + eps.clone() * eps;
+                -gm * Expr::call(Func::Sqrt, vec![r2]).pow(Expr::num(-1.0))
+            }
+            // R and r are never negative; z is, so a slab uses |z|.
+            None if shape == Shape::Slab => -gm / Expr::call(Func::Abs, vec![s]),
+            None => -gm / s,
+        }
+        .simplify();
+        return Ok(Law {
+            expr,
+            origin: m.path(),
+        });
+    }
+    let p = node.require("potential")?;
+    let p = p.node();
+    if node.child("softening").is_some() {
+        return Err(node.error("softening goes with point_mass only"));
+    }
+    if shape == Shape::DiskMidplane {
+        names.push("z");
+        let e = p.formula(&names)?;
+        let mid = e.substitute(&[("z".to_string(), Expr::num(0.0))].into_iter().collect());
+        return Ok(Law {
+            expr: mid,
+            origin: p.path(),
+        });
+    }
+    Ok(Law {
+        expr: p.formula(&names)?,
+        origin: p.path(),
+    })
+}
+
+pub(super) fn grid(
+    node: Node,
+    dir: &Path,
+    consts: &[&str],
+    lookup: &dyn Fn(&str) -> Option<f64>,
+) -> Result<Grid, ProfileError> {
+    let map = node.object()?;
+    if map.is_empty() {
+        return Err(node.error("expected at least one axis (R, phi, x, y, z or r)"));
+    }
+    let mut axes = Vec::new();
+    for key in map.keys() {
+        let owned = node.require(key)?;
+        let ax = owned.node();
+        let Some(coord) = Coord::from_name(key) else {
+            let names = ["R", "phi", "x", "y", "z", "r"];
+            let hint = closest(key, &names)
+                .map(|k| format!(" (did you mean `{k}`?)"))
+                .unwrap_or_default();
+            return Err(ax.error(format!(
+                "unknown axis `{key}`{hint}; axes are R, phi, x, y, z, r"
+            )));
+        };
+        ax.only_keys(&["from", "to", "cells", "spacing", "edges", "edges_file"])?;
+        let err = |e: crate::grid::GridError| ax.error(e.to_string());
+        // Explicit edges fix the cells themselves: any other way of choosing
+        // them alongside would be silently ignored, so refuse it.
+        let explicit = ["edges", "edges_file"]
+            .into_iter()
+            .find(|k| ax.child(k).is_some());
+        if let Some(given) = explicit {
+            let extra = ["edges", "edges_file", "from", "to", "cells", "spacing"]
+                .into_iter()
+                .find(|k| *k != given && ax.child(k).is_some());
+            if let Some(extra) = extra {
+                return Err(ax.error(format!(
+                    "`{given}` and `{extra}` cannot both be given: `{given}` sets the cells; \
+                     remove `{extra}`"
+                )));
+            }
+        }
+        let axis = if let Some(e) = ax.child("edges") {
+            let edges = e
+                .node()
+                .array()?
+                .iter()
+                .map(|n| n.node().value(consts, lookup))
+                .collect::<Result<Vec<_>, _>>()?;
+            Axis::explicit(coord, edges).map_err(err)?
+        } else if let Some(f) = ax.child("edges_file") {
+            let p = dir.join(f.node().str()?);
+            Axis::from_edges_file(coord, &p).map_err(err)?
+        } else {
+            let (from, to) = match (ax.child("from"), ax.child("to"), coord) {
+                (None, None, Coord::Phi) => (0.0, 2.0 * std::f64::consts::PI),
+                _ => (
+                    ax.require("from")?.node().value(consts, lookup)?,
+                    ax.require("to")?.node().value(consts, lookup)?,
+                ),
+            };
+            let cells = ax.require("cells")?.node().positive_int()?;
+            let log = match ax.child("spacing") {
+                Some(s) => s.node().choice(&[(false, "uniform"), (true, "log")])?,
+                None => false,
+            };
+            if log {
+                Axis::log(coord, from, to, cells)
+            } else {
+                Axis::uniform(coord, from, to, cells)
+            }
+            .map_err(err)?
+        };
+        axes.push(axis);
+    }
+    Grid::new(axes).map_err(|e| node.error(e.to_string()))
+}
+
+pub(super) fn check_grid_matches(
+    grid: &Grid,
+    shape: Shape,
+    label: &str,
+) -> Result<(), ProfileError> {
+    use crate::grid::Layout;
+    let ok = matches!(
+        (grid.layout(), shape),
+        (Layout::Line(Coord::Z), Shape::Slab)
+            | (Layout::Line(Coord::Sph), Shape::Spherical)
+            | (
+                Layout::Line(Coord::R) | Layout::Polar | Layout::Cartesian,
+                Shape::DiskMidplane
+            )
+    );
+    if ok {
+        Ok(())
+    } else {
+        let want = match shape {
+            Shape::Slab => "a slab needs a z axis",
+            Shape::Spherical => "a sphere needs an r axis",
+            _ => "a disk needs an R axis, R and phi, or x and y",
+        };
+        Err(ProfileError::at(
+            label,
+            "grid",
+            format!("the grid does not fit balance.shape: {want}"),
+        ))
+    }
+}
+
+pub(super) fn sampling(node: Node) -> Result<SamplingRule, ProfileError> {
+    node.only_keys(&["rule", "points"])?;
+    let avg = node
+        .require("rule")?
+        .node()
+        .choice(&[(false, "center"), (true, "average")])?;
+    if !avg {
+        if let Some(p) = node.child("points") {
+            return Err(p.node().error("points goes with rule \"average\" only"));
+        }
+        return Ok(SamplingRule::Center);
+    }
+    let points = match node.child("points") {
+        Some(p) => p.node().positive_int()?,
+        None => 4,
+    };
+    if points > 64 {
+        return Err(node.error("sampling.points: at most 64 points per axis"));
+    }
+    Ok(SamplingRule::Average { points })
+}
+
+pub(super) fn output(node: Node) -> Result<OutputSpec, ProfileError> {
+    node.only_keys(&["file", "csv", "precision"])?;
+    let file = match node.child("file") {
+        Some(f) => Some(PathBuf::from(f.node().str()?)),
+        None => None,
+    };
+    let csv = match node.child("csv") {
+        Some(c) => c.node().bool()?,
+        None => false,
+    };
+    let precision = match node.child("precision") {
+        Some(p) => p
+            .node()
+            .choice(&[(Precision::Double, "double"), (Precision::Single, "single")])?,
+        None => Precision::Double,
+    };
+    Ok(OutputSpec {
+        file,
+        csv,
+        precision,
+    })
+}
