@@ -322,7 +322,9 @@ pub fn from_text(
             if v <= 0.0 {
                 return Err(m.node().error(format!("must be positive, found {v}")));
             }
-            Some(v)
+            // The formula as written (a parameter name, say) so that derived
+            // laws print `mu` rather than its decimal value.
+            Some((v, m.node().formula(&consts)?))
         }
         None => None,
     };
@@ -343,7 +345,7 @@ pub fn from_text(
                     "a temperature needs physical units (units: si, cgs or astro); in code units give gas.sound_speed_sq",
                 ));
             };
-            let Some(mu) = molecular_weight else {
+            let Some((_, mu)) = molecular_weight.clone() else {
                 return Err(ProfileError::at(
                     label,
                     "gas.molecular_weight",
@@ -354,7 +356,7 @@ pub fn from_text(
             // c² = k_B T / (μ m_u), with k_B and m_u kept as names so that
             // derived laws print readably; they are built-ins of the units.
             let expr =
-                (Expr::name("k_B") * t_expr / (Expr::num(mu) * Expr::name("m_u"))).simplify();
+                (Expr::name("k_B") * t_expr / (mu * Expr::name("m_u"))).simplify();
             Some(Law {
                 expr,
                 origin: node.path(),
@@ -395,7 +397,7 @@ pub fn from_text(
         potential,
         anchor,
         gamma,
-        molecular_weight,
+        molecular_weight: molecular_weight.map(|(v, _)| v),
         vertically_integrated,
     };
     Ok(Loaded {
