@@ -176,12 +176,10 @@ fn closed_form(
         error,
     };
     // Probabilistic identity test in 200-bit arithmetic.
-    let mut rng = Uniform(0x5EED_1234_ABCD_0001);
+    let trials = identity_points(res, model, domain);
     let mut worst = 0.0f64;
-    let trials = 24;
     let mut ok = true;
-    for _ in 0..trials {
-        let x = domain.lo + (domain.hi - domain.lo) * (0.02 + 0.96 * rng.next());
+    for &x in &trials {
         let look = |n: &str| if n == s { Some(x) } else { model.lookup(n) };
         let r = res.eval_extended(&look).map_err(fail)?;
         let mut scale = 0.0f64;
@@ -207,8 +205,9 @@ fn closed_form(
         return Ok((
             Verdict::IdenticallyZero {
                 how: format!(
-                    "the residual vanishes at {trials} random points in 200-bit arithmetic \
-                     (largest |residual|/|largest term| = {worst:.1e})"
+                    "the residual vanishes at {} random points in 200-bit arithmetic \
+                     (largest |residual|/|largest term| = {worst:.1e})",
+                    trials.len()
                 ),
             },
             text,
@@ -237,6 +236,34 @@ fn closed_form(
         Verdict::NotEquilibrium { max, at }
     };
     Ok((v, text))
+}
+
+/// Random points for the identity test: 24 spread over the domain, and, for
+/// a piecewise residual, at least two inside every piece between its
+/// breakpoints. A residual that is analytic on each piece and vanishes at
+/// random points of every piece is zero; one that is piecewise may vanish on
+/// most of the domain and not on a sliver that 24 points over the whole
+/// domain would miss.
+fn identity_points(res: &crate::formula::Expr, model: &Model, domain: &Domain) -> Vec<f64> {
+    let mut rng = Uniform(0x5EED_1234_ABCD_0001);
+    let mut cuts = vec![domain.lo];
+    cuts.extend(integrate::breakpoints(
+        res,
+        model.coordinate(),
+        domain.lo,
+        domain.hi,
+        &|n| model.lookup(n),
+    ));
+    cuts.push(domain.hi);
+    let width = domain.hi - domain.lo;
+    let mut pts = Vec::new();
+    for w in cuts.windows(2) {
+        let n = ((24.0 * (w[1] - w[0]) / width).ceil() as usize).max(2);
+        for _ in 0..n {
+            pts.push(w[0] + (w[1] - w[0]) * (0.02 + 0.96 * rng.next()));
+        }
+    }
+    pts
 }
 
 fn integral_form(

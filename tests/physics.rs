@@ -275,3 +275,24 @@ fn audit_detects_missing_pressure_correction() {
         Verdict::IdenticallyZero { .. }
     ));
 }
+
+/// A piecewise audit whose laws balance except on a sliver at the inner
+/// edge (Keplerian rotation without the pressure correction for R < 0.35):
+/// the identity test must not call the residual zero because its random
+/// points all fell in the balanced piece. The imbalance there is
+/// (p + q)(H/R)² relative, as in `audit_detects_missing_pressure_correction`.
+#[test]
+fn issue2_piecewise_audit_unbalanced_near_an_edge_is_not_identically_zero() {
+    let text = DISK.replace(
+        r#""solve_for": "rotation", "density": "R^(-p)""#,
+        r#""solve_for": "nothing", "density": "R^(-p)", "rotation": "if(R < 0.35, sqrt(G*M/R), sqrt(G*M/R - (p + q)*c0*R^(-q)))""#,
+    );
+    match verdict(&load(&text, &[])) {
+        Verdict::NotEquilibrium { max, at } => {
+            // 1.5 h0² R^(1/2) grows with R: largest at the switch R = 0.35.
+            let expect = 1.5 * 0.05f64.powi(2) * 0.35f64.sqrt();
+            assert!(rel(max, expect) < 1e-3 && at < 0.35, "{max} at {at}");
+        }
+        v => panic!("expected an imbalance, got {v:?}"),
+    }
+}
