@@ -296,3 +296,37 @@ fn issue2_piecewise_audit_unbalanced_near_an_edge_is_not_identically_zero() {
         v => panic!("expected an imbalance, got {v:?}"),
     }
 }
+
+/// Schwarzschild criterion on a polytropic slab ρ = ρ0 (1 − z/H)^n under
+/// uniform gravity, P = g H ρ0 (1 − z/H)^(n+1)/(n + 1): the entropy
+/// ln P − γ ln ρ = (n + 1 − γ n) ln(1 − z/H) + const, so the layer is
+/// convectively stable for n > 1/(γ − 1), neutral at equality and unstable
+/// below (e.g. Kippenhahn & Weigert, Stellar Structure and Evolution, §6.1,
+/// from memory). The neutral (isentropic) layer must not be called unstable
+/// because of rounding in the entropy.
+#[test]
+fn issue2_schwarzschild_caution_only_for_superadiabatic_layers() {
+    let text = r#"{
+      "name": "t", "units": "code",
+      "parameters": { "g0": 1.0, "H": 2.0, "n": 1.5, "rho0": 1.0 },
+      "gravity": { "uniform": "g0" },
+      "gas": { "gamma": 1.6666666666666667 },
+      "balance": { "shape": "slab", "solve_for": "pressure", "density": "rho0*(1 - z/H)^n",
+                   "anchor": { "at": 0, "value": "g0*H*rho0/(n + 1)" } },
+      "grid": { "z": { "from": 0, "to": 1.5, "cells": 64 } }
+    }"#;
+    let unstable = |gamma: &str| {
+        let text = text.replace("1.6666666666666667", gamma);
+        let l = load(&text, &[]);
+        let (bg, domain) = pipeline::solve(&l).unwrap();
+        pipeline::cautions(&l, &bg, &domain)
+            .iter()
+            .any(|c| c.contains("convectively unstable"))
+    };
+    assert!(unstable("1.4"), "n = 1.5 < 1/(gamma - 1) = 2.5");
+    assert!(!unstable("2.0"), "n = 1.5 > 1/(gamma - 1) = 1");
+    assert!(
+        !unstable("1.6666666666666667"),
+        "n = 1/(gamma - 1): neutral"
+    );
+}
