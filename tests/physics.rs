@@ -330,3 +330,29 @@ fn issue2_schwarzschild_caution_only_for_superadiabatic_layers() {
         "n = 1/(gamma - 1): neutral"
     );
 }
+
+/// A pressure law given beside a closure that derives the pressure (here
+/// P = Σ c² for the derived rotation) over-determines the balance; it must be
+/// refused by name rather than silently ignored while the file carries
+/// another pressure.
+#[test]
+fn issue2_pressure_law_beside_a_closure_is_refused() {
+    let text = DISK.replace(
+        r#""density": "R^(-p)""#,
+        r#""density": "R^(-p)", "pressure": "12345*R""#,
+    );
+    let l = load(&text, &[]);
+    let e = pipeline::solve(&l)
+        .err()
+        .expect("a pressure law must be refused");
+    let e = e.to_string();
+    assert!(
+        e.contains("balance.pressure") && e.contains("over-determine"),
+        "{e}"
+    );
+    let slab = SLAB.replace(
+        r#""solve_for": "density","#,
+        r#""solve_for": "density", "pressure": "1","#,
+    );
+    assert!(pipeline::solve(&load(&slab, &[])).is_err());
+}
