@@ -389,8 +389,13 @@ fn discrete_imbalance(shape: Shape, bg: &dyn Background, centres: &[f64]) -> Opt
         };
         let r = cen - rho * dphi - dp;
         let scale = cen.abs().max((rho * dphi).abs()).max(dp.abs());
-        let rel = if scale > 0.0 { r.abs() / scale } else { 0.0 };
-        if rel > max {
+        let rel = if scale > 0.0 {
+            r.abs() / scale
+        } else {
+            r.abs()
+        };
+        // A value that is not a number is reported, not skipped as a zero.
+        if rel > max || rel.is_nan() {
             max = rel;
             at = centres[i];
         }
@@ -450,5 +455,40 @@ impl fmt::Display for Report {
             "result         {}",
             if self.passed() { "PASS" } else { "FAIL" }
         )
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::background::PointState;
+
+    /// An isothermal slab ρ = P = e^(−z), Φ = z (g = c² = 1), whose density
+    /// is not a number at z = 0.5.
+    struct Holed;
+    impl Background for Holed {
+        fn shape(&self) -> Shape {
+            Shape::Slab
+        }
+        fn at(&self, z: f64) -> PointState {
+            let rho = if (z - 0.5).abs() < 1e-12 {
+                f64::NAN
+            } else {
+                (-z).exp()
+            };
+            PointState {
+                density: rho,
+                pressure: (-z).exp(),
+                rotation: 0.0,
+                potential: z,
+            }
+        }
+    }
+
+    #[test]
+    fn discrete_imbalance_reports_a_value_that_is_not_a_number() {
+        let centres: Vec<f64> = (0..11).map(|i| 0.1 * i as f64).collect();
+        let (max, at) = discrete_imbalance(Shape::Slab, &Holed, &centres).unwrap();
+        assert!(max.is_nan() && (at - 0.5).abs() < 1e-12, "{max} at {at}");
     }
 }
