@@ -4,8 +4,8 @@
 //! * Closed-form pressure (derived rotation, or an audit of given laws): the
 //!   residual is built from exact symbolic derivatives and is *identically
 //!   zero* when it simplifies to 0 or vanishes at random points in 200-bit
-//!   arithmetic (probabilistic identity testing, Schwartz 1980, J. ACM 27,
-//!   701); otherwise its largest value relative to the largest term of the
+//!   arithmetic, in every piece of a piecewise residual (probabilistic
+//!   identity testing, Schwartz 1980, J. ACM 27, 701); otherwise its largest value relative to the largest term of the
 //!   balance is reported with where it occurs.
 //! * Integrated closures: the balance in integral form from the anchor to
 //!   each check point, q(s) − q(anchor) − ∫ f ds with q = ln ρ, P or ln P:
