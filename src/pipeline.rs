@@ -167,12 +167,23 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
         }
     } else {
         // Schwarzschild criterion: convectively stable where the entropy
-        // ln P − γ ln ρ increases against gravity.
+        // ln P − γ ln ρ increases against gravity (towards higher Φ). An
+        // isentropic layer is neutral: its entropy change is the difference
+        // of two large terms, so only a fall beyond rounding of those terms
+        // (relative 1e-9) counts.
         if let Some(x) = pts.windows(2).zip(states.windows(2)).find_map(|(p, st)| {
-            let e = |q: &crate::background::PointState| q.pressure.ln() - m.gamma * q.density.ln();
-            let ds = e(&st[1]) - e(&st[0]);
+            let dlp = st[1].pressure.ln() - st[0].pressure.ln();
+            let dlr = st[1].density.ln() - st[0].density.ln();
+            let ds = dlp - m.gamma * dlr;
             let dphi = st[1].potential - st[0].potential;
-            (ds * dphi < -1e-12 * ds.abs().max(1e-300)).then_some(p[0])
+            let against = if dphi > 0.0 {
+                ds
+            } else if dphi < 0.0 {
+                -ds
+            } else {
+                return None;
+            };
+            (against < -1e-9 * (dlp.abs() + m.gamma * dlr.abs())).then_some(p[0])
         }) {
             out.push(format!(
                 "the stratification is convectively unstable near {s} = {x:.6} (Schwarzschild \

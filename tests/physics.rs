@@ -275,3 +275,84 @@ fn audit_detects_missing_pressure_correction() {
         Verdict::IdenticallyZero { .. }
     ));
 }
+
+/// A piecewise audit whose laws balance except on a sliver at the inner
+/// edge (Keplerian rotation without the pressure correction for R < 0.35):
+/// the identity test must not call the residual zero because its random
+/// points all fell in the balanced piece. The imbalance there is
+/// (p + q)(H/R)² relative, as in `audit_detects_missing_pressure_correction`.
+#[test]
+fn issue2_piecewise_audit_unbalanced_near_an_edge_is_not_identically_zero() {
+    let text = DISK.replace(
+        r#""solve_for": "rotation", "density": "R^(-p)""#,
+        r#""solve_for": "nothing", "density": "R^(-p)", "rotation": "if(R < 0.35, sqrt(G*M/R), sqrt(G*M/R - (p + q)*c0*R^(-q)))""#,
+    );
+    match verdict(&load(&text, &[])) {
+        Verdict::NotEquilibrium { max, at } => {
+            // 1.5 h0² R^(1/2) grows with R: largest at the switch R = 0.35.
+            let expect = 1.5 * 0.05f64.powi(2) * 0.35f64.sqrt();
+            assert!(rel(max, expect) < 1e-3 && at < 0.35, "{max} at {at}");
+        }
+        v => panic!("expected an imbalance, got {v:?}"),
+    }
+}
+
+/// Schwarzschild criterion on a polytropic slab ρ = ρ0 (1 − z/H)^n under
+/// uniform gravity, P = g H ρ0 (1 − z/H)^(n+1)/(n + 1): the entropy
+/// ln P − γ ln ρ = (n + 1 − γ n) ln(1 − z/H) + const, so the layer is
+/// convectively stable for n > 1/(γ − 1), neutral at equality and unstable
+/// below (e.g. Kippenhahn & Weigert, Stellar Structure and Evolution, §6.1,
+/// from memory). The neutral (isentropic) layer must not be called unstable
+/// because of rounding in the entropy.
+#[test]
+fn issue2_schwarzschild_caution_only_for_superadiabatic_layers() {
+    let text = r#"{
+      "name": "t", "units": "code",
+      "parameters": { "g0": 1.0, "H": 2.0, "n": 1.5, "rho0": 1.0 },
+      "gravity": { "uniform": "g0" },
+      "gas": { "gamma": 1.6666666666666667 },
+      "balance": { "shape": "slab", "solve_for": "pressure", "density": "rho0*(1 - z/H)^n",
+                   "anchor": { "at": 0, "value": "g0*H*rho0/(n + 1)" } },
+      "grid": { "z": { "from": 0, "to": 1.5, "cells": 64 } }
+    }"#;
+    let unstable = |gamma: &str| {
+        let text = text.replace("1.6666666666666667", gamma);
+        let l = load(&text, &[]);
+        let (bg, domain) = pipeline::solve(&l).unwrap();
+        pipeline::cautions(&l, &bg, &domain)
+            .iter()
+            .any(|c| c.contains("convectively unstable"))
+    };
+    assert!(unstable("1.4"), "n = 1.5 < 1/(gamma - 1) = 2.5");
+    assert!(!unstable("2.0"), "n = 1.5 > 1/(gamma - 1) = 1");
+    assert!(
+        !unstable("1.6666666666666667"),
+        "n = 1/(gamma - 1): neutral"
+    );
+}
+
+/// A pressure law given beside a closure that derives the pressure (here
+/// P = Σ c² for the derived rotation) over-determines the balance; it must be
+/// refused by name rather than silently ignored while the file carries
+/// another pressure.
+#[test]
+fn issue2_pressure_law_beside_a_closure_is_refused() {
+    let text = DISK.replace(
+        r#""density": "R^(-p)""#,
+        r#""density": "R^(-p)", "pressure": "12345*R""#,
+    );
+    let l = load(&text, &[]);
+    let e = pipeline::solve(&l)
+        .err()
+        .expect("a pressure law must be refused");
+    let e = e.to_string();
+    assert!(
+        e.contains("balance.pressure") && e.contains("over-determine"),
+        "{e}"
+    );
+    let slab = SLAB.replace(
+        r#""solve_for": "density","#,
+        r#""solve_for": "density", "pressure": "1","#,
+    );
+    assert!(pipeline::solve(&load(&slab, &[])).is_err());
+}

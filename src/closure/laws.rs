@@ -97,6 +97,11 @@ impl Laws {
             refuse(&m.rotation, "rotation", "the balance is a slab or a sphere")?;
         }
         let why = format!("solving a {} for {}", shape_word(m.shape), m.unknown.key());
+        if m.unknown != Unknown::Nothing {
+            // Every closure derives P (P = ρ c², or by integration): a given
+            // pressure law would be ignored, and the file would carry another.
+            refuse(&m.pressure, "pressure", &why)?;
+        }
         match (disk, m.unknown) {
             (true, Unknown::Rotation) => {
                 let rho = need(&m.density, "balance.density", &why)?;
