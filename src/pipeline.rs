@@ -8,7 +8,7 @@
 use crate::background::{Background, Memoized, Shape};
 use crate::closure::{self, ClosureError, Domain, Solved};
 use crate::fields::FieldSet;
-use crate::grid::{Grid, Layout};
+use crate::grid::{Coord, Grid, Layout};
 use crate::output::{Metadata, OutputError};
 use crate::profile::{Loaded, ProfileError};
 use crate::sample::{self, GasConstants, SampleError};
@@ -53,7 +53,13 @@ pub fn domain_for(grid: &Grid) -> Domain {
                 .collect()
         }
     };
-    let axis_at_lo = lo <= 0.0 && matches!(grid.layout(), Layout::Cartesian);
+    // The axis R = 0 (or the centre r = 0) may bound or cross the grid, but
+    // no cell centre or Gauss point lies on it.
+    let axis_at_lo = lo <= 0.0
+        && matches!(
+            grid.layout(),
+            Layout::Cartesian | Layout::Line(Coord::R) | Layout::Line(Coord::Sph)
+        );
     Domain {
         lo,
         hi,

@@ -480,3 +480,30 @@ fn issue2_building_an_unbalanced_audit_carries_a_caution() {
     let o = stillpoint(d.path(), &["check", "p.json"]);
     assert_eq!(o.status.code(), Some(1), "{}", text(&o));
 }
+
+/// A 1D radial grid may start on the axis: no cell samples R = 0, so a law
+/// that is only singular there builds and checks (a vortex whose density
+/// rises as R^-1/2 towards its core; its pressure integrand ρv²/R → 0).
+#[test]
+fn issue2_radial_line_from_the_axis_builds() {
+    let d = tmp();
+    let p = include_str!("../profiles/steady-vortex.json")
+        .replace(
+            r#""x": { "from": -1, "to": 1, "cells": 128 },
+    "y": { "from": -1, "to": 1, "cells": 128 }"#,
+            r#""R": { "from": 0, "to": 1, "cells": 64 }"#,
+        )
+        .replace(
+            r#""density": "rho0""#,
+            r#""density": "rho0*(1 + (R/a)^(-0.5))""#,
+        );
+    assert!(
+        p.contains(r#""R": { "from": 0"#) && p.contains("^(-0.5)"),
+        "rewrite failed"
+    );
+    std::fs::write(d.path().join("p.json"), p).unwrap();
+    let o = stillpoint(d.path(), &["build", "p.json", "-o", "line.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let o = stillpoint(d.path(), &["check", "p.json"]);
+    assert!(o.status.success(), "{}", text(&o));
+}
