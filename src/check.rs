@@ -95,7 +95,6 @@ pub fn run(
     tolerance: f64,
 ) -> Result<Report, ClosureError> {
     let laws = Laws::build(model)?;
-    let s = model.coordinate();
     let (verdict, formula) = match (&laws.integrand, laws.residual(model)) {
         (None, Some((res, terms))) => closed_form(model, domain, &res, &terms, tolerance)?,
         (Some(f), _) => (integral_form(model, bg, domain, f, tolerance)?, None),
@@ -131,7 +130,6 @@ pub fn run(
         }
     }
     let discrete = discrete_imbalance(model.shape, bg, centres);
-    let _ = s;
     Ok(Report {
         coordinate: model.coordinate().to_string(),
         verdict,

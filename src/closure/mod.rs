@@ -196,9 +196,8 @@ pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
                 model.unknown.key()
             ))
         })?;
-        if anchor.at < domain.lo || anchor.at > domain.hi {
-            // An anchor outside the grid is allowed: the integral runs to it.
-        }
+        // An anchor outside the grid is allowed: the integral runs to it
+        // (and `pipeline::cautions` says so).
         let kind = match (model.shape, model.unknown) {
             (Shape::DiskMidplane, Unknown::Density) => Integrated::LogDensity,
             (_, Unknown::Pressure) => Integrated::Pressure,
