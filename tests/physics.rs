@@ -356,3 +356,21 @@ fn issue2_pressure_law_beside_a_closure_is_refused() {
     );
     assert!(pipeline::solve(&load(&slab, &[])).is_err());
 }
+
+/// A given rotation law keeps its sense: a retrograde vortex (Ω0 < 0) has
+/// v_φ < 0 and, since the balance involves v_φ² only, the same pressure as
+/// the prograde one (Rankine vortex as above).
+#[test]
+fn issue2_retrograde_rotation_keeps_its_sign() {
+    let text = include_str!("../profiles/steady-vortex.json");
+    let pro = load(text, &[]);
+    let retro = load(text, &[("Omega0", "-1")]);
+    let (bp, _) = pipeline::solve(&pro).unwrap();
+    let (br, _) = pipeline::solve(&retro).unwrap();
+    for r in [0.1, 0.2, 0.5, 1.2] {
+        let (a, b) = (bp.at(r), br.at(r));
+        assert!(a.rotation > 0.0 && b.rotation < 0.0, "R = {r}");
+        assert!(rel(-b.rotation, a.rotation) < 1e-15);
+        assert!(rel(b.pressure, a.pressure) < 1e-15);
+    }
+}

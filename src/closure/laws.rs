@@ -23,6 +23,9 @@ pub struct Laws {
     pub pressure: Option<Expr>,
     /// v_φ² for disks.
     pub rotation_sq: Option<Expr>,
+    /// v_φ itself when the profile gives it (its sign is the sense of
+    /// rotation, which v_φ² cannot carry).
+    pub rotation: Option<Expr>,
     /// The integrand of integrated closures (d ln ρ/ds, dP/ds or d ln P/ds).
     pub integrand: Option<Expr>,
     /// Everything derived, for printing.
@@ -88,6 +91,7 @@ impl Laws {
             sound_speed_sq: m.sound_speed_sq.as_ref().map(|l| l.expr.clone()),
             pressure: None,
             rotation_sq: None,
+            rotation: m.rotation.as_ref().map(|l| l.expr.clone()),
             integrand: None,
             derived: Vec::new(),
         };

@@ -102,6 +102,7 @@ pub struct Solved {
     sound_speed_sq: Option<Program>,
     pressure: Option<Program>,
     rotation_sq: Option<Program>,
+    rotation: Option<Program>,
     integral: Option<(Integrated, Cumulative, f64)>,
 }
 
@@ -117,9 +118,7 @@ impl Solved {
         let on_axis = self.shape == Shape::DiskMidplane && s == 0.0;
         Some(if on_axis && v2.is_nan() { 0.0 } else { v2 })
     }
-}
 
-impl Solved {
     /// True when evaluating the background runs a quadrature (an integrated
     /// closure), so that callers may want to memoize it.
     pub fn is_integrated(&self) -> bool {
@@ -158,7 +157,12 @@ impl Background for Solved {
                 }
             }
         };
-        let rotation = self.rotation_sq_at(s).map_or(0.0, f64::sqrt);
+        // A given rotation law keeps its sign (the sense of rotation); a
+        // derived one is prograde, v_φ = +√(v_φ²).
+        let rotation = match &self.rotation {
+            Some(v) => v.eval(&[s]),
+            None => self.rotation_sq_at(s).map_or(0.0, f64::sqrt),
+        };
         PointState {
             density,
             pressure,
@@ -187,6 +191,7 @@ pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
         sound_speed_sq: opt(&laws.sound_speed_sq, "sound speed")?,
         pressure: opt(&laws.pressure, "pressure")?,
         rotation_sq: opt(&laws.rotation_sq, "rotation")?,
+        rotation: opt(&laws.rotation, "rotation")?,
         integral: None,
     };
     if let Some(integrand) = &laws.integrand {
