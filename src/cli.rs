@@ -79,8 +79,9 @@ pub enum Command {
     Check {
         #[command(flatten)]
         common: Common,
-        /// Largest relative residual accepted.
-        #[arg(long, value_name = "T", default_value = "1e-10")]
+        /// Largest relative residual accepted (positive; double-precision
+        /// rounding alone leaves residuals of 1e-16 to 1e-13).
+        #[arg(long, value_name = "T", default_value = "1e-10", value_parser = positive_tolerance)]
         tolerance: f64,
     },
     /// Print the background along its coordinate (rotation curve for disks).
@@ -244,6 +245,13 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             }
             Ok(Outcome::Ok)
         }
+    }
+}
+
+fn positive_tolerance(text: &str) -> Result<f64, String> {
+    match text.parse::<f64>() {
+        Ok(t) if t.is_finite() && t > 0.0 => Ok(t),
+        _ => Err(format!("expected a positive number, found `{text}`")),
     }
 }
 

@@ -163,7 +163,10 @@ impl<'a> Node<'a> {
     fn formula_text(&self, text: &str, known: &[&str]) -> Result<Expr, ProfileError> {
         parse_with_names(text, known).map_err(|e| {
             let mut err = self.error(e.to_string());
-            err.detail = Some(e.render(text));
+            // The formula and the caret line; the message is already in
+            // the error's header.
+            let rendered = e.render(text);
+            err.detail = Some(rendered.lines().take(2).collect::<Vec<_>>().join("\n"));
             err
         })
     }
