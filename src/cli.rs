@@ -185,9 +185,20 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             let xs = match at {
                 Some(list) => parse_list(&loaded, &list)?,
                 None => {
+                    // Evenly spaced like the grid's radial or vertical axis:
+                    // logarithmically when that axis is.
                     let n = points.unwrap_or(11) as usize;
+                    let log = loaded.grid.axes()[0].spacing == crate::grid::Spacing::Log
+                        && domain.lo > 0.0;
                     (0..n)
-                        .map(|i| domain.lo + (domain.hi - domain.lo) * i as f64 / (n - 1) as f64)
+                        .map(|i| {
+                            let t = i as f64 / (n - 1) as f64;
+                            if log {
+                                domain.lo * (domain.hi / domain.lo).powf(t)
+                            } else {
+                                domain.lo + (domain.hi - domain.lo) * t
+                            }
+                        })
                         .collect()
                 }
             };
