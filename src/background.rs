@@ -2,6 +2,9 @@
 //! coordinate. Closures build backgrounds; samplers, checks and tables read
 //! them. This module owns the trait and the point state, not any solver.
 
+use std::collections::HashMap;
+use std::sync::Mutex;
+
 /// Which one-dimensional balance a background satisfies, and so which
 /// coordinate [`Background::at`] takes.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -76,18 +79,21 @@ pub trait Background: Sync {
 /// exact coordinate. Grids repeat coordinates (every φ of a polar ring, the
 /// mirror cells of a symmetric Cartesian box), so a background whose `at` is
 /// costly — an integrated closure runs a quadrature per call — is evaluated
-/// once per distinct coordinate.
+/// once per distinct coordinate. The cache is split into shards so that
+/// parallel samplers rarely wait on one another.
 pub struct Memoized<'a> {
     inner: &'a dyn Background,
-    cache: std::sync::Mutex<std::collections::HashMap<u64, PointState>>,
+    shards: Vec<Mutex<HashMap<u64, PointState>>>,
 }
+
+const SHARDS: usize = 64;
 
 impl<'a> Memoized<'a> {
     /// Wrap a background.
     pub fn new(inner: &'a dyn Background) -> Memoized<'a> {
         Memoized {
             inner,
-            cache: Default::default(),
+            shards: (0..SHARDS).map(|_| Mutex::default()).collect(),
         }
     }
 }
@@ -100,11 +106,13 @@ impl Background for Memoized<'_> {
     fn at(&self, s: f64) -> PointState {
         // +0.0 and −0.0 are the same point.
         let key = if s == 0.0 { 0 } else { s.to_bits() };
-        if let Some(st) = self.cache.lock().ok().and_then(|c| c.get(&key).copied()) {
+        // Mix the bits so that neighbouring coordinates spread over shards.
+        let shard = &self.shards[(key.wrapping_mul(0x9E37_79B9_7F4A_7C15) >> 58) as usize];
+        if let Some(st) = shard.lock().ok().and_then(|c| c.get(&key).copied()) {
             return st;
         }
         let st = self.inner.at(s);
-        if let Ok(mut c) = self.cache.lock() {
+        if let Ok(mut c) = shard.lock() {
             c.insert(key, st);
         }
         st

@@ -27,6 +27,7 @@
 pub mod gauss;
 mod point;
 
+use rayon::prelude::*;
 use thiserror::Error;
 
 use crate::background::{Background, Shape};
@@ -199,10 +200,12 @@ pub fn sample(
         ncomp,
     };
 
-    let mut columns: Vec<Vec<f64>> = (0..SLOTS).map(|_| Vec::with_capacity(grid.len())).collect();
-    let mut cell = [0usize; MAX_AXES];
-    let mut point = [0.0; MAX_AXES];
-    for flat in 0..grid.len() {
+    // Cells are independent: evaluate them in parallel (rayon), then gather
+    // in C order so that the first error reported is the first cell's.
+    let averaged = gauss.is_some();
+    let cell_values = |flat: usize| -> Result<[f64; SLOTS], SampleError> {
+        let mut cell = [0usize; MAX_AXES];
+        let mut point = [0.0; MAX_AXES];
         let mut rest = flat;
         for a in (0..ndim).rev() {
             cell[a] = rest % shape[a];
@@ -228,7 +231,7 @@ pub fn sample(
                 *s += wj * v;
             }
         }
-        if gauss.is_some() {
+        if averaged {
             for s in sums.iter_mut() {
                 *s /= volume;
             }
@@ -238,7 +241,13 @@ pub fn sample(
             }
             values = sums;
         }
-        for (col, v) in columns.iter_mut().zip(&values) {
+        Ok(values)
+    };
+    let cells: Vec<Result<[f64; SLOTS], SampleError>> =
+        (0..grid.len()).into_par_iter().map(cell_values).collect();
+    let mut columns: Vec<Vec<f64>> = (0..SLOTS).map(|_| Vec::with_capacity(grid.len())).collect();
+    for values in cells {
+        for (col, v) in columns.iter_mut().zip(&values?) {
             col.push(*v);
         }
     }
