@@ -3,7 +3,7 @@
 //!
 //! * Closed-form pressure (derived rotation, or an audit of given laws): the
 //!   residual is built from exact symbolic derivatives and is *identically
-//!   zero* when it simplifies to 0 or vanishes at random points in 200-bit
+//!   zero* when it simplifies to 0 or vanishes at random points in 256-bit
 //!   arithmetic, in every piece of a piecewise residual (probabilistic
 //!   identity testing, Schwartz 1980, J. ACM 27, 701); otherwise its largest value relative to the largest term of the
 //!   balance is reported with where it occurs.
@@ -173,7 +173,7 @@ fn closed_form(
         origin: "residual".into(),
         error,
     };
-    // Probabilistic identity test in 200-bit arithmetic.
+    // Probabilistic identity test in 256-bit arithmetic.
     let trials = identity_points(res, model, domain);
     let mut worst = 0.0f64;
     let mut ok = true;
@@ -203,7 +203,7 @@ fn closed_form(
         return Ok((
             Verdict::IdenticallyZero {
                 how: format!(
-                    "the residual vanishes at {} random points in 200-bit arithmetic \
+                    "the residual vanishes at {} random points in 256-bit arithmetic \
                      (largest |residual|/|largest term| = {worst:.1e})",
                     trials.len()
                 ),

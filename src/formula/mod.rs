@@ -230,7 +230,7 @@ impl Expr {
     pub fn eval(&self, lookup: &dyn Fn(&str) -> Option<f64>) -> Result<f64, FormulaError> {
         expr::eval(self, lookup)
     }
-    /// Evaluate in extended precision (at least 200 bits) and round the result
+    /// Evaluate in extended precision (256 bits) and round the result
     /// to f64. Used for probabilistic identity testing.
     pub fn eval_extended(&self, lookup: &dyn Fn(&str) -> Option<f64>) -> Result<f64, FormulaError> {
         extended::eval_extended(self, lookup)
