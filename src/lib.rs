@@ -12,7 +12,7 @@
 //! * [`formula`] — our own symbolic engine: parse, differentiate, simplify,
 //!   compile, print. It knows nothing of physics.
 //! * [`units`] — unit systems and physical constants with their sources.
-//! * [`physics`] — gravity (potentials) and gas (closures of state).
+//! * [`physics`] — gravity (potentials) and the ideal-gas sound speed, as formulas.
 //! * [`model`] — the resolved description of one equilibrium problem.
 //! * [`closure`] — solvers that turn given laws into a [`background::Background`].
 //! * [`grid`] and [`sample`] — axes, cells and sampling rules that turn a
@@ -32,6 +32,7 @@ pub mod formula;
 pub mod grid;
 pub mod model;
 pub mod output;
+pub mod physics;
 pub mod pipeline;
 pub mod profile;
 pub mod sample;

@@ -353,9 +353,7 @@ pub fn from_text(
                 ));
             };
             let t_expr = node.formula(&law_names)?;
-            // c² = k_B T / (μ m_u), with k_B and m_u kept as names so that
-            // derived laws print readably; they are built-ins of the units.
-            let expr = (Expr::name("k_B") * t_expr / (mu * Expr::name("m_u"))).simplify();
+            let expr = crate::physics::sound_speed_sq_from_temperature(t_expr, mu);
             Some(Law {
                 expr,
                 origin: node.path(),

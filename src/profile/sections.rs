@@ -11,10 +11,11 @@ use std::path::{Path, PathBuf};
 use super::json::{closest, Node};
 use super::{OutputSpec, ProfileError};
 use crate::background::Shape;
-use crate::formula::{Expr, Func};
+use crate::formula::Expr;
 use crate::grid::{Axis, Coord, Grid};
 use crate::model::Law;
 use crate::output::Precision;
+use crate::physics;
 use crate::sample::SamplingRule;
 
 pub(super) fn potential(node: Node, shape: Shape, consts: &[&str]) -> Result<Law, ProfileError> {
@@ -39,7 +40,7 @@ pub(super) fn potential(node: Node, shape: Shape, consts: &[&str]) -> Result<Law
         if node.child("softening").is_some() {
             return Err(node.error("softening goes with point_mass only"));
         }
-        let expr = (g.formula(consts)? * Expr::name(coord)).simplify();
+        let expr = physics::uniform_potential(shape, g.formula(consts)?);
         return Ok(Law {
             expr,
             origin: g.path(),
@@ -48,20 +49,11 @@ pub(super) fn potential(node: Node, shape: Shape, consts: &[&str]) -> Result<Law
     if let Some(m) = node.child("point_mass") {
         let m = m.node();
         let mass = m.formula(consts)?;
-        let s = Expr::name(coord);
-        let gm = Expr::name("G") * mass;
-        let expr = match node.child("softening") {
-            // Plummer (1911) softened point mass: Φ = −G M / √(s² + ε²).
-            Some(e) => {
-                let eps = e.node().formula(consts)?;
-                let r2 = s.clone() * s + eps.clone() * eps;
-                -gm * Expr::call(Func::Sqrt, vec![r2]).pow(Expr::num(-1.0))
-            }
-            // R and r are never negative; z is, so a slab uses |z|.
-            None if shape == Shape::Slab => -gm / Expr::call(Func::Abs, vec![s]),
-            None => -gm / s,
-        }
-        .simplify();
+        let softening = match node.child("softening") {
+            Some(e) => Some(e.node().formula(consts)?),
+            None => None,
+        };
+        let expr = physics::point_mass_potential(shape, mass, softening);
         return Ok(Law {
             expr,
             origin: m.path(),
