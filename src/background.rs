@@ -30,6 +30,14 @@ impl Shape {
     }
 }
 
+impl crate::keys::Keyed for Shape {
+    const KEYS: &'static [(Shape, &'static str)] = &[
+        (Shape::Slab, "slab"),
+        (Shape::Spherical, "sphere"),
+        (Shape::DiskMidplane, "disk"),
+    ];
+}
+
 /// The equilibrium at one point. Velocities other than the azimuthal
 /// rotation are zero in every background built so far.
 #[derive(Clone, Copy, Debug, Default, PartialEq)]

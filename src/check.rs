@@ -20,7 +20,7 @@
 use std::fmt;
 
 use crate::background::{Background, Shape};
-use crate::closure::{integrate, ClosureError, Domain, Laws};
+use crate::closure::{self, integrate, ClosureError, Domain, Laws};
 use crate::formula::Program;
 use crate::model::Model;
 use crate::sample::gauss::GaussLegendre;
@@ -122,10 +122,7 @@ pub fn run(
     track("c^2", true, &|x| bg.at(x).sound_speed_sq());
     if model.shape == Shape::DiskMidplane {
         if let Some(v2) = &laws.rotation_sq {
-            let p = model.compile(v2).map_err(|error| ClosureError::Formula {
-                origin: "rotation".into(),
-                error,
-            })?;
+            let p = closure::compile(model, v2, "rotation")?;
             track("v_phi^2", false, &|x| p.eval(&[x]));
         }
     }
@@ -271,12 +268,7 @@ fn integral_form(
     integrand: &crate::formula::Expr,
     tol: f64,
 ) -> Result<Verdict, ClosureError> {
-    let f = model
-        .compile(integrand)
-        .map_err(|error| ClosureError::Formula {
-            origin: "integrand".into(),
-            error,
-        })?;
+    let f = closure::compile(model, integrand, "integrand")?;
     let q = |x: f64| {
         let st = bg.at(x);
         match (model.shape, model.unknown) {

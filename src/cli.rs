@@ -10,6 +10,7 @@ use clap::{Args, Parser, Subcommand};
 
 use crate::check;
 use crate::closure::derived_laws;
+use crate::keys::Keyed;
 use crate::output::{self, Document};
 use crate::pipeline::{self, Error};
 use crate::profile::{self, bundled, Loaded};
@@ -156,13 +157,8 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             let loaded = common.load()?;
             let (bg, domain) = pipeline::solve(&loaded)?;
             let centres = pipeline::centres_for(&loaded.grid);
-            let report =
-                check::run(&loaded.model, &bg, &domain, &centres, tolerance).map_err(|error| {
-                    Error::Closure {
-                        source_label: loaded.source.clone(),
-                        error,
-                    }
-                })?;
+            let report = check::run(&loaded.model, &bg, &domain, &centres, tolerance)
+                .map_err(|e| Error::closure(&loaded, e))?;
             say!("{} ({})", loaded.model.name, loaded.source);
             say!("{report}");
             for c in pipeline::cautions(&loaded, &bg, &domain) {
@@ -202,10 +198,8 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                         .collect()
                 }
             };
-            let t = table::tabulate(&loaded.model, &bg, &xs).map_err(|error| Error::Closure {
-                source_label: loaded.source.clone(),
-                error,
-            })?;
+            let t =
+                table::tabulate(&loaded.model, &bg, &xs).map_err(|e| Error::closure(&loaded, e))?;
             say_raw!("{}", if csv { t.to_csv() } else { t.to_text() });
             let s = loaded.model.coordinate();
             for x in xs.iter().filter(|x| **x < domain.lo || **x > domain.hi) {
@@ -219,10 +213,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
         Command::Derive { common, latex } => {
             let loaded = common.load()?;
             let m = &loaded.model;
-            let laws = derived_laws(m).map_err(|error| Error::Closure {
-                source_label: loaded.source.clone(),
-                error,
-            })?;
+            let laws = derived_laws(m).map_err(|e| Error::closure(&loaded, e))?;
             let show = |e: &crate::formula::Expr| if latex { e.to_latex() } else { e.to_string() };
             let shape = pipeline::balance_description(m);
             say!(

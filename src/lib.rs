@@ -30,6 +30,7 @@ pub mod closure;
 pub mod fields;
 pub mod formula;
 pub mod grid;
+pub mod keys;
 pub mod model;
 pub mod output;
 pub mod physics;

@@ -10,6 +10,7 @@ use std::collections::BTreeMap;
 
 use crate::background::Shape;
 use crate::formula::{Expr, FormulaError, Program};
+use crate::keys::Keyed;
 use crate::units::{Constants, UnitSystem};
 
 /// Which quantity the solver finds from the others.
@@ -28,22 +29,13 @@ pub enum Unknown {
     Nothing,
 }
 
-impl Unknown {
-    /// The key a profile uses, and the quantity each one finds.
-    pub const ALL: [(Unknown, &'static str); 4] = [
+impl Keyed for Unknown {
+    const KEYS: &'static [(Unknown, &'static str)] = &[
         (Unknown::Rotation, "rotation"),
         (Unknown::Density, "density"),
         (Unknown::Pressure, "pressure"),
         (Unknown::Nothing, "nothing"),
     ];
-    /// The profile key.
-    pub fn key(self) -> &'static str {
-        Self::ALL
-            .iter()
-            .find(|(u, _)| *u == self)
-            .map(|(_, k)| *k)
-            .unwrap_or("?")
-    }
 }
 
 /// Where an integrated closure is pinned: the coordinate and the value of

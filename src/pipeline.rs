@@ -9,6 +9,7 @@ use crate::background::{Background, Memoized, Shape};
 use crate::closure::{self, ClosureError, Domain, Solved};
 use crate::fields::FieldSet;
 use crate::grid::{Coord, Grid, Layout};
+use crate::keys::Keyed;
 use crate::output::{Metadata, OutputError};
 use crate::profile::{Loaded, ProfileError};
 use crate::sample::{self, GasConstants, SampleError};
@@ -38,6 +39,16 @@ pub enum Error {
     /// Anything else the user got wrong on the command line.
     #[error("{0}")]
     Usage(String),
+}
+
+impl Error {
+    /// A closure error, labelled with the profile it came from.
+    pub fn closure(loaded: &Loaded, error: ClosureError) -> Error {
+        Error::Closure {
+            source_label: loaded.source.clone(),
+            error,
+        }
+    }
 }
 
 /// The domain the background must cover for a grid: the range of the
@@ -85,10 +96,7 @@ pub fn centres_for(grid: &Grid) -> Vec<f64> {
 /// Solve the profile's closure over its grid.
 pub fn solve(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
     let domain = domain_for(&loaded.grid);
-    let bg = closure::solve(&loaded.model, &domain).map_err(|error| Error::Closure {
-        source_label: loaded.source.clone(),
-        error,
-    })?;
+    let bg = closure::solve(&loaded.model, &domain).map_err(|e| Error::closure(loaded, e))?;
     Ok((bg, domain))
 }
 
@@ -220,7 +228,7 @@ pub fn balance_description(m: &crate::model::Model) -> &'static str {
     match m.shape {
         Shape::DiskMidplane if m.vertically_integrated => "vertically integrated disk",
         Shape::DiskMidplane => "disk midplane",
-        other => shape_key(other),
+        other => other.key(),
     }
 }
 
@@ -243,14 +251,5 @@ fn audit_caution(loaded: &Loaded, bg: &Solved, domain: &Domain) -> Option<String
             m.coordinate()
         )),
         _ => None,
-    }
-}
-
-/// The profile key of a balance shape.
-pub fn shape_key(shape: Shape) -> &'static str {
-    match shape {
-        Shape::Slab => "slab",
-        Shape::Spherical => "sphere",
-        _ => "disk",
     }
 }

@@ -40,12 +40,11 @@ pub fn tabulate(model: &Model, bg: &dyn Background, at: &[f64]) -> Result<Table,
         cols.push(("T", Dim::TEMPERATURE));
     }
     let disk = model.shape == Shape::DiskMidplane;
-    let phi_s = model
-        .compile(&model.potential.expr.diff(s))
-        .map_err(|error| ClosureError::Formula {
-            origin: model.potential.origin.clone(),
-            error,
-        })?;
+    let phi_s = crate::closure::compile(
+        model,
+        &model.potential.expr.diff(s),
+        &model.potential.origin,
+    )?;
     if disk {
         cols.extend([
             ("v_phi", Dim::VELOCITY),

@@ -8,6 +8,8 @@
 
 use std::fmt;
 
+use crate::keys::Keyed;
+
 /// CODATA 2018 recommended value of the Newtonian constant of gravitation,
 /// in m³ kg⁻¹ s⁻² (Tiesinga et al. 2021, Rev. Mod. Phys. 93, 025010).
 pub const G_SI: f64 = 6.674_30e-11;
@@ -106,28 +108,6 @@ pub struct Constants {
 }
 
 impl UnitSystem {
-    /// All systems with the key a profile uses for each.
-    pub const ALL: [(UnitSystem, &'static str); 4] = [
-        (UnitSystem::Code, "code"),
-        (UnitSystem::Si, "si"),
-        (UnitSystem::Cgs, "cgs"),
-        (UnitSystem::Astro, "astro"),
-    ];
-
-    /// The system for a profile key, if any.
-    pub fn from_key(key: &str) -> Option<UnitSystem> {
-        Self::ALL.iter().find(|(_, k)| *k == key).map(|(u, _)| *u)
-    }
-
-    /// The profile key of this system.
-    pub fn key(self) -> &'static str {
-        Self::ALL
-            .iter()
-            .find(|(u, _)| *u == self)
-            .map(|(_, k)| *k)
-            .unwrap_or("?")
-    }
-
     /// Whether the system has physical constants (k_B, m_u), so that
     /// temperatures can be converted to sound speeds.
     pub fn is_physical(self) -> bool {
@@ -203,6 +183,15 @@ impl UnitSystem {
         }
         parts.join(" ")
     }
+}
+
+impl Keyed for UnitSystem {
+    const KEYS: &'static [(UnitSystem, &'static str)] = &[
+        (UnitSystem::Code, "code"),
+        (UnitSystem::Si, "si"),
+        (UnitSystem::Cgs, "cgs"),
+        (UnitSystem::Astro, "astro"),
+    ];
 }
 
 impl fmt::Display for UnitSystem {

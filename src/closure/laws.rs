@@ -8,6 +8,7 @@
 use super::ClosureError;
 use crate::background::Shape;
 use crate::formula::Expr;
+use crate::keys::Keyed;
 use crate::model::{Model, Unknown};
 
 /// The formulas a closure evaluates, in the background coordinate.
@@ -51,6 +52,13 @@ impl DerivedLaw {
             note: note.into(),
         }
     }
+}
+
+/// Record the integrand of an integrated closure and list it for `derive`.
+fn integrand(laws: &mut Laws, derived: &mut Vec<DerivedLaw>, name: String, f: Expr, note: &str) {
+    let note = format!("integrated from the anchor (double-exponential rule){note}");
+    derived.push(DerivedLaw::new(name, f.clone(), note));
+    laws.integrand = Some(f);
 }
 
 /// The law `key` (a full profile path such as `balance.density`) or an error
@@ -100,7 +108,7 @@ impl Laws {
         if !disk {
             refuse(&m.rotation, "rotation", "the balance is a slab or a sphere")?;
         }
-        let why = format!("solving a {} for {}", shape_word(m.shape), m.unknown.key());
+        let why = format!("solving a {} for {}", m.shape.key(), m.unknown.key());
         if m.unknown != Unknown::Nothing {
             // Every closure derives P (P = ρ c², or by integration): a given
             // pressure law would be ignored, and the file would carry another.
@@ -139,13 +147,8 @@ impl Laws {
                     c2_r,
                     "exact derivative",
                 ));
-                derived.push(DerivedLaw::new(
-                    format!("d ln(rho)/d{s}"),
-                    f.clone(),
-                    "integrated from the anchor (double-exponential rule)",
-                ));
                 laws.rotation_sq = Some(v2);
-                laws.integrand = Some(f);
+                integrand(&mut laws, &mut derived, format!("d ln(rho)/d{s}"), f, "");
             }
             (true, Unknown::Pressure) => {
                 let v = need(&m.rotation, "balance.rotation", &why)?;
@@ -153,37 +156,28 @@ impl Laws {
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let v2 = (v.clone() * v).simplify();
                 let f = (v2.clone() / r.clone() - phi_s.clone()).distribute(&rho);
-                derived.push(DerivedLaw::new(
-                    format!("dP/d{s}"),
-                    f.clone(),
-                    "integrated from the anchor (double-exponential rule)",
-                ));
                 laws.density = Some(rho);
                 laws.rotation_sq = Some(v2);
-                laws.integrand = Some(f);
+                integrand(&mut laws, &mut derived, format!("dP/d{s}"), f, "");
             }
             (false, Unknown::Density) => {
                 let c2 = need(&m.sound_speed_sq, SOUND_SPEED, &why)?;
                 refuse(&m.density, "density", &why)?;
                 let f = (-(phi_s.clone() / c2)).simplify();
-                derived.push(DerivedLaw::new(
+                integrand(
+                    &mut laws,
+                    &mut derived,
                     format!("d ln(P)/d{s}"),
-                    f.clone(),
-                    "integrated from the anchor (double-exponential rule); rho = P/c^2",
-                ));
-                laws.integrand = Some(f);
+                    f,
+                    "; rho = P/c^2",
+                );
             }
             (false, Unknown::Pressure) => {
                 let rho = need(&m.density, "balance.density", &why)?;
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let f = (-(rho.clone() * phi_s.clone())).simplify();
-                derived.push(DerivedLaw::new(
-                    format!("dP/d{s}"),
-                    f.clone(),
-                    "integrated from the anchor (double-exponential rule)",
-                ));
                 laws.density = Some(rho);
-                laws.integrand = Some(f);
+                integrand(&mut laws, &mut derived, format!("dP/d{s}"), f, "");
             }
             (_, Unknown::Nothing) => {
                 let rho = need(&m.density, "balance.density", "auditing a set of laws")?;
@@ -250,12 +244,4 @@ impl Laws {
 /// The formulas `stillpoint derive` prints for a model.
 pub fn derived_laws(m: &Model) -> Result<Vec<DerivedLaw>, ClosureError> {
     Ok(Laws::build(m)?.derived)
-}
-
-fn shape_word(s: Shape) -> &'static str {
-    match s {
-        Shape::Slab => "slab",
-        Shape::Spherical => "sphere",
-        _ => "disk",
-    }
 }

@@ -22,6 +22,7 @@ pub use laws::{derived_laws, DerivedLaw, Laws};
 
 use crate::background::{Background, PointState, Shape};
 use crate::formula::{FormulaError, Program};
+use crate::keys::Keyed;
 use crate::model::{Model, Unknown};
 use integrate::Cumulative;
 
@@ -172,15 +173,22 @@ impl Background for Solved {
     }
 }
 
+/// Compile a formula of the model, an error naming where it came from.
+pub fn compile(
+    model: &Model,
+    expr: &crate::formula::Expr,
+    origin: &str,
+) -> Result<Program, ClosureError> {
+    model.compile(expr).map_err(|error| ClosureError::Formula {
+        origin: origin.into(),
+        error,
+    })
+}
+
 /// Solve the model's closure over the domain.
 pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
     let laws = Laws::build(model)?;
-    let compile = |e: &crate::formula::Expr, origin: &str| {
-        model.compile(e).map_err(|error| ClosureError::Formula {
-            origin: origin.into(),
-            error,
-        })
-    };
+    let compile = |e: &crate::formula::Expr, origin: &str| compile(model, e, origin);
     let opt = |e: &Option<crate::formula::Expr>, origin: &str| {
         e.as_ref().map(|e| compile(e, origin)).transpose()
     };

@@ -12,6 +12,7 @@ use std::path::Path;
 
 use super::{axis_units, Document, OutputError};
 use crate::grid::Layout;
+use crate::keys::Keyed;
 
 /// Writes the state of a 1D `doc` as CSV to `path` (replacing any file there;
 /// use [`super::commit`] for a safe replacement). Grids with more than one

@@ -22,6 +22,7 @@ use hdf5::{File, Group, Location};
 
 use super::{axis_units, Document, OutputError, Precision, SINGLE_PRECISION_CAUTION};
 use crate::fields::FieldSet;
+use crate::keys::Keyed;
 
 type H5Result = Result<(), Box<dyn Error>>;
 

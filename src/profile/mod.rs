@@ -20,6 +20,7 @@ use serde_json::Value;
 use crate::background::Shape;
 use crate::formula::{parse_with_names, resolve_parameters, Expr};
 use crate::grid::Grid;
+use crate::keys::Keyed;
 use crate::model::{Anchor, Law, Model, Unknown};
 use crate::output::Precision;
 use crate::sample::SamplingRule;
@@ -189,7 +190,7 @@ pub fn from_text(
         None => String::new(),
     };
     let units = match top.child("units") {
-        Some(n) => n.node().choice(&UnitSystem::ALL)?,
+        Some(n) => n.node().choice(UnitSystem::KEYS)?,
         None => UnitSystem::Code,
     };
 
@@ -254,12 +255,8 @@ pub fn from_text(
         "anchor",
         "vertically_integrated",
     ])?;
-    let shape = balance.require("shape")?.node().choice(&[
-        (Shape::Slab, "slab"),
-        (Shape::Spherical, "sphere"),
-        (Shape::DiskMidplane, "disk"),
-    ])?;
-    let unknown = balance.require("solve_for")?.node().choice(&Unknown::ALL)?;
+    let shape = balance.require("shape")?.node().choice(Shape::KEYS)?;
+    let unknown = balance.require("solve_for")?.node().choice(Unknown::KEYS)?;
     let coord = shape.coordinate();
     let mut law_names = consts.clone();
     law_names.push(coord);
