@@ -117,9 +117,9 @@ pub fn run(
         }
         positivity.push((name.to_string(), m, at, strict));
     };
-    track("density", true, &|x| bg.at(x).density);
-    track("pressure", true, &|x| bg.at(x).pressure);
-    track("c^2", true, &|x| bg.at(x).sound_speed_sq());
+    track("density", true, &|x| bg.on_line(x).density);
+    track("pressure", true, &|x| bg.on_line(x).pressure);
+    track("c^2", true, &|x| bg.on_line(x).sound_speed_sq());
     if model.shape == Shape::DiskMidplane {
         if let Some(v2) = &laws.rotation_sq {
             let p = closure::compile(model, v2, "rotation")?;
@@ -270,7 +270,7 @@ fn integral_form(
 ) -> Result<Verdict, ClosureError> {
     let f = closure::compile(model, integrand, "integrand")?;
     let q = |x: f64| {
-        let st = bg.at(x);
+        let st = bg.on_line(x);
         match (model.shape, model.unknown) {
             (Shape::DiskMidplane, crate::model::Unknown::Density) => st.density.ln(),
             (_, crate::model::Unknown::Pressure) => st.pressure,
@@ -391,7 +391,7 @@ fn discrete_imbalance(shape: Shape, bg: &dyn Background, centres: &[f64]) -> Opt
     if centres.len() < 3 {
         return None;
     }
-    let st: Vec<_> = centres.iter().map(|&x| bg.at(x)).collect();
+    let st: Vec<_> = centres.iter().map(|&x| bg.on_line(x)).collect();
     let (mut max, mut at) = (0.0f64, centres[0]);
     for i in 1..centres.len() - 1 {
         let ds = centres[i + 1] - centres[i - 1];
@@ -399,7 +399,7 @@ fn discrete_imbalance(shape: Shape, bg: &dyn Background, centres: &[f64]) -> Opt
         let dphi = (st[i + 1].potential - st[i - 1].potential) / ds;
         let rho = st[i].density;
         let cen = if shape == Shape::DiskMidplane {
-            rho * st[i].rotation.powi(2) / centres[i]
+            rho * st[i].rotation().powi(2) / centres[i]
         } else {
             0.0
         };
@@ -477,27 +477,23 @@ impl fmt::Display for Report {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::background::PointState;
+    use crate::background::{Frame, State};
 
     /// An isothermal slab ρ = P = e^(−z), Φ = z (g = c² = 1), whose density
     /// is not a number at z = 0.5.
     struct Holed;
     impl Background for Holed {
-        fn shape(&self) -> Shape {
-            Shape::Slab
+        fn frame(&self) -> Frame {
+            Frame::Slab
         }
-        fn at(&self, z: f64) -> PointState {
+        fn at(&self, x: &[f64]) -> State {
+            let z = x[0];
             let rho = if (z - 0.5).abs() < 1e-12 {
                 f64::NAN
             } else {
                 (-z).exp()
             };
-            PointState {
-                density: rho,
-                pressure: (-z).exp(),
-                rotation: 0.0,
-                potential: z,
-            }
+            State::at_rest(rho, (-z).exp(), z)
         }
     }
 

@@ -72,6 +72,13 @@ pub enum Command {
         /// Overwrite existing output files.
         #[arg(long)]
         force: bool,
+        /// Leave out of the file what differs between two builds of one
+        /// profile (the creation time and the command line), so that the
+        /// files are identical byte for byte.
+        #[arg(long)]
+        reproducible: bool,
+        #[command(flatten)]
+        stream: StreamArgs,
     },
     /// Check the balance with exact symbolic derivatives; exits non-zero when it fails.
     #[command(
@@ -119,6 +126,19 @@ pub enum Command {
     Profiles,
 }
 
+/// How a build uses the machine. Neither changes a single value in the
+/// file.
+#[derive(Debug, Args)]
+pub struct StreamArgs {
+    /// Threads to sample with (default: every core).
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..))]
+    pub threads: Option<u32>,
+    /// Rows of the first grid axis sampled and written at a time (default:
+    /// about 8 MiB of values); memory is bounded by it.
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u64).range(1..))]
+    pub slab_rows: Option<u64>,
+}
+
 /// Options every profile verb takes.
 #[derive(Debug, Args)]
 pub struct Common {
@@ -152,7 +172,19 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             output,
             csv,
             force,
-        } => build(&common, output, csv, force, argv),
+            reproducible,
+            stream,
+        } => {
+            let run = || build(&common, output, csv, force, reproducible, &stream, argv);
+            match stream.threads {
+                None => run(),
+                Some(n) => rayon::ThreadPoolBuilder::new()
+                    .num_threads(n as usize)
+                    .build()
+                    .map_err(|e| Error::Usage(format!("--threads: {e}")))?
+                    .install(run),
+            }
+        }
         Command::Check { common, tolerance } => {
             let loaded = common.load()?;
             let (bg, domain) = pipeline::solve(&loaded)?;
@@ -274,6 +306,8 @@ fn build(
     output: Option<PathBuf>,
     csv: bool,
     force: bool,
+    reproducible: bool,
+    stream: &StreamArgs,
     argv: &str,
 ) -> Result<Outcome, Error> {
     let loaded = common.load()?;
@@ -295,17 +329,20 @@ fn build(
             "--csv: a CSV table is written for 1D grids only".into(),
         ));
     }
-    let built = pipeline::build(&loaded, argv)?;
-    let doc = Document {
-        grid: &loaded.grid,
-        background: &built.background,
-        state: &built.state,
-        metadata: &built.metadata,
+    let built = pipeline::build(&loaded, argv, reproducible)?;
+    let opts = pipeline::StreamOptions {
+        precision: loaded.output.precision,
+        slab_rows: stream.slab_rows.map(|n| n as usize),
     };
-    output::commit(&h5, force, |tmp| {
-        output::write_hdf5(&doc, tmp, loaded.output.precision)
-    })?;
+    output::commit(&h5, force, |tmp| built.write_hdf5(tmp, &opts))?;
     if let Some(c) = &csv_path {
+        let set = built.sample_all()?;
+        let doc = Document {
+            grid: &loaded.grid,
+            background: &set,
+            state: &set,
+            metadata: &built.metadata,
+        };
         output::commit(c, force, |tmp| output::write_csv(&doc, tmp))?;
     }
     report_written(&loaded, &h5, csv_path.as_deref(), &built.metadata.cautions);

@@ -5,14 +5,16 @@
 //! and sampler, the stability cautions, and assembling the metadata. Does
 //! not own: command-line parsing or file formats.
 
-use crate::background::{Background, Memoized, Shape};
+use crate::background::{Background, Shape};
 use crate::closure::{self, ClosureError, Domain, Solved};
-use crate::fields::FieldSet;
+use std::path::Path;
+
+use crate::fields::{slab_ranges, FieldSet, Slab};
 use crate::grid::{Coord, Grid, Layout};
 use crate::keys::Keyed;
-use crate::output::{Metadata, OutputError};
+use crate::output::{GroupPlan, H5Stream, Metadata, OutputError, Precision};
 use crate::profile::{Loaded, ProfileError};
-use crate::sample::{self, GasConstants, SampleError};
+use crate::sample::{self, GasConstants, SampleError, Sampler};
 
 /// Anything that can stop a command.
 #[derive(Debug, thiserror::Error)]
@@ -109,32 +111,34 @@ pub fn gas_constants(loaded: &Loaded) -> GasConstants {
     }
 }
 
-/// Everything `build` writes.
-pub struct Built {
-    /// The equilibrium alone.
-    pub background: FieldSet,
-    /// Equilibrium plus perturbations (equal to the background for now).
-    pub state: FieldSet,
+/// How `build` streams its output.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct StreamOptions {
+    /// Width of the field datasets.
+    pub precision: Precision,
+    /// Rows of the first grid axis per slab; None chooses about
+    /// [`SLAB_BYTES`] of field values per slab.
+    pub slab_rows: Option<usize>,
+}
+
+/// Field values held per slab when the slab size is not given, in bytes.
+pub const SLAB_BYTES: usize = 8 << 20;
+
+/// A solved background ready to be sampled and written: what `build` writes.
+pub struct Built<'a> {
+    loaded: &'a Loaded,
+    background: Solved,
     /// File metadata, cautions included.
     pub metadata: Metadata,
 }
 
-/// Solve, sample and describe.
-pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
+/// Solve and describe; sampling happens as the output is written.
+pub fn build<'a>(
+    loaded: &'a Loaded,
+    command_line: &str,
+    reproducible: bool,
+) -> Result<Built<'a>, Error> {
     let (bg, domain) = solve(loaded)?;
-    let memo = Memoized::new(&bg);
-    let source: &dyn Background = if bg.is_integrated() { &memo } else { &bg };
-    let background = sample::sample(
-        source,
-        &loaded.grid,
-        &loaded.sampling,
-        &gas_constants(loaded),
-    )
-    .map_err(|error| Error::Sample {
-        source_label: loaded.source.clone(),
-        error,
-    })?;
-    let state = background.clone();
     let metadata = Metadata {
         profile_json: loaded.json_text.clone(),
         command_line: command_line.to_string(),
@@ -150,12 +154,112 @@ pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
             ("solved_for".into(), loaded.model.unknown.key().into()),
             ("gamma".into(), format!("{}", loaded.model.gamma)),
         ],
+        reproducible,
     };
     Ok(Built {
-        background,
-        state,
+        loaded,
+        background: bg,
         metadata,
     })
+}
+
+impl Built<'_> {
+    /// The background as solved.
+    pub fn background(&self) -> &dyn Background {
+        &self.background
+    }
+
+    /// The sampler of the background on the profile's grid and rule.
+    pub fn sampler(&self) -> Result<Sampler<'_>, Error> {
+        Sampler::new(
+            &self.background,
+            &self.loaded.grid,
+            &self.loaded.sampling,
+            &gas_constants(self.loaded),
+        )
+        .map_err(|e| self.sample_error(e))
+    }
+
+    fn sample_error(&self, error: SampleError) -> Error {
+        Error::Sample {
+            source_label: self.loaded.source.clone(),
+            error,
+        }
+    }
+
+    /// Every field on the whole grid, in memory (small grids, CSV tables).
+    pub fn sample_all(&self) -> Result<FieldSet, Error> {
+        sample::sample(
+            &self.background,
+            &self.loaded.grid,
+            &self.loaded.sampling,
+            &gas_constants(self.loaded),
+        )
+        .map_err(|e| self.sample_error(e))
+    }
+
+    /// Sample slab by slab and stream into a new HDF5 file at `path`:
+    /// `/background` holds the fields and `/state` links to them (nothing
+    /// perturbs the state yet). One thread samples the next slab while
+    /// another writes the last, so memory holds at most three slabs.
+    pub fn write_hdf5(&self, path: &Path, opts: &StreamOptions) -> Result<(), Error> {
+        let sampler = self.sampler()?;
+        let fields = sampler.fields();
+        let grid = &self.loaded.grid;
+        let groups = [
+            GroupPlan {
+                name: "background".into(),
+                fields: fields.clone(),
+                link_to: None,
+            },
+            GroupPlan {
+                name: "state".into(),
+                fields: fields.clone(),
+                link_to: Some("background".into()),
+            },
+        ];
+        let mut out = H5Stream::create(
+            path,
+            grid,
+            &self.metadata,
+            sampler.sampling(),
+            &groups,
+            opts.precision,
+        )?;
+        let shape = grid.shape();
+        let rows = opts.slab_rows.unwrap_or_else(|| {
+            let row_bytes = 8 * fields.len() * shape[1..].iter().product::<usize>();
+            (SLAB_BYTES / row_bytes.max(1)).max(1)
+        });
+        let (tx, rx) = std::sync::mpsc::sync_channel::<Result<Slab, SampleError>>(1);
+        let producer = &sampler;
+        std::thread::scope(|scope| {
+            scope.spawn(move || {
+                for r in slab_ranges(shape[0], rows) {
+                    let slab = producer.slab(r);
+                    let failed = slab.is_err();
+                    if tx.send(slab).is_err() || failed {
+                        break;
+                    }
+                }
+            });
+            for slab in rx {
+                let slab = slab.map_err(|e| self.sample_error(e))?;
+                out.write("background", &slab)?;
+            }
+            Ok::<(), Error>(())
+        })?;
+        out.finish()?;
+        Ok(())
+    }
+}
+
+impl crate::output::AtPath for Error {
+    fn at_path(&mut self, path: &Path) {
+        if let Error::Output(e) = self {
+            e.at_path(path);
+        }
+    }
 }
 
 /// Plain-language cautions: instability of the equilibrium and an anchor
@@ -165,13 +269,13 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
     let s = m.coordinate();
     let mut out = Vec::new();
     let pts = domain.scan_points();
-    let states: Vec<_> = pts.iter().map(|&x| bg.at(x)).collect();
+    let states: Vec<_> = pts.iter().map(|&x| bg.on_line(x)).collect();
     if m.shape == Shape::DiskMidplane {
         // Rayleigh (1917): axisymmetric rotation is stable where the
         // specific angular momentum (R v_φ)² grows outward.
         if let Some(x) = pts.windows(2).zip(states.windows(2)).find_map(|(p, st)| {
-            let j0 = (p[0] * st[0].rotation).powi(2);
-            let j1 = (p[1] * st[1].rotation).powi(2);
+            let j0 = (p[0] * st[0].rotation()).powi(2);
+            let j1 = (p[1] * st[1].rotation()).powi(2);
             (j1 < j0 * (1.0 - 1e-12)).then_some(p[0])
         }) {
             out.push(format!(

@@ -57,7 +57,7 @@ pub fn tabulate(model: &Model, bg: &dyn Background, at: &[f64]) -> Result<Table,
     }
     let mut rows = Vec::with_capacity(at.len());
     for &x in at {
-        let st = bg.at(x);
+        let st = bg.on_line(x);
         let c2 = st.sound_speed_sq();
         let mut row = vec![x, st.density, st.pressure, c2];
         if let Some(t) = tfac {
@@ -66,10 +66,10 @@ pub fn tabulate(model: &Model, bg: &dyn Background, at: &[f64]) -> Result<Table,
         if disk {
             // Keplerian speed of the potential: v_K² = R ∂Φ/∂R; H = c/Ω_K.
             let vk = (x * phi_s.eval(&[x])).sqrt();
-            let ratio = st.rotation / vk;
+            let ratio = st.rotation() / vk;
             row.extend([
-                st.rotation,
-                st.rotation / x,
+                st.rotation(),
+                st.rotation() / x,
                 vk,
                 ratio,
                 1.0 - ratio,

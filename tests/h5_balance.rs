@@ -7,7 +7,7 @@
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
-use stillpoint::background::{Background, PointState, Shape};
+use stillpoint::background::{Background, Frame, State};
 use stillpoint::fields::FieldSet;
 use stillpoint::grid::{Axis, Coord, Grid};
 use stillpoint::output::{commit, write_hdf5, Document, Metadata, Precision};
@@ -24,17 +24,13 @@ struct IsothermalSlab {
 }
 
 impl Background for IsothermalSlab {
-    fn shape(&self) -> Shape {
-        Shape::Slab
+    fn frame(&self) -> Frame {
+        Frame::Slab
     }
-    fn at(&self, z: f64) -> PointState {
+    fn at(&self, x: &[f64]) -> State {
+        let z = x[0];
         let rho = self.rho0 * (-z * self.g / self.c2).exp();
-        PointState {
-            density: rho,
-            pressure: self.c2 * rho,
-            rotation: 0.0,
-            potential: self.g * z,
-        }
+        State::at_rest(rho, self.c2 * rho, self.g * z)
     }
 }
 
@@ -52,10 +48,14 @@ struct PowerLawDisk {
 }
 
 impl Background for PowerLawDisk {
-    fn shape(&self) -> Shape {
-        Shape::DiskMidplane
+    fn frame(&self) -> Frame {
+        Frame::Axisymmetric
     }
-    fn at(&self, r: f64) -> PointState {
+    fn depends_on(&self) -> [bool; 2] {
+        [true, false]
+    }
+    fn at(&self, x: &[f64]) -> State {
+        let r = x[0];
         let sigma = self.sigma0 * r.powf(-self.p);
         let c2 = self.c0_sq * r.powf(-self.q);
         let correction = if self.pressure_corrected {
@@ -63,12 +63,12 @@ impl Background for PowerLawDisk {
         } else {
             0.0
         };
-        PointState {
-            density: sigma,
-            pressure: sigma * c2,
-            rotation: (self.gm / r - correction).sqrt(),
-            potential: -self.gm / r,
-        }
+        State::rotating(
+            sigma,
+            sigma * c2,
+            -self.gm / r,
+            (self.gm / r - correction).sqrt(),
+        )
     }
 }
 
@@ -87,7 +87,7 @@ fn write(dir: &Path, name: &str, bg: &dyn Background, grid: &Grid, rule: Samplin
     let gas = GasConstants {
         gamma: 1.4,
         temperature_per_c2: None,
-        vertically_integrated: bg.shape() == Shape::DiskMidplane,
+        vertically_integrated: bg.frame() == Frame::Axisymmetric,
     };
     let set: FieldSet = sample(bg, grid, &rule, &gas).expect("sampling");
     let metadata = Metadata {
@@ -97,6 +97,7 @@ fn write(dir: &Path, name: &str, bg: &dyn Background, grid: &Grid, rule: Samplin
         units: UnitSystem::Code,
         cautions: vec![],
         extra: vec![("test_case".into(), name.into())],
+        reproducible: false,
     };
     let doc = Document {
         grid,

@@ -20,7 +20,7 @@ mod laws;
 
 pub use laws::{derived_laws, DerivedLaw, Laws};
 
-use crate::background::{Background, PointState, Shape};
+use crate::background::{Background, Frame, Shape, State};
 use crate::formula::{FormulaError, Program};
 use crate::keys::Keyed;
 use crate::model::{Model, Unknown};
@@ -127,12 +127,9 @@ impl Solved {
     }
 }
 
-impl Background for Solved {
-    fn shape(&self) -> Shape {
-        self.shape
-    }
-
-    fn at(&self, s: f64) -> PointState {
+impl Solved {
+    /// The state at coordinate `s` of the balance line.
+    fn state(&self, s: f64) -> State {
         let ev = |p: &Option<Program>| p.as_ref().map(|p| p.eval(&[s]));
         let c2 = ev(&self.sound_speed_sq);
         let (density, pressure) = match &self.integral {
@@ -158,18 +155,33 @@ impl Background for Solved {
                 }
             }
         };
+        let potential = self.potential.eval(&[s]);
+        if self.shape != Shape::DiskMidplane {
+            return State::at_rest(density, pressure, potential);
+        }
         // A given rotation law keeps its sign (the sense of rotation); a
         // derived one is prograde, v_φ = +√(v_φ²).
         let rotation = match &self.rotation {
             Some(v) => v.eval(&[s]),
             None => self.rotation_sq_at(s).map_or(0.0, f64::sqrt),
         };
-        PointState {
-            density,
-            pressure,
-            rotation,
-            potential: self.potential.eval(&[s]),
-        }
+        State::rotating(density, pressure, potential, rotation)
+    }
+}
+
+impl Background for Solved {
+    fn frame(&self) -> Frame {
+        self.shape.frame()
+    }
+
+    /// Every closure so far balances along one coordinate: a disk's laws are
+    /// those of its midplane.
+    fn depends_on(&self) -> [bool; 2] {
+        [true, false]
+    }
+
+    fn at(&self, x: &[f64]) -> State {
+        self.state(x[0])
     }
 }
 
@@ -319,7 +331,7 @@ fn show(x: f64) -> String {
 /// every scan point.
 fn verify_positive(s: &str, bg: &Solved, pts: &[f64]) -> Result<(), ClosureError> {
     for &x in pts {
-        let st = bg.at(x);
+        let st = bg.state(x);
         let c2 = st.sound_speed_sq();
         for (name, v) in [
             ("density", st.density),

@@ -12,12 +12,14 @@
 //! [`Layout`] variants and new methods; the enums are `#[non_exhaustive]`.
 
 mod axis;
+mod embed;
 
 use std::f64::consts::PI;
 
 use thiserror::Error;
 
 pub use axis::{Axis, Spacing};
+pub use embed::Embedding;
 
 /// A coordinate a grid axis can run along.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -299,6 +301,18 @@ impl Grid {
         match self.layout {
             Layout::Line(Coord::Sph) => point[0] * point[0],
             Layout::Line(Coord::R) | Layout::Polar => point[0],
+            _ => 1.0,
+        }
+    }
+
+    /// The factor of the volume element that belongs to axis `axis` at
+    /// coordinate `x`: every layout's volume element is a product of one
+    /// factor per axis (R on the R axis of `[R]` and `[R, phi]`, r² on `[r]`,
+    /// 1 otherwise), so tensor rules weight each axis on its own.
+    pub fn volume_factor(&self, axis: usize, x: f64) -> f64 {
+        match (self.layout, axis) {
+            (Layout::Line(Coord::Sph), 0) => x * x,
+            (Layout::Line(Coord::R) | Layout::Polar, 0) => x,
             _ => 1.0,
         }
     }

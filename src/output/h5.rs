@@ -1,30 +1,36 @@
-//! The HDF5 writer (design §6).
+//! The HDF5 writer (design §6), streaming: the file is created with every
+//! dataset chunked and empty, each [`Slab`] of rows is written as a
+//! hyperslab, and memory is bounded by the slab, whatever the grid.
 //!
 //! Owns: the layout of the file — `/grid/<axis>_centers` and
-//! `/grid/<axis>_edges`, `/background/<field>` and `/state/<field>` shaped like
-//! the grid (C order, axes in the grid's order) — and its attributes: on the
-//! root `profile`, `command_line`, `generator`, `unit_system`,
-//! `unit_<name>_cgs` and `unit_<name>` for each base unit (physical systems
-//! only), `sampling`, `cautions` (lines joined by newlines), `created` (UTC,
-//! ISO 8601) and the metadata's extra pairs; on every dataset `units` and
-//! (fields) `sampling`. Does not own the all-or-nothing placement of the file
-//! (see [`super::commit`]) nor any physics.
+//! `/grid/<axis>_edges`, one group per field set (`/background`, `/state`,
+//! …) with `<field>` datasets shaped by each field's placement (C order, axes
+//! in the grid's order), or soft links to another group's datasets — and its
+//! attributes: on the root `profile`, `command_line`, `generator`,
+//! `unit_system`, `unit_<name>_cgs` and `unit_<name>` for each base unit
+//! (physical systems only), `sampling`, `cautions` (lines joined by
+//! newlines), `created` (UTC, ISO 8601; left out for reproducible files) and
+//! the metadata's extra pairs; on every dataset `units`, `placement` and
+//! (fields) `sampling`. Object time stamps are off, so two builds of one
+//! profile give identical datasets. Does not own the all-or-nothing
+//! placement of the file (see [`super::commit`]) nor any physics.
 //!
 //! Grid coordinates are always written in double precision; only the fields
-//! follow [`Precision`].
+//! follow [`Precision`], converted slab by slab.
 
 use std::error::Error;
 use std::path::Path;
 use std::time::{SystemTime, UNIX_EPOCH};
 
 use hdf5::types::VarLenUnicode;
-use hdf5::{File, Group, Location};
+use hdf5::{Dataset, File, Group, Hyperslab, Location, SliceOrIndex};
 
 use super::{axis_units, Document, OutputError, Precision, SINGLE_PRECISION_CAUTION};
-use crate::fields::FieldSet;
+use crate::fields::{FieldSpec, Slab};
+use crate::grid::Grid;
 use crate::keys::Keyed;
 
-type H5Result = Result<(), Box<dyn Error>>;
+type H5Result<T = ()> = Result<T, Box<dyn Error>>;
 
 /// Root attribute names the writer sets itself; `extra` may not reuse them.
 const RESERVED: [&str; 7] = [
@@ -37,101 +43,301 @@ const RESERVED: [&str; 7] = [
     "created",
 ];
 
-/// Writes `doc` to a new HDF5 file at `path` (replacing any file there; use
-/// [`super::commit`] for a safe replacement). With [`Precision::Single`] the
-/// fields are written as 32-bit floats and [`SINGLE_PRECISION_CAUTION`] is
-/// added to the `cautions` attribute.
-pub fn write_hdf5(doc: &Document, path: &Path, precision: Precision) -> Result<(), OutputError> {
-    doc.check(path)?;
-    for (name, _) in &doc.metadata.extra {
-        if RESERVED.contains(&name.as_str()) || name.starts_with("unit_") {
-            return Err(OutputError::Inconsistent {
-                path: path.to_path_buf(),
-                message: format!("extra attribute `{name}` collides with a reserved name"),
-            });
-        }
-    }
-    write(doc, path, precision).map_err(|e| OutputError::Hdf5 {
-        path: path.to_path_buf(),
-        message: e.to_string(),
-    })
+/// Target size of one chunk of a field dataset, in bytes.
+const CHUNK_BYTES: usize = 512 * 1024;
+
+/// One group of fields in a file: written from slabs, or soft links to the
+/// same-named datasets of another group.
+#[derive(Clone, Debug, PartialEq)]
+pub struct GroupPlan {
+    /// Group name (`background`, `state`, …).
+    pub name: String,
+    /// The fields, in the order slabs hold them.
+    pub fields: Vec<FieldSpec>,
+    /// When set, the group holds links to this group's datasets and takes
+    /// no slabs.
+    pub link_to: Option<String>,
 }
 
-fn write(doc: &Document, path: &Path, precision: Precision) -> H5Result {
-    let file = File::create(path)?;
-    let meta = doc.metadata;
+/// An HDF5 file being written slab by slab. Create it with
+/// [`H5Stream::create`], hand it every slab of every written group, then
+/// [`H5Stream::finish`] it.
+pub struct H5Stream {
+    file: File,
+    path: std::path::PathBuf,
+    groups: Vec<(String, Vec<(FieldSpec, Dataset)>)>,
+    n0: usize,
+    precision: Precision,
+}
+
+fn h5_error(path: &Path) -> impl Fn(Box<dyn Error>) -> OutputError + '_ {
+    move |e| OutputError::Hdf5 {
+        path: path.to_path_buf(),
+        message: e.to_string(),
+    }
+}
+
+impl H5Stream {
+    /// Create the file at `path` (replacing any file there; use
+    /// [`super::commit`] for a safe replacement) with its attributes, the
+    /// grid, and an empty chunked dataset for every field of every group.
+    /// With [`Precision::Single`] the fields are 32-bit floats and
+    /// [`SINGLE_PRECISION_CAUTION`] is added to the cautions.
+    pub fn create(
+        path: &Path,
+        grid: &Grid,
+        meta: &super::Metadata,
+        sampling: &str,
+        groups: &[GroupPlan],
+        precision: Precision,
+    ) -> Result<H5Stream, OutputError> {
+        for (name, _) in &meta.extra {
+            if RESERVED.contains(&name.as_str()) || name.starts_with("unit_") {
+                return Err(OutputError::Inconsistent {
+                    path: path.to_path_buf(),
+                    message: format!("extra attribute `{name}` collides with a reserved name"),
+                });
+            }
+        }
+        Self::open(path, grid, meta, sampling, groups, precision).map_err(h5_error(path))
+    }
+
+    fn open(
+        path: &Path,
+        grid: &Grid,
+        meta: &super::Metadata,
+        sampling: &str,
+        groups: &[GroupPlan],
+        precision: Precision,
+    ) -> H5Result<H5Stream> {
+        let file = File::with_options()
+            .with_fcpl(|p| p.obj_track_times(false))
+            .create(path)?;
+        root_attributes(&file, meta, sampling, precision)?;
+        let units = meta.units;
+        let g = file.create_group("grid")?;
+        for axis in grid.axes() {
+            let unit = axis_units(axis, units);
+            for (suffix, values) in [("centers", axis.centers()), ("edges", axis.edges.clone())] {
+                let ds = g
+                    .new_dataset::<f64>()
+                    .shape(values.len())
+                    .create(format!("{}_{suffix}", axis.coord.name()).as_str())?;
+                ds.write_raw(values.as_slice())?;
+                string_attr(&ds, "units", &unit)?;
+            }
+        }
+        let names: Vec<&str> = grid.axes().iter().map(|a| a.coord.name()).collect();
+        let cells = grid.shape();
+        let mut written = Vec::new();
+        for plan in groups {
+            let group = file.create_group(&plan.name)?;
+            if let Some(target) = &plan.link_to {
+                for f in &plan.fields {
+                    group.link_soft(&format!("/{target}/{}", f.name), &f.name)?;
+                }
+                continue;
+            }
+            let mut sets = Vec::new();
+            for f in &plan.fields {
+                let ds = create_field(&group, f, &cells, precision)?;
+                string_attr(&ds, "units", &units.unit_string(f.dim))?;
+                string_attr(&ds, "sampling", sampling)?;
+                string_attr(&ds, "placement", &f.placement.describe(&names))?;
+                sets.push((f.clone(), ds));
+            }
+            written.push((plan.name.clone(), sets));
+        }
+        Ok(H5Stream {
+            file,
+            path: path.to_path_buf(),
+            groups: written,
+            n0: cells[0],
+            precision,
+        })
+    }
+
+    /// Write one slab of the written group `group` (by name).
+    pub fn write(&mut self, group: &str, slab: &Slab) -> Result<(), OutputError> {
+        let err = h5_error(&self.path);
+        let Some((_, sets)) = self.groups.iter().find(|(n, _)| n == group) else {
+            return Err(OutputError::Inconsistent {
+                path: self.path.clone(),
+                message: format!("no written group `{group}`"),
+            });
+        };
+        if slab.data.len() != sets.len() {
+            return Err(OutputError::Inconsistent {
+                path: self.path.clone(),
+                message: format!(
+                    "group `{group}` has {} fields, the slab {}",
+                    sets.len(),
+                    slab.data.len()
+                ),
+            });
+        }
+        for ((spec, ds), data) in sets.iter().zip(&slab.data) {
+            write_rows(ds, spec, slab.rows.clone(), self.n0, data, self.precision).map_err(&err)?;
+        }
+        Ok(())
+    }
+
+    /// Flush and close the file.
+    pub fn finish(self) -> Result<(), OutputError> {
+        self.file
+            .flush()
+            .map_err(|e| h5_error(&self.path)(Box::new(e)))?;
+        self.file
+            .close()
+            .map_err(|e| h5_error(&self.path)(Box::new(e)))
+    }
+}
+
+fn root_attributes(
+    file: &File,
+    meta: &super::Metadata,
+    sampling: &str,
+    precision: Precision,
+) -> H5Result {
     let units = meta.units;
-    string_attr(&file, "profile", &meta.profile_json)?;
-    string_attr(&file, "command_line", &meta.command_line)?;
-    string_attr(&file, "generator", &meta.generator)?;
-    string_attr(&file, "unit_system", units.key())?;
+    string_attr(file, "profile", &meta.profile_json)?;
+    if !meta.reproducible {
+        string_attr(file, "command_line", &meta.command_line)?;
+    }
+    string_attr(file, "generator", &meta.generator)?;
+    string_attr(file, "unit_system", units.key())?;
     if let Some(base) = units.base_units() {
         for (name, symbol, cgs) in base {
             file.new_attr::<f64>()
                 .create(format!("unit_{name}_cgs").as_str())?
                 .write_scalar(&cgs)?;
-            string_attr(&file, &format!("unit_{name}"), symbol)?;
+            string_attr(file, &format!("unit_{name}"), symbol)?;
         }
     }
-    string_attr(&file, "sampling", &doc.state.sampling)?;
+    string_attr(file, "sampling", sampling)?;
     let mut cautions = meta.cautions.clone();
     if precision == Precision::Single && !cautions.iter().any(|c| c == SINGLE_PRECISION_CAUTION) {
         cautions.push(SINGLE_PRECISION_CAUTION.to_string());
     }
-    string_attr(&file, "cautions", &cautions.join("\n"))?;
-    string_attr(&file, "created", &utc_now())?;
+    string_attr(file, "cautions", &cautions.join("\n"))?;
+    if !meta.reproducible {
+        string_attr(file, "created", &utc_now())?;
+    }
     for (name, value) in &meta.extra {
-        string_attr(&file, name, value)?;
+        string_attr(file, name, value)?;
     }
-
-    let grid = file.create_group("grid")?;
-    for axis in doc.grid.axes() {
-        let unit = axis_units(axis, units);
-        for (suffix, values) in [("centers", axis.centers()), ("edges", axis.edges.clone())] {
-            let ds = grid
-                .new_dataset::<f64>()
-                .shape(values.len())
-                .create(format!("{}_{suffix}", axis.coord.name()).as_str())?;
-            ds.write_raw(values.as_slice())?;
-            string_attr(&ds, "units", &unit)?;
-        }
-    }
-    write_fields(
-        &file.create_group("background")?,
-        doc.background,
-        doc,
-        precision,
-    )?;
-    write_fields(&file.create_group("state")?, doc.state, doc, precision)?;
-    file.flush()?;
     Ok(())
 }
 
-fn write_fields(group: &Group, set: &FieldSet, doc: &Document, precision: Precision) -> H5Result {
-    for field in &set.fields {
-        let ds = match precision {
-            Precision::Double => {
-                let ds = group
-                    .new_dataset::<f64>()
-                    .shape(set.shape.clone())
-                    .create(field.name.as_str())?;
-                ds.write_raw(field.data.as_slice())?;
-                ds
-            }
-            Precision::Single => {
-                let data: Vec<f32> = field.data.iter().map(|&v| v as f32).collect();
-                let ds = group
-                    .new_dataset::<f32>()
-                    .shape(set.shape.clone())
-                    .create(field.name.as_str())?;
-                ds.write_raw(data.as_slice())?;
-                ds
-            }
-        };
-        string_attr(&ds, "units", &doc.metadata.units.unit_string(field.dim))?;
-        string_attr(&ds, "sampling", &set.sampling)?;
+/// The chunk shape of a dataset: whole trailing dimensions while they fit in
+/// [`CHUNK_BYTES`], then as many rows of the next dimension as fit, then 1.
+/// It depends on the dataset alone, never on how it is written.
+pub fn chunk_shape(shape: &[usize], bytes_per_value: usize) -> Vec<usize> {
+    let mut chunk = vec![1; shape.len()];
+    let mut size = bytes_per_value;
+    for a in (0..shape.len()).rev() {
+        let fit = (CHUNK_BYTES / size).max(1);
+        chunk[a] = shape[a].min(fit).max(1);
+        size *= chunk[a];
+        if chunk[a] < shape[a] {
+            break;
+        }
+    }
+    chunk
+}
+
+fn create_field(
+    group: &Group,
+    f: &FieldSpec,
+    cells: &[usize],
+    precision: Precision,
+) -> H5Result<Dataset> {
+    let shape = f.placement.shape(cells);
+    let (b, ds) = match precision {
+        Precision::Double => (8, group.new_dataset::<f64>()),
+        Precision::Single => (4, group.new_dataset::<f32>()),
+    };
+    Ok(ds
+        .shape(shape.clone())
+        .chunk(chunk_shape(&shape, b))
+        .create(f.name.as_str())?)
+}
+
+fn write_rows(
+    ds: &Dataset,
+    spec: &FieldSpec,
+    rows: std::ops::Range<usize>,
+    n0: usize,
+    data: &[f64],
+    precision: Precision,
+) -> H5Result {
+    let shape = ds.shape();
+    let rows = spec.placement.rows(rows, n0);
+    let mut slab_shape = shape.clone();
+    slab_shape[0] = rows.len();
+    let want: usize = slab_shape.iter().product();
+    if data.len() != want {
+        return Err(format!(
+            "field `{}`: the slab holds {} values, its rows need {want}",
+            spec.name,
+            data.len()
+        )
+        .into());
+    }
+    let mut sel: Vec<SliceOrIndex> = vec![rows.into()];
+    sel.extend((1..shape.len()).map(|_| SliceOrIndex::from(..)));
+    let sel = Hyperslab::from(sel);
+    let dims = ndarray::IxDyn(&slab_shape);
+    match precision {
+        Precision::Double => {
+            ds.write_slice(ndarray::ArrayViewD::from_shape(dims, data)?, sel)?;
+        }
+        Precision::Single => {
+            let single: Vec<f32> = data.iter().map(|&v| v as f32).collect();
+            ds.write_slice(ndarray::ArrayViewD::from_shape(dims, &single)?, sel)?;
+        }
     }
     Ok(())
+}
+
+/// Writes `doc` to a new HDF5 file at `path` in one slab (replacing any file
+/// there; use [`super::commit`] for a safe replacement). When the state is
+/// the background itself (the same field set), `/state` holds links to
+/// `/background`.
+pub fn write_hdf5(doc: &Document, path: &Path, precision: Precision) -> Result<(), OutputError> {
+    doc.check(path)?;
+    let specs = |set: &crate::fields::FieldSet| set.fields.iter().map(|f| f.spec()).collect();
+    let linked = std::ptr::eq(doc.background, doc.state);
+    let groups = [
+        GroupPlan {
+            name: "background".into(),
+            fields: specs(doc.background),
+            link_to: None,
+        },
+        GroupPlan {
+            name: "state".into(),
+            fields: specs(doc.state),
+            link_to: linked.then(|| "background".to_string()),
+        },
+    ];
+    let mut out = H5Stream::create(
+        path,
+        doc.grid,
+        doc.metadata,
+        &doc.state.sampling,
+        &groups,
+        precision,
+    )?;
+    let n0 = doc.grid.shape()[0];
+    let slab = |set: &crate::fields::FieldSet| Slab {
+        rows: 0..n0,
+        data: set.fields.iter().map(|f| f.data.clone()).collect(),
+    };
+    out.write("background", &slab(doc.background))?;
+    if !linked {
+        out.write("state", &slab(doc.state))?;
+    }
+    out.finish()
 }
 
 /// A scalar variable-length UTF-8 string attribute.

@@ -21,7 +21,7 @@ use crate::grid::{Axis, Grid};
 use crate::units::{Dim, UnitSystem};
 
 pub use csv::write_csv;
-pub use h5::write_hdf5;
+pub use h5::{chunk_shape, write_hdf5, GroupPlan, H5Stream};
 
 /// The caution added to a file written in single precision.
 pub const SINGLE_PRECISION_CAUTION: &str = "written in single precision: relative rounding of \
@@ -43,6 +43,9 @@ pub struct Metadata {
     pub cautions: Vec<String>,
     /// Further (name, value) pairs written as root attributes.
     pub extra: Vec<(String, String)>,
+    /// Leave out what varies between two builds of one profile (the
+    /// creation time and the command line), so that files compare equal.
+    pub reproducible: bool,
 }
 
 impl Metadata {
@@ -84,12 +87,17 @@ impl Document<'_> {
                 ));
             }
             for field in &set.fields {
-                if field.data.len() != self.grid.len() {
+                let want: usize = field.placement.shape(&shape).iter().product();
+                if field.data.len() != want {
+                    let needs = if field.placement == crate::fields::Placement::cell() {
+                        format!("the grid has {want} cells")
+                    } else {
+                        format!("its placement on the grid needs {want}")
+                    };
                     return fail(format!(
-                        "{group} field `{}` holds {} values, the grid has {} cells",
+                        "{group} field `{}` holds {} values, {needs}",
                         field.name,
                         field.data.len(),
-                        self.grid.len()
                     ));
                 }
             }
@@ -184,22 +192,24 @@ impl OutputError {
 /// unless `force`, lets `write` fill a temporary file `.<name>.partial-<pid>`
 /// in the same directory, removes it if `write` fails, and renames it onto
 /// `path` on success. Errors from `write` are reported against `path`.
-pub fn commit(
+pub fn commit<E: AtPath + From<OutputError>>(
     path: &Path,
     force: bool,
-    write: impl FnOnce(&Path) -> Result<(), OutputError>,
-) -> Result<(), OutputError> {
+    write: impl FnOnce(&Path) -> Result<(), E>,
+) -> Result<(), E> {
     let io = |e| OutputError::io(path, e);
     if !force && fs::symlink_metadata(path).is_ok() {
         return Err(OutputError::Exists {
             path: path.to_path_buf(),
-        });
+        }
+        .into());
     }
     let Some(name) = path.file_name() else {
         return Err(OutputError::Io {
             path: path.to_path_buf(),
             message: "not a file name".to_string(),
-        });
+        }
+        .into());
     };
     // Say plainly when the folder is missing, rather than let the writer
     // fail on the temporary file's name.
@@ -214,7 +224,8 @@ pub fn commit(
                 "the folder {} does not exist (create it first)",
                 dir.display()
             ),
-        });
+        }
+        .into());
     }
     let mut temp_name = std::ffi::OsString::from(".");
     temp_name.push(name);
@@ -222,7 +233,7 @@ pub fn commit(
     let temp = path.with_file_name(temp_name);
     if let Err(mut e) = write(&temp) {
         let _ = fs::remove_file(&temp);
-        *e.path_mut() = path.to_path_buf();
+        e.at_path(path);
         return Err(e);
     }
     let placed = if force {
@@ -241,7 +252,20 @@ pub fn commit(
     if placed.is_err() {
         let _ = fs::remove_file(&temp);
     }
-    placed
+    placed.map_err(E::from)
+}
+
+/// An error that may name a file: [`commit`] points it at the final path
+/// instead of the temporary file the writer saw.
+pub trait AtPath {
+    /// Name `path` as the file at fault, if the error names a file.
+    fn at_path(&mut self, path: &Path);
+}
+
+impl AtPath for OutputError {
+    fn at_path(&mut self, path: &Path) {
+        *self.path_mut() = path.to_path_buf();
+    }
 }
 
 #[cfg(test)]
@@ -279,11 +303,7 @@ pub(crate) mod tests {
         let set = FieldSet {
             shape: vec![3],
             sampling: "cell-centre point values".into(),
-            fields: vec![Field {
-                name: "density".into(),
-                dim: Dim::DENSITY,
-                data: vec![1.0, 2.0, 3.0],
-            }],
+            fields: vec![Field::cell("density", Dim::DENSITY, vec![1.0, 2.0, 3.0])],
         };
         let meta = Metadata {
             profile_json: "{}".into(),
@@ -292,6 +312,7 @@ pub(crate) mod tests {
             units: UnitSystem::Cgs,
             cautions: vec![],
             extra: vec![],
+            reproducible: false,
         };
         Parts { grid, set, meta }
     }
@@ -330,7 +351,7 @@ pub(crate) mod tests {
     fn failing_writer_leaves_nothing() {
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join("out.h5");
-        let e = commit(&path, false, |p| {
+        let e = commit(&path, false, |p| -> Result<(), OutputError> {
             fs::write(p, "half").unwrap();
             Err(OutputError::Hdf5 {
                 path: p.into(),

@@ -2,10 +2,11 @@
 //! [`SamplingRule`].
 //!
 //! Owns: the sampling rules (cell-centre point values, cell averages by
-//! tensor Gauss–Legendre quadrature weighted by the grid's volume element),
-//! and the loop over cells; the evaluation at one point (fields and their
-//! positivity/finiteness checks) lives in the `point` submodule and the
-//! quadrature rule in [`gauss`]. Does not own
+//! tensor Gauss–Legendre quadrature weighted by the grid's volume element)
+//! and their errors. The streaming [`Sampler`] (slabs of rows, blocks of
+//! points, parallel lines) lives in `stream`, what is computed at one point
+//! and the names of the fields in `slots`, the quadrature rule in
+//! [`gauss`]. Does not own
 //! the geometry (see [`crate::grid`]), the background (see
 //! [`crate::background`]) or any file format (see [`crate::output`]).
 //!
@@ -25,16 +26,16 @@
 //! v_y = v_φ x/R).
 
 pub mod gauss;
-mod point;
+mod slots;
+mod stream;
 
-use rayon::prelude::*;
 use thiserror::Error;
 
-use crate::background::{Background, Shape};
-use crate::fields::FieldSet;
-use crate::grid::{Coord, Grid, Layout};
-use gauss::{GaussLegendre, MAX_POINTS};
-use point::{assemble, PointSampler, MOM, RHO, SLOTS, VEL};
+use crate::background::Background;
+use crate::fields::{Field, FieldSet};
+use crate::grid::{Embedding, Grid};
+use gauss::MAX_POINTS;
+pub use stream::Sampler;
 
 /// How a cell's value is taken from the background.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -132,155 +133,50 @@ pub enum SampleError {
     },
 }
 
-/// Most axes a grid can have; fixed-size scratch arrays use it.
-const MAX_AXES: usize = 3;
-
-/// Nodes and weights of the rule on each cell of one axis, flattened as
-/// `cell * per_cell + k`.
-struct AxisRule {
-    per_cell: usize,
-    nodes: Vec<f64>,
-    weights: Vec<f64>,
-}
-
-impl AxisRule {
-    fn new(edges: &[f64], rule: Option<&GaussLegendre>) -> AxisRule {
-        let per_cell = rule.map_or(1, |r| r.nodes.len());
-        let mut nodes = Vec::with_capacity((edges.len() - 1) * per_cell);
-        let mut weights = Vec::with_capacity(nodes.capacity());
-        for w in edges.windows(2) {
-            let (mid, half) = (0.5 * (w[0] + w[1]), 0.5 * (w[1] - w[0]));
-            match rule {
-                None => {
-                    nodes.push(mid);
-                    weights.push(1.0);
-                }
-                Some(r) => {
-                    for (x, wt) in r.nodes.iter().zip(&r.weights) {
-                        nodes.push(mid + half * x);
-                        weights.push(half * wt);
-                    }
-                }
-            }
-        }
-        AxisRule {
-            per_cell,
-            nodes,
-            weights,
-        }
-    }
-}
-
-/// Samples `bg` on `grid` under `rule`; see the module documentation for the
-/// fields and how each is averaged.
+/// Samples `bg` on the whole of `grid` under `rule` and holds every field in
+/// memory; see the module documentation for the fields and how each is
+/// averaged. For large grids stream slabs from a [`Sampler`] instead.
 pub fn sample(
     bg: &dyn Background,
     grid: &Grid,
     rule: &SamplingRule,
     gas: &GasConstants,
 ) -> Result<FieldSet, SampleError> {
-    check_inputs(bg, grid, rule, gas)?;
-    let gauss = match rule {
-        SamplingRule::Average { points } => GaussLegendre::new(*points),
-        SamplingRule::Center => None,
-    };
-    let axes = grid.axes();
-    let ndim = axes.len();
-    let rules: Vec<AxisRule> = axes
-        .iter()
-        .map(|a| AxisRule::new(&a.edges, gauss.as_ref()))
-        .collect();
-    let shape = grid.shape();
-    let ncomp = grid.velocity_components().len();
-    let per_cell: usize = rules.iter().map(|r| r.per_cell).product();
-    let sampler = PointSampler {
-        bg,
-        grid,
-        gas,
-        ncomp,
-    };
-
-    // Cells are independent: evaluate them in parallel (rayon), then gather
-    // in C order so that the first error reported is the first cell's.
-    let averaged = gauss.is_some();
-    let cell_values = |flat: usize| -> Result<[f64; SLOTS], SampleError> {
-        let mut cell = [0usize; MAX_AXES];
-        let mut point = [0.0; MAX_AXES];
-        let mut rest = flat;
-        for a in (0..ndim).rev() {
-            cell[a] = rest % shape[a];
-            rest /= shape[a];
-        }
-        let mut sums = [0.0; SLOTS];
-        let mut volume = 0.0;
-        let mut values = [0.0; SLOTS];
-        for q in 0..per_cell {
-            let mut rest = q;
-            let mut weight = 1.0;
-            for a in (0..ndim).rev() {
-                let r = &rules[a];
-                let i = cell[a] * r.per_cell + rest % r.per_cell;
-                rest /= r.per_cell;
-                point[a] = r.nodes[i];
-                weight *= r.weights[i];
-            }
-            sampler.at(&point[..ndim], &mut values)?;
-            let wj = weight * grid.volume_element(&point[..ndim]);
-            volume += wj;
-            for (s, v) in sums.iter_mut().zip(&values) {
-                *s += wj * v;
-            }
-        }
-        if averaged {
-            for s in sums.iter_mut() {
-                *s /= volume;
-            }
-            // Mass-weighted velocity: momentum = density × velocity in the file.
-            for c in 0..ncomp {
-                sums[VEL + c] = sums[MOM + c] / sums[RHO];
-            }
-            values = sums;
-        }
-        Ok(values)
-    };
-    let cells: Vec<Result<[f64; SLOTS], SampleError>> =
-        (0..grid.len()).into_par_iter().map(cell_values).collect();
-    let mut columns: Vec<Vec<f64>> = (0..SLOTS).map(|_| Vec::with_capacity(grid.len())).collect();
-    for values in cells {
-        for (col, v) in columns.iter_mut().zip(&values?) {
-            col.push(*v);
-        }
-    }
+    let sampler = Sampler::new(bg, grid, rule, gas)?;
+    let slab = sampler.slab(0..grid.shape()[0])?;
     Ok(FieldSet {
-        shape,
-        sampling: rule.describe(grid),
-        fields: assemble(grid, gas, columns),
+        shape: grid.shape(),
+        sampling: sampler.sampling().to_string(),
+        fields: sampler
+            .fields()
+            .into_iter()
+            .zip(slab.data)
+            .map(|(spec, data)| Field {
+                name: spec.name,
+                dim: spec.dim,
+                data,
+                placement: spec.placement,
+            })
+            .collect(),
     })
 }
 
-/// Validates everything that does not depend on a point.
+/// Validates everything that does not depend on a point, and places the grid
+/// in the background's frame.
 fn check_inputs(
     bg: &dyn Background,
     grid: &Grid,
     rule: &SamplingRule,
     gas: &GasConstants,
-) -> Result<(), SampleError> {
-    let fits = matches!(
-        (bg.shape(), grid.layout()),
-        (Shape::Slab, Layout::Line(Coord::Z))
-            | (Shape::Spherical, Layout::Line(Coord::Sph))
-            | (
-                Shape::DiskMidplane,
-                Layout::Line(Coord::R) | Layout::Polar | Layout::Cartesian
-            )
-    );
-    if !fits {
+) -> Result<Embedding, SampleError> {
+    let Some(embed) = grid.embedding(bg.frame()) else {
         let axes: Vec<&str> = grid.axes().iter().map(|a| a.coord.name()).collect();
+        let coords = bg.frame().coordinates().join(", ");
         return Err(SampleError::ShapeMismatch {
-            shape: format!("{:?} (coordinate {})", bg.shape(), bg.shape().coordinate()),
+            shape: format!("{:?} (coordinates {coords})", bg.frame()),
             axes: axes.join(", "),
         });
-    }
+    };
     if let SamplingRule::Average { points } = *rule {
         if !(1..=MAX_POINTS).contains(&points) {
             return Err(SampleError::Points { points });
@@ -294,14 +190,14 @@ fn check_inputs(
             return Err(SampleError::TemperatureScale { value });
         }
     }
-    Ok(())
+    Ok(embed)
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::background::PointState;
-    use crate::grid::Axis;
+    use crate::background::{Frame, State};
+    use crate::grid::{Axis, Coord};
 
     const GAS: GasConstants = GasConstants {
         gamma: 1.4,
@@ -312,33 +208,27 @@ mod tests {
     /// ρ = e^(−z), P = ρ, Φ = z: an isothermal slab with g = c² = 1.
     struct Slab;
     impl Background for Slab {
-        fn shape(&self) -> Shape {
-            Shape::Slab
+        fn frame(&self) -> Frame {
+            Frame::Slab
         }
-        fn at(&self, z: f64) -> PointState {
-            let rho = (-z).exp();
-            PointState {
-                density: rho,
-                pressure: rho,
-                rotation: 0.0,
-                potential: z,
-            }
+        fn at(&self, x: &[f64]) -> State {
+            let rho = (-x[0]).exp();
+            State::at_rest(rho, rho, x[0])
         }
     }
 
     /// ρ = 1/R, P = ρ/10, v_φ = R^(−1/2), Φ = −1/R (not balanced; a test law).
     struct Disk;
     impl Background for Disk {
-        fn shape(&self) -> Shape {
-            Shape::DiskMidplane
+        fn frame(&self) -> Frame {
+            Frame::Axisymmetric
         }
-        fn at(&self, r: f64) -> PointState {
-            PointState {
-                density: 1.0 / r,
-                pressure: 0.1 / r,
-                rotation: r.powf(-0.5),
-                potential: -1.0 / r,
-            }
+        fn depends_on(&self) -> [bool; 2] {
+            [true, false]
+        }
+        fn at(&self, x: &[f64]) -> State {
+            let r = x[0];
+            State::rotating(1.0 / r, 0.1 / r, -1.0 / r, r.powf(-0.5))
         }
     }
 
@@ -449,16 +339,11 @@ mod tests {
         assert!(grid.is_err());
         struct Negative;
         impl Background for Negative {
-            fn shape(&self) -> Shape {
-                Shape::Slab
+            fn frame(&self) -> Frame {
+                Frame::Slab
             }
-            fn at(&self, z: f64) -> PointState {
-                PointState {
-                    density: 1.0 - z,
-                    pressure: 1.0,
-                    rotation: 0.0,
-                    potential: 0.0,
-                }
+            fn at(&self, x: &[f64]) -> State {
+                State::at_rest(1.0 - x[0], 1.0, 0.0)
             }
         }
         let grid = Grid::new(vec![Axis::uniform(Coord::Z, 0.0, 5.0, 2).unwrap()]).unwrap();

@@ -1,0 +1,351 @@
+//! The streaming sampler: a background on a grid, slab by slab along the
+//! first axis, in parallel within a slab.
+//!
+//! Owns: the plan (quadrature nodes and weights per axis with the volume
+//! factor folded in; which axes the state varies along; the lane axis), the
+//! evaluation of lines of cells over blocks of points, the accumulation of
+//! cell averages, and the broadcast of values along axes the state does not
+//! vary along. Does not own the rule's nodes (see [`super::gauss`]), the
+//! fields' names (see `slots`) or any file.
+//!
+//! How a slab is computed: every axis along which the state can vary is
+//! *active*; the last active axis is the *lane axis*. For each combination
+//! of cells (and quadrature nodes) of the other active axes — a *line* — the
+//! nodes of every cell of the lane axis are evaluated in blocks of
+//! [`LANES`] points: the grid maps them to frame coordinates, the background
+//! evaluates the block, the grid rotates its vectors. Lines are independent
+//! and run in parallel; each cell's sum is taken in one fixed order (nodes
+//! of the first axis outermost), so the values do not depend on the number
+//! of threads or on the slab size. Inactive axes are computed once and
+//! broadcast.
+
+use std::ops::Range;
+
+use rayon::prelude::*;
+
+use super::gauss::GaussLegendre;
+use super::slots::{self, Entry, Slots, RHO};
+use super::{check_inputs, GasConstants, SampleError, SamplingRule};
+use crate::background::{Background, StateBlock, Want, Workspace, LANES};
+use crate::fields::{FieldSpec, Slab};
+use crate::grid::{Embedding, Grid};
+
+/// Nodes and weights of the rule on every cell of one axis, flattened as
+/// `cell * per_cell + k`; weights include the axis's volume factor.
+struct AxisNodes {
+    per_cell: usize,
+    nodes: Vec<f64>,
+    weights: Vec<f64>,
+}
+
+impl AxisNodes {
+    fn new(grid: &Grid, axis: usize, rule: Option<&GaussLegendre>) -> AxisNodes {
+        let edges = &grid.axes()[axis].edges;
+        let per_cell = rule.map_or(1, |r| r.nodes.len());
+        let mut nodes = Vec::with_capacity((edges.len() - 1) * per_cell);
+        let mut weights = Vec::with_capacity(nodes.capacity());
+        for w in edges.windows(2) {
+            let (mid, half) = (0.5 * (w[0] + w[1]), 0.5 * (w[1] - w[0]));
+            match rule {
+                None => {
+                    nodes.push(mid);
+                    weights.push(1.0);
+                }
+                Some(r) => {
+                    for (x, wt) in r.nodes.iter().zip(&r.weights) {
+                        let at = mid + half * x;
+                        nodes.push(at);
+                        weights.push(half * wt * grid.volume_factor(axis, at));
+                    }
+                }
+            }
+        }
+        AxisNodes {
+            per_cell,
+            nodes,
+            weights,
+        }
+    }
+}
+
+/// Buffers one thread reuses for every block.
+struct ThreadBuffers {
+    grid: Vec<Vec<f64>>,
+    frame: Vec<Vec<f64>>,
+    velocity: Vec<Vec<f64>>,
+    state: StateBlock,
+    bg: Workspace,
+    values: Vec<f64>,
+}
+
+/// A background prepared for sampling on a grid under a rule. Produces the
+/// fields of [`Sampler::fields`] for any range of rows of the first axis.
+pub struct Sampler<'a> {
+    bg: &'a dyn Background,
+    grid: &'a Grid,
+    embed: Embedding,
+    gas: GasConstants,
+    averaged: bool,
+    axes: Vec<AxisNodes>,
+    active: Vec<bool>,
+    lane: usize,
+    slots: Slots,
+    entries: Vec<Entry>,
+    sampling: String,
+}
+
+impl<'a> Sampler<'a> {
+    /// Prepare `bg` on `grid` under `rule`; errors for inputs that do not fit
+    /// (a frame the grid cannot hold, a bad rule or gas constant).
+    pub fn new(
+        bg: &'a dyn Background,
+        grid: &'a Grid,
+        rule: &SamplingRule,
+        gas: &GasConstants,
+    ) -> Result<Sampler<'a>, SampleError> {
+        let embed = check_inputs(bg, grid, rule, gas)?;
+        let gauss = match rule {
+            SamplingRule::Average { points } => GaussLegendre::new(*points),
+            SamplingRule::Center => None,
+        };
+        let axes = (0..grid.axes().len())
+            .map(|a| AxisNodes::new(grid, a, gauss.as_ref()))
+            .collect();
+        let active = embed.active_axes(bg.depends_on());
+        let lane = active.iter().rposition(|a| *a).unwrap_or(0);
+        let slots = Slots {
+            ncomp: embed.components().len(),
+        };
+        let entries = slots::catalogue(grid, gas, embed.components());
+        Ok(Sampler {
+            bg,
+            grid,
+            embed,
+            gas: *gas,
+            averaged: gauss.is_some(),
+            axes,
+            active,
+            lane,
+            slots,
+            entries,
+            sampling: rule.describe(grid),
+        })
+    }
+
+    /// The fields every slab holds, in order.
+    pub fn fields(&self) -> Vec<FieldSpec> {
+        self.entries.iter().map(|e| e.spec.clone()).collect()
+    }
+
+    /// The description of the sampling rule, for files.
+    pub fn sampling(&self) -> &str {
+        &self.sampling
+    }
+
+    /// The fields for the cells `rows` of the first axis. Errors name the
+    /// first bad point in C order of cells.
+    pub fn slab(&self, rows: Range<usize>) -> Result<Slab, SampleError> {
+        let shape = self.grid.shape();
+        let nd = shape.len();
+        // The reduced grid: active axes keep their cells (the first axis only
+        // the slab's rows), inactive ones have one.
+        let red_rows = if self.active[0] { rows.clone() } else { 0..1 };
+        let red: Vec<Range<usize>> = (0..nd)
+            .map(|a| match (a, self.active[a]) {
+                (0, _) => red_rows.clone(),
+                (_, true) => 0..shape[a],
+                (_, false) => 0..1,
+            })
+            .collect();
+        // Lines: every combination of cells of the active axes but the lane
+        // axis, in C order.
+        let outer: Vec<usize> = (0..nd)
+            .filter(|a| self.active[*a] && *a != self.lane)
+            .collect();
+        let lines: usize = outer.iter().map(|a| red[*a].len()).product();
+        let per_line = self.slots.len() * red[self.lane].len();
+        let computed: Vec<Result<Vec<f64>, SampleError>> = (0..lines)
+            .into_par_iter()
+            .map_init(
+                || self.buffers(),
+                |buf, line| {
+                    let mut cell = vec![0usize; nd];
+                    let mut rest = line;
+                    for &a in outer.iter().rev() {
+                        cell[a] = red[a].start + rest % red[a].len();
+                        rest /= red[a].len();
+                    }
+                    self.line(&cell, &outer, buf)
+                },
+            )
+            .collect();
+        let mut reduced = Vec::with_capacity(lines * per_line);
+        for r in computed {
+            reduced.extend(r?);
+        }
+        Ok(self.expand(&reduced, rows, &red))
+    }
+
+    fn buffers(&self) -> ThreadBuffers {
+        let nd = self.grid.axes().len();
+        let lanes = |k: usize| (0..k).map(|_| vec![0.0; LANES]).collect::<Vec<_>>();
+        ThreadBuffers {
+            grid: lanes(nd),
+            frame: lanes(2),
+            velocity: lanes(self.slots.ncomp),
+            state: StateBlock::new(),
+            bg: self.bg.workspace(),
+            values: vec![0.0; self.slots.len()],
+        }
+    }
+
+    /// The slot values of every cell along the lane axis, for the cells
+    /// `cell` of the outer axes (inactive axes at cell 0).
+    fn line(
+        &self,
+        cell: &[usize],
+        outer: &[usize],
+        buf: &mut ThreadBuffers,
+    ) -> Result<Vec<f64>, SampleError> {
+        let nslots = self.slots.len();
+        let lane = &self.axes[self.lane];
+        let nlane = lane.nodes.len();
+        let ncells = nlane / lane.per_cell;
+        let mut acc = vec![0.0; ncells * nslots];
+        // The first failure of each lane cell: (node index in the cell, error).
+        let mut failed: Vec<Option<(usize, SampleError)>> = vec![None; ncells];
+        let outer_nodes: usize = outer.iter().map(|a| self.axes[*a].per_cell).product();
+        let nd = cell.len();
+        let mut point = vec![0.0; nd];
+        for qo in 0..outer_nodes {
+            // Coordinates and weight of this combination of outer nodes; an
+            // inactive axis sits at its first node.
+            let mut weight = 1.0;
+            let mut rest = qo;
+            for a in (0..nd).rev() {
+                if a == self.lane {
+                    continue;
+                }
+                let ax = &self.axes[a];
+                let k = if outer.contains(&a) {
+                    let k = cell[a] * ax.per_cell + rest % ax.per_cell;
+                    rest /= ax.per_cell;
+                    weight *= ax.weights[k];
+                    k
+                } else {
+                    0
+                };
+                point[a] = ax.nodes[k];
+            }
+            for start in (0..nlane).step_by(LANES) {
+                let n = LANES.min(nlane - start);
+                for (a, (g, p)) in buf.grid.iter_mut().zip(&point).enumerate() {
+                    if a == self.lane {
+                        g[..n].copy_from_slice(&lane.nodes[start..start + n]);
+                    } else {
+                        g[..n].fill(*p);
+                    }
+                }
+                let grid_lanes: Vec<&[f64]> = buf.grid.iter().map(|v| &v[..n]).collect();
+                self.embed.to_frame(&grid_lanes, n, &mut buf.frame);
+                let dims = self.embed.frame().dims();
+                let frame: Vec<&[f64]> = buf.frame[..dims].iter().map(|v| &v[..n]).collect();
+                self.bg
+                    .eval(&frame, Want::default(), &mut buf.state, &mut buf.bg);
+                self.embed
+                    .project(&grid_lanes, &buf.state.velocity, n, &mut buf.velocity);
+                let mut vel = [0.0; 3];
+                for i in 0..n {
+                    let k = start + i;
+                    let c = k / lane.per_cell;
+                    let st = buf.state.get(i);
+                    for (v, comp) in vel.iter_mut().zip(&buf.velocity) {
+                        *v = comp[i];
+                    }
+                    if let Err(e) =
+                        slots::fill(&st, &vel[..self.slots.ncomp], &self.gas, &mut buf.values)
+                    {
+                        let q = qo * lane.per_cell + k % lane.per_cell;
+                        if failed[c].as_ref().is_none_or(|(q0, _)| q < *q0) {
+                            point[self.lane] = lane.nodes[k];
+                            failed[c] = Some((q, slots::point_error(e, self.grid, &point)));
+                        }
+                        continue;
+                    }
+                    let sums = &mut acc[c * nslots..(c + 1) * nslots];
+                    if self.averaged {
+                        let w = weight * lane.weights[k];
+                        for (s, v) in sums.iter_mut().zip(&buf.values) {
+                            *s += w * v;
+                        }
+                        sums[self.slots.volume()] += w;
+                    } else {
+                        sums.copy_from_slice(&buf.values);
+                    }
+                }
+            }
+        }
+        if let Some((_, e)) = failed.into_iter().flatten().next() {
+            return Err(e);
+        }
+        if self.averaged {
+            let (mom, vel, vol) = (self.slots.mom(), self.slots.vel(), self.slots.volume());
+            for sums in acc.chunks_mut(nslots) {
+                let v = sums[vol];
+                for s in &mut sums[..vol] {
+                    *s /= v;
+                }
+                // Mass-weighted velocity: momentum = density × velocity.
+                for c in 0..self.slots.ncomp {
+                    sums[vel + c] = sums[mom + c] / sums[RHO];
+                }
+            }
+        }
+        Ok(acc)
+    }
+
+    /// The slab's fields from the reduced values (C order over the reduced
+    /// shape `red`), broadcast along inactive axes.
+    fn expand(&self, reduced: &[f64], rows: Range<usize>, red: &[Range<usize>]) -> Slab {
+        let shape = self.grid.shape();
+        let nd = shape.len();
+        let nslots = self.slots.len();
+        // Strides of the reduced array, zero along inactive axes.
+        let mut stride = vec![0usize; nd];
+        let mut s = 1;
+        for a in (0..nd).rev() {
+            if red[a].len() > 1 || self.active[a] {
+                stride[a] = s;
+            }
+            s *= red[a].len();
+        }
+        let mut out_shape = shape.clone();
+        out_shape[0] = rows.len();
+        let cells: usize = out_shape.iter().product();
+        let mut data: Vec<Vec<f64>> = self
+            .entries
+            .iter()
+            .map(|_| Vec::with_capacity(cells))
+            .collect();
+        let mut idx = vec![0usize; nd];
+        for _ in 0..cells {
+            let mut r = 0;
+            for a in 0..nd {
+                let i = if a == 0 { rows.start + idx[0] } else { idx[a] };
+                r += (i - red[a].start.min(i)) * stride[a];
+            }
+            let src = &reduced[r * nslots..(r + 1) * nslots];
+            for (d, e) in data.iter_mut().zip(&self.entries) {
+                d.push(src[e.slot]);
+            }
+            for a in (0..nd).rev() {
+                idx[a] += 1;
+                if idx[a] < out_shape[a] {
+                    break;
+                }
+                idx[a] = 0;
+            }
+        }
+        Slab { rows, data }
+    }
+}
