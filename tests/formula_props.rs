@@ -239,7 +239,7 @@ fn checks_run_on_fixed_formulas() {
     let srcs = [
         "x^3*y - sin(x)/x",
         "atan2(y, x) * exp(-x^2) + log10(x + y)",
-        "if(x < 1, x^2, 2*x - 1) + abs(x - y) + min(x, y)*max(x, 2*y)",
+        "(x^2 if x < 1 else 2*x - 1) + abs(x - y) + min(x, y)*max(x, 2*y)",
         "(x/y)^(-1.5) + sqrt(x)^2 + x^y + asin(x/2) + acos(x/3)",
         "tanh(x) + cosh(x)/sinh(y) + tan(x/2) - atan(x*y)",
         // Rewrites that are only valid for positive bases must not happen.

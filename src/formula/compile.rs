@@ -1,7 +1,7 @@
 //! Compilation of a tree to a flat stack-machine program, and the
 //! interpreter that runs it. Names that are not run-time variables become
 //! constants at compile time, and every subtree without variables is folded
-//! to one constant. `if` evaluates both branches and selects (no side
+//! to one constant. A conditional evaluates both branches and selects (no side
 //! effects exist), so the program has no jumps. The interpreter keeps its
 //! stack in a fixed array on the machine stack for ordinary depths, so a
 //! call allocates nothing and [`super::Program`] is `Send + Sync`.
@@ -24,6 +24,7 @@ pub(crate) enum Op {
     Cmp(CmpOp),
     And,
     Or,
+    Not,
     /// Pops else, then, condition; pushes the selected value.
     Select,
 }
@@ -84,7 +85,7 @@ impl Compiler<'_> {
                     return Err(FormulaError::UnknownName {
                         name: n.clone(),
                         span: 0..0,
-                        suggestion: super::parser::suggest(n, self.vars.iter().copied()),
+                        suggestion: super::hints::suggest(n, self.vars.iter().copied()),
                     });
                 }
             }
@@ -163,6 +164,10 @@ impl Compiler<'_> {
                     Op::Or
                 });
             }
+            Cond::Not(a) => {
+                self.cond(a)?;
+                self.code.push(Op::Not);
+            }
         }
         Ok(())
     }
@@ -178,7 +183,7 @@ fn max_depth(code: &[Op]) -> usize {
     for op in code {
         match op {
             Op::Const(_) | Op::Var(_) => d += 1,
-            Op::Neg | Op::Call1(_) => {}
+            Op::Neg | Op::Not | Op::Call1(_) => {}
             Op::Select => d -= 2,
             _ => d -= 1,
         }
@@ -212,6 +217,7 @@ fn exec(code: &[Op], st: &mut [f64], var: &dyn Fn(usize) -> f64) -> f64 {
                 sp += 1;
             }
             Op::Neg => st[sp - 1] = -st[sp - 1],
+            Op::Not => st[sp - 1] = truth(st[sp - 1] == 0.0),
             Op::Call1(f) => st[sp - 1] = apply_f64(f, st[sp - 1], 0.0),
             Op::Select => {
                 let c = st[sp - 3] != 0.0;
@@ -256,10 +262,15 @@ mod tests {
 
     #[test]
     fn conditionals_select() {
-        let p = prog("if(x < 0 or y > 5, -x, x*y)", &["x", "y"]);
+        let p = prog("-x if x < 0 or y > 5 else x*y", &["x", "y"]);
         assert!((p.eval(&[-2.0, 1.0]) - 2.0).abs() < 1e-15);
         assert!((p.eval(&[2.0, 3.0]) - 6.0).abs() < 1e-15);
         assert!((p.eval(&[2.0, 6.0]) + 2.0).abs() < 1e-15);
+        let p = prog("1 if not 0 < x < k else 2", &["x"]);
+        assert!((p.eval(&[1.0]) - 2.0).abs() < 1e-15);
+        assert!((p.eval(&[3.0]) - 1.0).abs() < 1e-15);
+        // not (NaN < 2) holds: a comparison with NaN is false.
+        assert!((p.eval(&[f64::NAN]) - 1.0).abs() < 1e-15);
     }
 
     #[test]

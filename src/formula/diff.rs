@@ -1,10 +1,10 @@
 //! Symbolic differentiation by one name. Results are built with the
 //! simplifying constructors, so they stay compact; piecewise constructs
-//! (`abs`, `min`, `max`, `if`) differentiate branch by branch under the same
-//! condition, which is the derivative away from the switching points. A
-//! power with a constant exponent follows the power rule c·u^(c−1)·u′, which
-//! is finite wherever the derivative exists, also where u = 0 (the form
-//! c·u^c·u′/u, shorter for a reader, is 0/0 there).
+//! (`abs`, `min`, `max`, conditionals) differentiate branch by branch under
+//! the same condition, which is the derivative away from the switching
+//! points. A power with a constant exponent follows the power rule
+//! c·u^(c−1)·u′, which is finite wherever the derivative exists, also where
+//! u = 0 (the form c·u^c·u′/u, shorter for a reader, is 0/0 there).
 
 use super::simplify::{add, call, iff, mul, pow, scale, simplify, simplify_cond};
 use super::{CmpOp, Cond, Expr, Func};
@@ -171,9 +171,13 @@ mod tests {
         assert_eq!(d("sin(x)", "x"), "cos(x)");
         assert_eq!(d("exp(2*x)", "x"), "2*exp(2*x)");
         assert_eq!(d("log(x)", "x"), "1/x");
-        assert_eq!(d("abs(x)", "x"), "if(x >= 0, 1, -1)");
-        assert_eq!(d("min(x, 1)", "x"), "if(x <= 1, 1, 0)");
-        assert_eq!(d("if(x < 1, x^2, 2*x)", "x"), "if(x < 1, 2*x, 2)");
+        assert_eq!(d("abs(x)", "x"), "1 if x >= 0 else -1");
+        assert_eq!(d("min(x, 1)", "x"), "1 if x <= 1 else 0");
+        assert_eq!(d("x^2 if x < 1 else 2*x", "x"), "2*x if x < 1 else 2");
+        assert_eq!(
+            d("x^3 if not 0 < x <= 1 else sin(x)", "x"),
+            "3*x^2 if not 0 < x <= 1 else cos(x)"
+        );
         assert_eq!(d("x - x", "x"), "0");
     }
 

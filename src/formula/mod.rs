@@ -4,9 +4,11 @@
 //! and LaTeX. It knows nothing of physics: names are just names.
 //!
 //! This file holds the public contract (types and entry points); the work is
-//! split into submodules: `lexer` and `parser` (text to tree), `expr` (tree
+//! split into submodules: `lexer` and `parser` (text to tree, with `hints`
+//! for misspelt names), `expr` (tree
 //! helpers and f64 evaluation), `simplify`, `diff`, `compile` ([`Program`]),
-//! `print` (text and LaTeX), `params` (parameter resolution) and `extended`
+//! `print` (text), `latex`, `legacy` (the rewrite shown for the old
+//! `if(c, a, b)` form), `params` (parameter resolution) and `extended`
 //! (high-precision evaluation).
 
 use std::collections::{BTreeMap, BTreeSet};
@@ -17,13 +19,16 @@ mod compile;
 mod diff;
 mod expr;
 mod extended;
+mod hints;
+mod latex;
+mod legacy;
 mod lexer;
 mod params;
 mod parser;
 mod print;
 mod simplify;
 
-pub use expr::{func_by_name, func_name, Visit};
+pub use expr::{func_by_name, func_name, Visit, KEYWORDS};
 pub use params::parameter_using;
 
 /// A function the formula language knows.
@@ -60,7 +65,8 @@ pub enum CmpOp {
     Ne,
 }
 
-/// A condition of `if(condition, a, b)`.
+/// The condition of a conditional `a if condition else b`. A chained
+/// comparison `lo < x <= hi` is the conjunction `lo < x and x <= hi`.
 #[derive(Clone, Debug, PartialEq)]
 pub enum Cond {
     /// `a < b` and the other comparisons.
@@ -69,6 +75,8 @@ pub enum Cond {
     And(Box<Cond>, Box<Cond>),
     /// `c or d`.
     Or(Box<Cond>, Box<Cond>),
+    /// `not c`.
+    Not(Box<Cond>),
 }
 
 /// A formula as a tree. Sums and products are n-ary so that simplification
@@ -87,7 +95,7 @@ pub enum Expr {
     Pow(Box<Expr>, Box<Expr>),
     /// A function call.
     Call(Func, Vec<Expr>),
-    /// `if(condition, then, else)`.
+    /// The conditional `then if condition else otherwise`.
     If(Box<Cond>, Box<Expr>, Box<Expr>),
 }
 
@@ -237,7 +245,7 @@ impl Expr {
     }
     /// LaTeX for the formula.
     pub fn to_latex(&self) -> String {
-        print::latex(self)
+        latex::latex(self)
     }
 }
 
