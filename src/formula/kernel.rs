@@ -1,0 +1,388 @@
+//! [`Kernel`]: several formulas compiled into one flat program over numbered
+//! registers, run over blocks of points (the block path) or at one point
+//! (the scalar path), with [`Workspace`], the registers of one thread. It
+//! owns running the program and its introspection; compiling is `dag.rs`'s
+//! and the arithmetic of each instruction `lanes.rs`'s.
+//!
+//! # Instruction set
+//!
+//! Every instruction writes one register from up to three operands; an
+//! operand is a register, a variable (read straight from the caller's input
+//! slice) or a constant (one value for every lane):
+//!
+//! | instruction | meaning |
+//! |---|---|
+//! | `Neg`, `Recip` | `-x`, `1/x` |
+//! | `PowF(c)` | `x.powf(c)`, a constant exponent that is not an integer \|n\| ≤ 64 |
+//! | `Call(f)` | a one-argument function (`sqrt`, `exp`, … `abs`) |
+//! | `Add`, `Sub`, `Mul` | `x + y`, `x - y`, `x * y` |
+//! | `MulRecip` | `x * (1/y)`, the fusion of `Recip` and `Mul` |
+//! | `Pow` | `x ^ y` with a run-time exponent (powi for small integers, else powf) |
+//! | `Call(f)` (two operands) | `atan2`, `min`, `max` |
+//! | `Cmp(op)`, `And`, `Or` | conditions as 1.0 / 0.0 |
+//! | `Select` | `c != 0 ? x : y`; both operands are computed, so a NaN in the branch not taken does not leak |
+//!
+//! An integer power `x^n` (|n| ≤ 64) is no instruction: it is expanded
+//! into the multiplications of `powi`'s binary powering (and one `Recip`
+//! for n < 0), which is exactly what `powi` computes.
+//!
+//! # Sharing and registers
+//!
+//! All outputs are built into one graph whose nodes are hash-consed: a
+//! subtree equal to one built before (operands of `+`, `*`, `and`, `or` in
+//! either order) is the same node, so `sqrt(R^2 + z^2)` used by three
+//! outputs is computed once per point. Instructions come in the order the
+//! graph was built (operands first); each takes a free register if there is
+//! one, and a register is freed after its last reader. The law set of the
+//! benchmark (five outputs, 23 instructions) needs 6 registers.
+//!
+//! # Lane count
+//!
+//! A block is 256 points: the register file of a law set (a handful of
+//! 2 KiB buffers plus the input and output windows) stays in the 48 KiB
+//! level-1 data cache, while the cost of dispatch (one `match` per
+//! instruction per block) is spread over 256 points.
+//!
+//! # Measured (benches/evaluator.rs)
+//!
+//! MEASURED-FIGURES
+//!
+//! Source of agreement: the block path, the scalar path and the stack
+//! machine ([`super::StackProgram`]) agree to the bit on random formulas
+//! (`tests/formula_props.rs`).
+
+use super::dag::{Graph, Inst, Lowered, Op, Src};
+use super::lanes::{select_block, select_scalar, Arg, LANES};
+use super::{Expr, FormulaError};
+use std::ops::Range;
+
+/// Several formulas compiled together over a list of run-time variables:
+/// common subexpressions are computed once per point, constants folded.
+/// `Send + Sync`; each thread brings its own [`Workspace`].
+#[derive(Clone, Debug)]
+pub struct Kernel {
+    code: Vec<Inst>,
+    n_regs: usize,
+    vars: Vec<String>,
+    names: Vec<String>,
+    outputs: Vec<Src>,
+    deps: Vec<Vec<usize>>,
+}
+
+/// The registers of one thread: allocated once, grown to fit the largest
+/// kernel it has run, reused by every call (the hot loop allocates nothing).
+#[derive(Clone, Debug, Default)]
+pub struct Workspace {
+    blocks: Vec<Vec<f64>>,
+    scalars: Vec<f64>,
+}
+
+impl Workspace {
+    /// An empty workspace; it grows on first use.
+    pub fn new() -> Workspace {
+        Workspace::default()
+    }
+
+    fn fit(&mut self, n_regs: usize) {
+        if self.blocks.len() < n_regs {
+            self.blocks.resize_with(n_regs, || vec![0.0; LANES]);
+        }
+        if self.scalars.len() < n_regs {
+            self.scalars.resize(n_regs, 0.0);
+        }
+    }
+}
+
+/// An operand over the lanes `at` of the current block.
+fn window<'a>(s: Src, regs: &'a [Vec<f64>], inputs: &[&'a [f64]], at: Range<usize>) -> Arg<'a> {
+    match s {
+        Src::Reg(r) => Arg::Lanes(&regs[r as usize][..at.len()]),
+        Src::Var(v) => Arg::Lanes(&inputs[v as usize][at]),
+        Src::Const(c) => Arg::Splat(c),
+    }
+}
+
+impl Kernel {
+    /// Compile `outputs` (name, formula) with `vars` as the run-time inputs,
+    /// in that order; every other name must be given by `constants`.
+    pub fn compile(
+        outputs: &[(&str, &Expr)],
+        vars: &[&str],
+        constants: &dyn Fn(&str) -> Option<f64>,
+    ) -> Result<Kernel, FormulaError> {
+        let mut g = Graph::new(vars, constants);
+        let vals = outputs
+            .iter()
+            .map(|(_, e)| g.expr(e))
+            .collect::<Result<Vec<_>, _>>()?;
+        let Lowered {
+            code,
+            n_regs,
+            outputs: srcs,
+            deps,
+        } = g.lower(&vals);
+        Ok(Kernel {
+            code,
+            n_regs,
+            vars: vars.iter().map(|v| v.to_string()).collect(),
+            names: outputs.iter().map(|(n, _)| n.to_string()).collect(),
+            outputs: srcs,
+            deps,
+        })
+    }
+
+    /// A workspace sized for this kernel.
+    pub fn workspace(&self) -> Workspace {
+        let mut ws = Workspace::new();
+        ws.fit(self.n_regs);
+        ws
+    }
+
+    /// Evaluate every output at `n` points, in blocks of 256: `inputs` has
+    /// one slice per variable (in the order of `vars`, each at least `n`
+    /// long), `outputs` one slice of length `n` per output.
+    pub fn run(&self, inputs: &[&[f64]], outputs: &mut [&mut [f64]], ws: &mut Workspace) {
+        assert_eq!(
+            outputs.len(),
+            self.names.len(),
+            "Kernel::run: one slice per output"
+        );
+        let n = outputs.first().map_or(0, |o| o.len());
+        assert!(
+            outputs.iter().all(|o| o.len() == n),
+            "Kernel::run: output slices differ in length"
+        );
+        assert!(
+            inputs.len() >= self.vars.len(),
+            "Kernel::run: too few input slices"
+        );
+        assert!(
+            inputs[..self.vars.len()].iter().all(|c| c.len() >= n),
+            "Kernel::run: an input slice is shorter than the output"
+        );
+        ws.fit(self.n_regs);
+        let regs = &mut ws.blocks[..];
+        for start in (0..n).step_by(LANES) {
+            let len = LANES.min(n - start);
+            let at = start..start + len;
+            for inst in &self.code {
+                let mut d = std::mem::take(&mut regs[inst.dst as usize]);
+                let arg = |k: usize| window(inst.args[k], regs, inputs, at.clone());
+                let out = &mut d[..len];
+                match inst.op {
+                    Op::Un(u) => u.block(out, arg(0)),
+                    Op::Bin(b) => b.block(out, arg(0), arg(1)),
+                    Op::Select => select_block(out, arg(0), arg(1), arg(2)),
+                }
+                regs[inst.dst as usize] = d;
+            }
+            for (o, &s) in outputs.iter_mut().zip(&self.outputs) {
+                let o = &mut o[start..start + len];
+                match window(s, regs, inputs, at.clone()) {
+                    Arg::Lanes(v) => o.copy_from_slice(v),
+                    Arg::Splat(c) => o.fill(c),
+                }
+            }
+        }
+    }
+
+    /// Evaluate every output at one point (`point` in the order of `vars`)
+    /// into `out`, running the same instructions one value at a time.
+    pub fn eval(&self, point: &[f64], out: &mut [f64], ws: &mut Workspace) {
+        ws.fit(self.n_regs);
+        self.eval_into(point, &mut ws.scalars, out);
+    }
+
+    /// The scalar path with the caller's registers (at least `registers()`).
+    pub(crate) fn eval_into(&self, point: &[f64], regs: &mut [f64], out: &mut [f64]) {
+        assert!(
+            point.len() >= self.vars.len(),
+            "Kernel::eval: too few values"
+        );
+        assert!(
+            out.len() >= self.outputs.len(),
+            "Kernel::eval: one value per output"
+        );
+        let get = |s: Src, regs: &[f64]| match s {
+            Src::Reg(r) => regs[r as usize],
+            Src::Var(v) => point[v as usize],
+            Src::Const(c) => c,
+        };
+        for inst in &self.code {
+            let a = |k: usize| get(inst.args[k], regs);
+            regs[inst.dst as usize] = match inst.op {
+                Op::Un(u) => u.scalar(a(0)),
+                Op::Bin(b) => b.scalar(a(0), a(1)),
+                Op::Select => select_scalar(a(0), a(1), a(2)),
+            };
+        }
+        for (o, &s) in out.iter_mut().zip(&self.outputs) {
+            *o = get(s, regs);
+        }
+    }
+
+    /// The number of instructions.
+    pub fn len(&self) -> usize {
+        self.code.len()
+    }
+
+    /// True if no output needs an instruction (every one is a constant or
+    /// a bare variable).
+    pub fn is_empty(&self) -> bool {
+        self.code.is_empty()
+    }
+
+    /// The number of registers the program uses.
+    pub fn registers(&self) -> usize {
+        self.n_regs
+    }
+
+    /// The run-time variables, in input order.
+    pub fn vars(&self) -> &[String] {
+        &self.vars
+    }
+
+    /// The output names, in output order.
+    pub fn outputs(&self) -> &[String] {
+        &self.names
+    }
+
+    /// The indices (into [`Kernel::vars`]) of the variables output `k`
+    /// depends on after folding, ascending: an output that does not list a
+    /// variable has the same value whatever that variable is.
+    pub fn depends_on(&self, k: usize) -> &[usize] {
+        &self.deps[k]
+    }
+
+    /// True if output `k` depends on the variable named `var`.
+    pub fn uses(&self, k: usize, var: &str) -> bool {
+        self.deps[k].iter().any(|&i| self.vars[i] == var)
+    }
+
+    /// The size in stack-machine terms: instructions plus every read of a
+    /// variable or a constant (what [`super::Program::len`] reports).
+    pub(crate) fn steps(&self) -> usize {
+        let leaf = |s: &Src| !matches!(s, Src::Reg(_));
+        let arity = |op: &Op| match op {
+            Op::Un(_) => 1,
+            Op::Bin(_) => 2,
+            Op::Select => 3,
+        };
+        let reads: usize = self
+            .code
+            .iter()
+            .map(|i| i.args[..arity(&i.op)].iter().filter(|s| leaf(s)).count())
+            .sum();
+        self.code.len() + reads + self.outputs.iter().filter(|s| leaf(s)).count()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::{
+        lanes::{Bin, Un},
+        parse, Func,
+    };
+    use super::*;
+
+    fn kernel(outs: &[&str], vars: &[&str]) -> Kernel {
+        let exprs: Vec<Expr> = outs.iter().map(|s| parse(s).unwrap()).collect();
+        let named: Vec<(&str, &Expr)> = exprs.iter().map(|e| ("", e)).collect();
+        Kernel::compile(&named, vars, &|n| (n == "k").then_some(2.0)).unwrap()
+    }
+
+    fn count(k: &Kernel, op: Op) -> usize {
+        k.code.iter().filter(|i| i.op == op).count()
+    }
+
+    #[test]
+    fn a_shared_subexpression_is_computed_once() {
+        let alone = kernel(&["sqrt(R^2 + z^2)"], &["R", "z"]);
+        assert_eq!(alone.len(), 4, "R*R, z*z, +, sqrt");
+        let k = kernel(
+            &[
+                "sqrt(R^2 + z^2)",
+                "k*sqrt(z^2 + R^2)",
+                "R + sqrt(R^2 + z^2)",
+            ],
+            &["R", "z"],
+        );
+        // One more instruction per extra output, instead of five.
+        assert_eq!(k.len(), 6);
+        assert_eq!(count(&k, Op::Un(Un::Call(Func::Sqrt))), 1);
+        let mut out = [0.0; 3];
+        k.eval(&[3.0, 4.0], &mut out, &mut k.workspace());
+        assert!((out[0] - 5.0).abs() < 1e-15 && (out[1] - 10.0).abs() < 1e-15);
+        assert!((out[2] - 8.0).abs() < 1e-15);
+    }
+
+    #[test]
+    fn registers_are_reused_after_their_last_read() {
+        let terms: Vec<String> = (1..=50).map(|i| format!("sin({i}*x)")).collect();
+        let k = kernel(&[&terms.join(" + ")], &["x"]);
+        assert_eq!(
+            k.len(),
+            49 + 50 + 49,
+            "mul (1*x is x), sin per term, add between"
+        );
+        assert!(k.registers() <= 3, "{} registers", k.registers());
+        // The destination is never an operand of its own instruction.
+        for i in &k.code {
+            assert!(!i.args.contains(&Src::Reg(i.dst)), "{i:?}");
+        }
+    }
+
+    #[test]
+    fn integer_powers_expand_and_reciprocals_fuse() {
+        let k = kernel(&["x^5", "y/x"], &["x", "y"]);
+        // x^5 = x * (x^2)^2: three multiplications, no call.
+        assert_eq!(count(&k, Op::Bin(Bin::Mul)), 3);
+        assert_eq!(count(&k, Op::Bin(Bin::MulRecip)), 1);
+        assert_eq!(k.len(), 4);
+        let mut out = [0.0; 2];
+        k.eval(&[2.0, 3.0], &mut out, &mut k.workspace());
+        assert!((out[0] - 32.0).abs() < 1e-15 && (out[1] - 1.5).abs() < 1e-15);
+    }
+
+    #[test]
+    fn dependencies_are_read_after_folding() {
+        let k = kernel(
+            &["2*R", "z + k", "if(1 < 2, R, z)", "k^3", "R*z"],
+            &["R", "z"],
+        );
+        let deps: Vec<&[usize]> = (0..5).map(|i| k.depends_on(i)).collect();
+        assert_eq!(deps, [&[0][..], &[1], &[0], &[], &[0, 1]]);
+        assert!(k.uses(0, "R") && !k.uses(0, "z") && !k.uses(3, "R"));
+        assert_eq!(k.vars(), ["R", "z"]);
+    }
+
+    #[test]
+    fn blocks_of_any_length_match_the_scalar_path() {
+        let k = kernel(
+            &["if(x < 0.5, x^-2, sqrt(x))", "7", "x", "exp(-x)*k"],
+            &["x"],
+        );
+        let mut ws = Workspace::new();
+        for n in [0, 1, 255, 256, 257, 1000] {
+            let x: Vec<f64> = (0..n).map(|i| i as f64 / 97.0 - 1.0).collect();
+            let mut outs = vec![vec![f64::NAN; n]; 4];
+            let mut slices: Vec<&mut [f64]> = outs.iter_mut().map(|o| &mut o[..]).collect();
+            k.run(&[&x], &mut slices, &mut ws);
+            let mut p = [0.0; 4];
+            for (i, &xi) in x.iter().enumerate() {
+                k.eval(&[xi], &mut p, &mut ws);
+                for j in 0..4 {
+                    let (a, b) = (outs[j][i], p[j]);
+                    assert!(a.to_bits() == b.to_bits() || a.is_nan() && b.is_nan());
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn kernel_and_workspace_are_send_and_sync() {
+        fn check<T: Send + Sync>() {}
+        check::<Kernel>();
+        check::<Workspace>();
+    }
+}
