@@ -267,14 +267,17 @@ pub(crate) enum Src {
     Var(u32),
     /// A constant, broadcast to every lane.
     Const(f64),
+    /// An output, computed into the caller's output slice.
+    Out(u32),
 }
 
-/// One instruction: `dst = op(args)`; `dst` is never one of its operands.
+/// One instruction: `dst = op(args)`; `dst` (a register or an output) is
+/// never one of its operands.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub(crate) struct Inst {
     pub(crate) op: Op,
     pub(crate) args: [Src; 3],
-    pub(crate) dst: u32,
+    pub(crate) dst: Src,
 }
 
 /// The instruction list of a graph with its outputs.
@@ -289,9 +292,9 @@ pub(crate) struct Lowered {
 impl Graph<'_> {
     /// Lower the nodes the outputs need to instructions: fuse a product
     /// with a reciprocal used nowhere else (`x * (1/y)` in one pass), then
-    /// give each instruction a register, taking a freed one when there is
-    /// one (a register is freed after the last instruction that reads it;
-    /// outputs are read after the last instruction).
+    /// write each output's node into its output and give every other
+    /// instruction a register, taking a freed one when there is one (a
+    /// register is freed after the last instruction that reads it).
     pub(crate) fn lower(mut self, outputs: &[Val]) -> Lowered {
         let uses = self.uses(outputs);
         for i in 0..self.nodes.len() {
@@ -323,36 +326,40 @@ impl Graph<'_> {
         }
         let uses = self.uses(outputs);
         let order: Vec<usize> = (0..self.nodes.len()).filter(|&i| uses[i] > 0).collect();
+        // An output's node writes the caller's output slice directly (the
+        // first output of a node; a repeated one, a constant or a bare
+        // variable is copied after the block).
+        let mut loc: Vec<Option<Src>> = vec![None; self.nodes.len()];
+        for (k, v) in outputs.iter().enumerate() {
+            if let Val::Node(j) = *v {
+                loc[j as usize].get_or_insert(Src::Out(k as u32));
+            }
+        }
         let mut last = vec![0usize; self.nodes.len()];
         for (p, &i) in order.iter().enumerate() {
             for j in node_args(&self.nodes[i]) {
                 last[j] = p;
             }
         }
-        for v in outputs {
-            if let Val::Node(j) = v {
-                last[*j as usize] = usize::MAX;
-            }
-        }
-        let (mut reg, mut free, mut n_regs) = (vec![0u32; self.nodes.len()], Vec::new(), 0u32);
+        let (mut free, mut n_regs) = (Vec::new(), 0u32);
         let mut code = Vec::with_capacity(order.len());
         for (p, &i) in order.iter().enumerate() {
-            let dst = free.pop().unwrap_or_else(|| {
-                n_regs += 1;
-                n_regs - 1
+            let dst = *loc[i].get_or_insert_with(|| {
+                Src::Reg(free.pop().unwrap_or_else(|| {
+                    n_regs += 1;
+                    n_regs - 1
+                }))
             });
             let node = self.nodes[i];
-            let src = |v: Val| to_src(v, &reg);
             code.push(Inst {
                 op: node.op,
-                args: node.args.map(src),
+                args: node.args.map(|v| to_src(v, &loc)),
                 dst,
             });
-            reg[i] = dst;
             let mut done: Vec<usize> = Vec::with_capacity(3);
             for j in node_args(&node) {
-                if last[j] == p && !done.contains(&j) {
-                    free.push(reg[j]);
+                if let (true, Some(Src::Reg(r))) = (last[j] == p && !done.contains(&j), loc[j]) {
+                    free.push(r);
                     done.push(j);
                 }
             }
@@ -360,7 +367,7 @@ impl Graph<'_> {
         Lowered {
             code,
             n_regs: n_regs as usize,
-            outputs: outputs.iter().map(|&v| to_src(v, &reg)).collect(),
+            outputs: outputs.iter().map(|&v| to_src(v, &loc)).collect(),
             deps: outputs.iter().map(|&v| self.deps(v)).collect(),
         }
     }
@@ -412,10 +419,10 @@ fn node_args(n: &Node) -> impl Iterator<Item = usize> + '_ {
     })
 }
 
-fn to_src(v: Val, reg: &[u32]) -> Src {
+fn to_src(v: Val, loc: &[Option<Src>]) -> Src {
     match v {
         Val::Const(k) => Src::Const(k.get()),
         Val::Var(i) => Src::Var(i),
-        Val::Node(j) => Src::Reg(reg[j as usize]),
+        Val::Node(j) => loc[j as usize].expect("operands are placed before their readers"),
     }
 }

@@ -52,8 +52,9 @@
 //! (`tests/formula_props.rs`).
 
 use super::dag::{Graph, Inst, Lowered, Op, Src};
-use super::lanes::{select_block, select_scalar, Arg, LANES};
-use super::{Expr, FormulaError};
+use super::lanes::{select_block, select_scalar, Arg, Bin, Un, LANES};
+use super::{func_name, Expr, FormulaError};
+use std::fmt;
 use std::ops::Range;
 
 /// Several formulas compiled together over a list of run-time variables:
@@ -93,12 +94,77 @@ impl Workspace {
     }
 }
 
-/// An operand over the lanes `at` of the current block.
-fn window<'a>(s: Src, regs: &'a [Vec<f64>], inputs: &[&'a [f64]], at: Range<usize>) -> Arg<'a> {
-    match s {
-        Src::Reg(r) => Arg::Lanes(&regs[r as usize][..at.len()]),
-        Src::Var(v) => Arg::Lanes(&inputs[v as usize][at]),
-        Src::Const(c) => Arg::Splat(c),
+/// One instruction a line (`r2 = Mul(r0, R)`), then the outputs.
+impl fmt::Display for Kernel {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let src = |s: &Src| match s {
+            Src::Reg(r) => format!("r{r}"),
+            Src::Out(k) => self.names[*k as usize].clone(),
+            Src::Var(v) => self.vars[*v as usize].clone(),
+            Src::Const(c) => format!("{c:e}"),
+        };
+        for i in &self.code {
+            let (name, n) = match i.op {
+                Op::Un(Un::PowF(c)) => (format!("PowF[{}]", c.get()), 1),
+                Op::Un(Un::Call(g)) | Op::Bin(Bin::Call(g)) => (func_name(g).to_string(), 1),
+                Op::Un(u) => (format!("{u:?}"), 1),
+                Op::Bin(b) => (format!("{b:?}"), 2),
+                Op::Select => ("Select".to_string(), 3),
+            };
+            let n = if matches!(i.op, Op::Bin(_)) { 2 } else { n };
+            let args: Vec<String> = i.args[..n].iter().map(src).collect();
+            writeln!(f, "{} = {name}({})", src(&i.dst), args.join(", "))?;
+        }
+        for (k, s) in self.outputs.iter().enumerate() {
+            if *s != Src::Out(k as u32) {
+                writeln!(f, "{} = {}", self.names[k], src(s))?;
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Where the block path reads: the registers, the caller's inputs and
+/// outputs, and the lanes `at` of the current block.
+struct Lanes<'a> {
+    regs: &'a [Vec<f64>],
+    inputs: &'a [&'a [f64]],
+    outputs: &'a [&'a mut [f64]],
+    at: Range<usize>,
+}
+
+impl<'a> Lanes<'a> {
+    fn get(&self, s: Src) -> Arg<'a> {
+        match s {
+            Src::Reg(r) => Arg::Lanes(&self.regs[r as usize][..self.at.len()]),
+            Src::Var(v) => Arg::Lanes(&self.inputs[v as usize][self.at.clone()]),
+            Src::Out(k) => Arg::Lanes(&self.outputs[k as usize][self.at.clone()]),
+            Src::Const(c) => Arg::Splat(c),
+        }
+    }
+
+    /// Run one instruction into `d` (the destination's lanes).
+    fn exec(&self, inst: &Inst, d: &mut [f64]) {
+        let arg = |k: usize| self.get(inst.args[k]);
+        match inst.op {
+            Op::Un(u) => u.block(d, arg(0)),
+            Op::Bin(b) => b.block(d, arg(0), arg(1)),
+            Op::Select => select_block(d, arg(0), arg(1), arg(2)),
+        }
+    }
+}
+
+fn lanes<'a>(
+    regs: &'a [Vec<f64>],
+    inputs: &'a [&'a [f64]],
+    outputs: &'a [&'a mut [f64]],
+    at: &Range<usize>,
+) -> Lanes<'a> {
+    Lanes {
+        regs,
+        inputs,
+        outputs,
+        at: at.clone(),
     }
 }
 
@@ -163,24 +229,35 @@ impl Kernel {
         ws.fit(self.n_regs);
         let regs = &mut ws.blocks[..];
         for start in (0..n).step_by(LANES) {
-            let len = LANES.min(n - start);
-            let at = start..start + len;
+            let at = start..n.min(start + LANES);
+            let len = at.len();
             for inst in &self.code {
-                let mut d = std::mem::take(&mut regs[inst.dst as usize]);
-                let arg = |k: usize| window(inst.args[k], regs, inputs, at.clone());
-                let out = &mut d[..len];
-                match inst.op {
-                    Op::Un(u) => u.block(out, arg(0)),
-                    Op::Bin(b) => b.block(out, arg(0), arg(1)),
-                    Op::Select => select_block(out, arg(0), arg(1), arg(2)),
+                // The destination is taken out while the operands are read
+                // (it is never one of them), then put back.
+                match inst.dst {
+                    Src::Reg(r) => {
+                        let mut d = std::mem::take(&mut regs[r as usize]);
+                        lanes(regs, inputs, outputs, &at).exec(inst, &mut d[..len]);
+                        regs[r as usize] = d;
+                    }
+                    Src::Out(k) => {
+                        let d = std::mem::take(&mut outputs[k as usize]);
+                        lanes(regs, inputs, outputs, &at).exec(inst, &mut d[at.clone()]);
+                        outputs[k as usize] = d;
+                    }
+                    _ => unreachable!("an instruction writes a register or an output"),
                 }
-                regs[inst.dst as usize] = d;
             }
-            for (o, &s) in outputs.iter_mut().zip(&self.outputs) {
-                let o = &mut o[start..start + len];
-                match window(s, regs, inputs, at.clone()) {
-                    Arg::Lanes(v) => o.copy_from_slice(v),
-                    Arg::Splat(c) => o.fill(c),
+            // Outputs not written by an instruction: constants, variables,
+            // and a value that is also an earlier output.
+            for (k, &s) in self.outputs.iter().enumerate() {
+                if s != Src::Out(k as u32) {
+                    let o = std::mem::take(&mut outputs[k]);
+                    match lanes(regs, inputs, outputs, &at).get(s) {
+                        Arg::Lanes(v) => o[at.clone()].copy_from_slice(v),
+                        Arg::Splat(c) => o[at.clone()].fill(c),
+                    }
+                    outputs[k] = o;
                 }
             }
         }
@@ -203,21 +280,27 @@ impl Kernel {
             out.len() >= self.outputs.len(),
             "Kernel::eval: one value per output"
         );
-        let get = |s: Src, regs: &[f64]| match s {
+        let get = |s: Src, regs: &[f64], out: &[f64]| match s {
             Src::Reg(r) => regs[r as usize],
             Src::Var(v) => point[v as usize],
+            Src::Out(k) => out[k as usize],
             Src::Const(c) => c,
         };
         for inst in &self.code {
-            let a = |k: usize| get(inst.args[k], regs);
-            regs[inst.dst as usize] = match inst.op {
+            let a = |k: usize| get(inst.args[k], regs, out);
+            let v = match inst.op {
                 Op::Un(u) => u.scalar(a(0)),
                 Op::Bin(b) => b.scalar(a(0), a(1)),
                 Op::Select => select_scalar(a(0), a(1), a(2)),
             };
+            match inst.dst {
+                Src::Reg(r) => regs[r as usize] = v,
+                Src::Out(k) => out[k as usize] = v,
+                _ => unreachable!("an instruction writes a register or an output"),
+            }
         }
-        for (o, &s) in out.iter_mut().zip(&self.outputs) {
-            *o = get(s, regs);
+        for k in 0..self.outputs.len() {
+            out[k] = get(self.outputs[k], regs, out);
         }
     }
 
@@ -262,7 +345,7 @@ impl Kernel {
     /// The size in stack-machine terms: instructions plus every read of a
     /// variable or a constant (what [`super::Program::len`] reports).
     pub(crate) fn steps(&self) -> usize {
-        let leaf = |s: &Src| !matches!(s, Src::Reg(_));
+        let leaf = |s: &Src| matches!(s, Src::Var(_) | Src::Const(_));
         let arity = |op: &Op| match op {
             Op::Un(_) => 1,
             Op::Bin(_) => 2,
@@ -279,10 +362,7 @@ impl Kernel {
 
 #[cfg(test)]
 mod tests {
-    use super::super::{
-        lanes::{Bin, Un},
-        parse, Func,
-    };
+    use super::super::{parse, Func};
     use super::*;
 
     fn kernel(outs: &[&str], vars: &[&str]) -> Kernel {
@@ -328,7 +408,7 @@ mod tests {
         assert!(k.registers() <= 3, "{} registers", k.registers());
         // The destination is never an operand of its own instruction.
         for i in &k.code {
-            assert!(!i.args.contains(&Src::Reg(i.dst)), "{i:?}");
+            assert!(!i.args.contains(&i.dst), "{i:?}");
         }
     }
 
@@ -358,20 +438,29 @@ mod tests {
 
     #[test]
     fn blocks_of_any_length_match_the_scalar_path() {
-        let k = kernel(
-            &["if(x < 0.5, x^-2, sqrt(x))", "7", "x", "exp(-x)*k"],
-            &["x"],
-        );
+        // Outputs that are constants, variables, repeats of an earlier
+        // output, and an output read by a later one.
+        let srcs = [
+            "if(x < 0.5, x^-2, sqrt(x))",
+            "7",
+            "x",
+            "exp(-x)*k",
+            "exp(-x)",
+            "k*exp(-x)",
+        ];
+        let k = kernel(&srcs, &["x"]);
+        assert_eq!(k.len(), 8, "{k}");
         let mut ws = Workspace::new();
         for n in [0, 1, 255, 256, 257, 1000] {
             let x: Vec<f64> = (0..n).map(|i| i as f64 / 97.0 - 1.0).collect();
-            let mut outs = vec![vec![f64::NAN; n]; 4];
+            let mut outs = vec![vec![f64::NAN; n]; 6];
             let mut slices: Vec<&mut [f64]> = outs.iter_mut().map(|o| &mut o[..]).collect();
             k.run(&[&x], &mut slices, &mut ws);
-            let mut p = [0.0; 4];
+            let mut p = [0.0; 6];
             for (i, &xi) in x.iter().enumerate() {
                 k.eval(&[xi], &mut p, &mut ws);
-                for j in 0..4 {
+                assert!((p[5] - 2.0 * (-xi).exp()).abs() < 1e-15 && (p[1] - 7.0).abs() < 1e-15);
+                for j in 0..6 {
                     let (a, b) = (outs[j][i], p[j]);
                     assert!(a.to_bits() == b.to_bits() || a.is_nan() && b.is_nan());
                 }
