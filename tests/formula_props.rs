@@ -301,6 +301,12 @@ fn check_kernel(es: &[Expr], xy: &[(f64, f64)]) -> Result<usize, String> {
     Ok(xy.len() * es.len())
 }
 
+/// Numbers of points around one and two blocks, and none.
+fn block_lengths() -> Vec<usize> {
+    let l = Kernel::LANES;
+    vec![0, 1, 2, l - 1, l, l + 1, 2 * l + 3, 5 * l / 2]
+}
+
 fn coordinate() -> impl Strategy<Value = f64> {
     prop_oneof![
         6 => -3.0..3.0f64,
@@ -314,8 +320,8 @@ proptest! {
     #[test]
     fn kernel_block_scalar_and_stack_machine_agree_to_the_bit(
         es in prop::collection::vec(kernel_formula(), 1..4),
-        n in prop::sample::select(vec![0usize, 1, 2, 255, 256, 257, 600]),
-        seed in prop::collection::vec((coordinate(), coordinate()), 600),
+        n in prop::sample::select(block_lengths()),
+        seed in prop::collection::vec((coordinate(), coordinate()), 3 * Kernel::LANES),
     ) {
         check_kernel(&es, &seed[..n]).map_err(TestCaseError::fail)?;
     }
@@ -376,7 +382,7 @@ fn finite_differences_would_catch_an_error() {
 }
 
 /// The kernel check on fixed formulas: a NaN in the branch not taken does
-/// not leak, and a block of 300 points (one full block and a partial one)
+/// not leak, and 300 points (full blocks and a partial one)
 /// agrees with the scalar path and the stack machine to the bit.
 #[test]
 fn kernel_agrees_on_fixed_formulas() {

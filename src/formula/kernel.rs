@@ -6,9 +6,12 @@
 //!
 //! # Instruction set
 //!
-//! Every instruction writes one register from up to three operands; an
-//! operand is a register, a variable (read straight from the caller's input
-//! slice) or a constant (one value for every lane):
+//! Every instruction writes one register (or one output) from up to three
+//! operands; an operand is a register, an output computed earlier, a
+//! variable (read straight from the caller's input slice) or a constant
+//! (one value for every lane). On the block path each instruction is one
+//! plain slice loop over the block's lanes; on the scalar path it is one
+//! f64 operation. Both run the instruction's one definition in `lanes.rs`:
 //!
 //! | instruction | meaning |
 //! |---|---|
@@ -31,31 +34,61 @@
 //! All outputs are built into one graph whose nodes are hash-consed: a
 //! subtree equal to one built before (operands of `+`, `*`, `and`, `or` in
 //! either order) is the same node, so `sqrt(R^2 + z^2)` used by three
-//! outputs is computed once per point. Instructions come in the order the
-//! graph was built (operands first); each takes a free register if there is
-//! one, and a register is freed after its last reader. The law set of the
-//! benchmark (five outputs, 23 instructions) needs 6 registers.
+//! outputs is computed once per point. Folding happens while the graph is
+//! built, exactly as the stack compiler folds (same operations, same
+//! order), plus identities that hold for every f64 (a NaN stays a NaN):
+//! `1*x = x`, `(-1)*x = -x`, `-(-x) = x`; a known condition decides `and`,
+//! `or` and `if`. Only nodes some output needs become instructions, in the order
+//! they were built (operands first); a product with a reciprocal nothing
+//! else reads becomes one `MulRecip`. Each output's instruction writes the
+//! caller's output slice directly; every other instruction takes a free
+//! register if there is one, and a register is freed after its last
+//! reader, so the register file stays small: the disk law set of the
+//! benchmark (five outputs, 24 instructions) needs 5 registers.
 //!
 //! # Lane count
 //!
-//! A block is 256 points: the register file of a law set (a handful of
-//! 2 KiB buffers plus the input and output windows) stays in the 48 KiB
-//! level-1 data cache, while the cost of dispatch (one `match` per
-//! instruction per block) is spread over 256 points.
+//! A block is [`Kernel::LANES`] = 128 points. Dispatch (one `match` per
+//! instruction per block) is spread over the block; registers of 1 KiB,
+//! with the input and output windows, stay in the level-1 data cache
+//! (48 KiB a core here) even for kernels of dozens of registers. Measured
+//! on the benchmark's two law sets (ratio kernel / hand-written, median of
+//! 7 runs, two or three runs of the benchmark each):
 //!
-//! # Measured (benches/evaluator.rs)
+//! | lanes | 32 | 64 | 128 | 256 | 512 | 1024 |
+//! |---|---|---|---|---|---|---|
+//! | disk (libm-bound) | 1.05–1.06 | 1.03–1.05 | 1.02–1.07 | 1.08–1.09 | 1.07–1.24 | 1.12–1.13 |
+//! | Plummer (arithmetic only) | 1.78–1.89 | 1.73–2.12 | 1.89–2.26 | 2.07–2.12 | 2.11–2.72 | 2.20–2.24 |
 //!
-//! MEASURED-FIGURES
+//! 64 and 128 are within the noise of this shared machine; 128 keeps the
+//! per-block costs lower for long programs.
 //!
-//! Source of agreement: the block path, the scalar path and the stack
-//! machine ([`super::StackProgram`]) agree to the bit on random formulas
+//! # Measured (`cargo bench --bench evaluator`)
+//!
+//! "Intel(R) Xeon(R) Processor" (as `lscpu` names it; a KVM guest, 2 cores,
+//! 48 KiB L1d and 2 MiB L2 a core), one thread, the default x86-64 target
+//! (SSE2), 10^7 points, medians of 7 runs (3 for the stack machine):
+//!
+//! | law set | kernel | hand-written Rust | ratio | stack machine |
+//! |---|---|---|---|---|
+//! | disk: c2, rho, P, vphi, Phi (24 instructions) | 32.7 ns/point | 31.3 ns/point | 1.05 | 410 ns/point (12.5 × the kernel) |
+//! | Plummer: Phi, gR, gz (14 instructions) | 8.6 ns/point | 3.8 ns/point | 2.24 | — |
+//!
+//! The disk set is bound by `powf` and `exp` (three library calls a point,
+//! the same in both), so the kernel's loads and stores between
+//! instructions hardly show; on arithmetic alone they do: each instruction
+//! is a pass over the block, where the hand-written loop keeps every
+//! temporary in a machine register (and shares a reciprocal the kernel may
+//! not, `1/s^3` being `1/(s*s*s)` to the bit).
+//!
+//! The block path, the scalar path and the stack machine
+//! ([`super::StackProgram`]) agree to the bit on random formulas
 //! (`tests/formula_props.rs`).
 
 use super::dag::{Graph, Inst, Lowered, Op, Src};
-use super::lanes::{select_block, select_scalar, Arg, Bin, Un, LANES};
+use super::lanes::{lanes, select_scalar, Arg, Bin, Un, LANES};
 use super::{func_name, Expr, FormulaError};
 use std::fmt;
-use std::ops::Range;
 
 /// Several formulas compiled together over a list of run-time variables:
 /// common subexpressions are computed once per point, constants folded.
@@ -124,51 +157,10 @@ impl fmt::Display for Kernel {
     }
 }
 
-/// Where the block path reads: the registers, the caller's inputs and
-/// outputs, and the lanes `at` of the current block.
-struct Lanes<'a> {
-    regs: &'a [Vec<f64>],
-    inputs: &'a [&'a [f64]],
-    outputs: &'a [&'a mut [f64]],
-    at: Range<usize>,
-}
-
-impl<'a> Lanes<'a> {
-    fn get(&self, s: Src) -> Arg<'a> {
-        match s {
-            Src::Reg(r) => Arg::Lanes(&self.regs[r as usize][..self.at.len()]),
-            Src::Var(v) => Arg::Lanes(&self.inputs[v as usize][self.at.clone()]),
-            Src::Out(k) => Arg::Lanes(&self.outputs[k as usize][self.at.clone()]),
-            Src::Const(c) => Arg::Splat(c),
-        }
-    }
-
-    /// Run one instruction into `d` (the destination's lanes).
-    fn exec(&self, inst: &Inst, d: &mut [f64]) {
-        let arg = |k: usize| self.get(inst.args[k]);
-        match inst.op {
-            Op::Un(u) => u.block(d, arg(0)),
-            Op::Bin(b) => b.block(d, arg(0), arg(1)),
-            Op::Select => select_block(d, arg(0), arg(1), arg(2)),
-        }
-    }
-}
-
-fn lanes<'a>(
-    regs: &'a [Vec<f64>],
-    inputs: &'a [&'a [f64]],
-    outputs: &'a [&'a mut [f64]],
-    at: &Range<usize>,
-) -> Lanes<'a> {
-    Lanes {
-        regs,
-        inputs,
-        outputs,
-        at: at.clone(),
-    }
-}
-
 impl Kernel {
+    /// Points per block of the block path.
+    pub const LANES: usize = LANES;
+
     /// Compile `outputs` (name, formula) with `vars` as the run-time inputs,
     /// in that order; every other name must be given by `constants`.
     pub fn compile(
@@ -204,7 +196,7 @@ impl Kernel {
         ws
     }
 
-    /// Evaluate every output at `n` points, in blocks of 256: `inputs` has
+    /// Evaluate every output at `n` points, in blocks of [`Kernel::LANES`]: `inputs` has
     /// one slice per variable (in the order of `vars`, each at least `n`
     /// long), `outputs` one slice of length `n` per output.
     pub fn run(&self, inputs: &[&[f64]], outputs: &mut [&mut [f64]], ws: &mut Workspace) {
@@ -451,7 +443,8 @@ mod tests {
         let k = kernel(&srcs, &["x"]);
         assert_eq!(k.len(), 8, "{k}");
         let mut ws = Workspace::new();
-        for n in [0, 1, 255, 256, 257, 1000] {
+        let l = Kernel::LANES;
+        for n in [0, 1, l - 1, l, l + 1, 2 * l + 1, 1000] {
             let x: Vec<f64> = (0..n).map(|i| i as f64 / 97.0 - 1.0).collect();
             let mut outs = vec![vec![f64::NAN; n]; 6];
             let mut slices: Vec<&mut [f64]> = outs.iter_mut().map(|o| &mut o[..]).collect();

@@ -1,8 +1,9 @@
 //! The instruction set of the block kernel ([`super::Kernel`]) and how each
 //! instruction runs: on one value (the scalar path) and over the lanes of a
-//! block (the block path). It owns the arithmetic of every instruction and
-//! nothing else: which instructions a formula becomes, and in which
-//! registers, is `dag.rs`'s business; looping over blocks is `kernel.rs`'s.
+//! block (the block path), and where an instruction reads its operands in a
+//! block. It owns the arithmetic of every instruction and nothing else:
+//! which instructions a formula becomes, and in which registers, is
+//! `dag.rs`'s business; looping over blocks is `kernel.rs`'s.
 //!
 //! Each instruction's meaning is written once, in `scalar`. The block path
 //! calls `scalar` on a constant instruction inside a plain slice loop, so
@@ -12,13 +13,15 @@
 //! per lane). Both paths therefore compute the same f64 operations in the
 //! same order and agree to the bit.
 
+use super::dag::{Inst, Op, Src};
 use super::expr::{apply_f64, compare_f64, pow_f64};
 use super::{CmpOp, Func};
+use std::ops::Range;
 
-/// Points per block. Registers hold this many values (2 KiB each), so the
-/// register file of a law set stays in the level-1 cache; the choice is
-/// measured in `benches/evaluator.rs` (see the module comment of `kernel.rs`).
-pub(crate) const LANES: usize = 256;
+/// Points per block. Registers hold this many values (1 KiB each), so the
+/// register file of a law set stays in the level-1 cache; the choice was
+/// measured with `benches/evaluator.rs` (see the module comment of `kernel.rs`).
+pub(crate) const LANES: usize = 128;
 
 /// An f64 compared and hashed by its bits, for constants inside hash keys
 /// (so `0.0` and `-0.0` are different constants, as they must be).
@@ -186,26 +189,10 @@ pub(crate) fn select_block(d: &mut [f64], c: Arg, a: Arg, b: Arg) {
     };
     let f = select_scalar;
     match (a, b) {
-        (Arg::Lanes(a), Arg::Lanes(b)) => {
-            for (((o, &c), &x), &y) in d.iter_mut().zip(c).zip(a).zip(b) {
-                *o = f(c, x, y);
-            }
-        }
-        (Arg::Lanes(a), Arg::Splat(y)) => {
-            for ((o, &c), &x) in d.iter_mut().zip(c).zip(a) {
-                *o = f(c, x, y);
-            }
-        }
-        (Arg::Splat(x), Arg::Lanes(b)) => {
-            for ((o, &c), &y) in d.iter_mut().zip(c).zip(b) {
-                *o = f(c, x, y);
-            }
-        }
-        (Arg::Splat(x), Arg::Splat(y)) => {
-            for (o, &c) in d.iter_mut().zip(c) {
-                *o = f(c, x, y);
-            }
-        }
+        (Arg::Lanes(a), Arg::Lanes(b)) => loop3(d, c, a, b, f),
+        (Arg::Lanes(a), Arg::Splat(y)) => loop2(d, c, a, |c, x| f(c, x, y)),
+        (Arg::Splat(x), Arg::Lanes(b)) => loop2(d, c, b, |c, y| f(c, x, y)),
+        (Arg::Splat(x), Arg::Splat(y)) => loop1(d, c, |c| f(c, x, y)),
     }
 }
 
@@ -216,14 +203,14 @@ pub(crate) enum Arg<'a> {
     Splat(f64),
 }
 
+// The loops below are separate functions (never inlined) so that the
+// compiler sees the destination as `&mut` (not aliasing the operands) and
+// vectorises them without run-time overlap checks.
+
 #[inline(always)]
 fn map1(d: &mut [f64], a: Arg, f: impl Fn(f64) -> f64) {
     match a {
-        Arg::Lanes(a) => {
-            for (o, &x) in d.iter_mut().zip(a) {
-                *o = f(x);
-            }
-        }
+        Arg::Lanes(a) => loop1(d, a, f),
         Arg::Splat(x) => d.fill(f(x)),
     }
 }
@@ -231,22 +218,78 @@ fn map1(d: &mut [f64], a: Arg, f: impl Fn(f64) -> f64) {
 #[inline(always)]
 fn map2(d: &mut [f64], a: Arg, b: Arg, f: impl Fn(f64, f64) -> f64) {
     match (a, b) {
-        (Arg::Lanes(a), Arg::Lanes(b)) => {
-            for ((o, &x), &y) in d.iter_mut().zip(a).zip(b) {
-                *o = f(x, y);
-            }
-        }
-        (Arg::Lanes(a), Arg::Splat(y)) => {
-            for (o, &x) in d.iter_mut().zip(a) {
-                *o = f(x, y);
-            }
-        }
-        (Arg::Splat(x), Arg::Lanes(b)) => {
-            for (o, &y) in d.iter_mut().zip(b) {
-                *o = f(x, y);
-            }
-        }
+        (Arg::Lanes(a), Arg::Lanes(b)) => loop2(d, a, b, f),
+        (Arg::Lanes(a), Arg::Splat(y)) => loop1(d, a, |x| f(x, y)),
+        (Arg::Splat(x), Arg::Lanes(b)) => loop1(d, b, |y| f(x, y)),
         (Arg::Splat(x), Arg::Splat(y)) => d.fill(f(x, y)),
+    }
+}
+
+#[inline(never)]
+fn loop1(d: &mut [f64], a: &[f64], f: impl Fn(f64) -> f64) {
+    let a = &a[..d.len()];
+    for (o, &x) in d.iter_mut().zip(a) {
+        *o = f(x);
+    }
+}
+
+#[inline(never)]
+fn loop2(d: &mut [f64], a: &[f64], b: &[f64], f: impl Fn(f64, f64) -> f64) {
+    let (a, b) = (&a[..d.len()], &b[..d.len()]);
+    for ((o, &x), &y) in d.iter_mut().zip(a).zip(b) {
+        *o = f(x, y);
+    }
+}
+
+#[inline(never)]
+fn loop3(d: &mut [f64], c: &[f64], a: &[f64], b: &[f64], f: impl Fn(f64, f64, f64) -> f64) {
+    let (c, a, b) = (&c[..d.len()], &a[..d.len()], &b[..d.len()]);
+    for (((o, &c), &x), &y) in d.iter_mut().zip(c).zip(a).zip(b) {
+        *o = f(c, x, y);
+    }
+}
+
+/// Where the block path reads: the registers, the caller's inputs and
+/// outputs, and the lanes `at` of the current block.
+pub(crate) struct Lanes<'a> {
+    regs: &'a [Vec<f64>],
+    inputs: &'a [&'a [f64]],
+    outputs: &'a [&'a mut [f64]],
+    at: Range<usize>,
+}
+
+impl<'a> Lanes<'a> {
+    pub(crate) fn get(&self, s: Src) -> Arg<'a> {
+        match s {
+            Src::Reg(r) => Arg::Lanes(&self.regs[r as usize][..self.at.len()]),
+            Src::Var(v) => Arg::Lanes(&self.inputs[v as usize][self.at.clone()]),
+            Src::Out(k) => Arg::Lanes(&self.outputs[k as usize][self.at.clone()]),
+            Src::Const(c) => Arg::Splat(c),
+        }
+    }
+
+    /// Run one instruction into `d` (the destination's lanes).
+    pub(crate) fn exec(&self, inst: &Inst, d: &mut [f64]) {
+        let arg = |k: usize| self.get(inst.args[k]);
+        match inst.op {
+            Op::Un(u) => u.block(d, arg(0)),
+            Op::Bin(b) => b.block(d, arg(0), arg(1)),
+            Op::Select => select_block(d, arg(0), arg(1), arg(2)),
+        }
+    }
+}
+
+pub(crate) fn lanes<'a>(
+    regs: &'a [Vec<f64>],
+    inputs: &'a [&'a [f64]],
+    outputs: &'a [&'a mut [f64]],
+    at: &Range<usize>,
+) -> Lanes<'a> {
+    Lanes {
+        regs,
+        inputs,
+        outputs,
+        at: at.clone(),
     }
 }
 
