@@ -230,6 +230,17 @@ fn measure(case: &Case, disk: &Disk, r: &[f64], z: &[f64]) -> f64 {
     let ts = time(if case.stack { STACK_REPS } else { 0 }, || {
         stack_run(&stack, r, z, &mut out_s)
     });
+    // The kernel's scalar path (one point at a time), into the stack
+    // machine's buffers.
+    let tp = time(if case.stack { STACK_REPS } else { 0 }, || {
+        let mut p = vec![0.0; m];
+        for i in 0..out_s[0].len() {
+            kernel.eval(&[r[i], z[i]], &mut p, &mut ws);
+            for (o, v) in out_s.iter_mut().zip(&p) {
+                o[i] = *v;
+            }
+        }
+    });
     black_box((&out_k, &out_h, &out_s));
 
     let ns = |t: f64| t * 1e9 / N as f64;
@@ -257,6 +268,11 @@ fn measure(case: &Case, disk: &Disk, r: &[f64], z: &[f64]) -> f64 {
             ns(smed)
         );
         println!("  stack machine / kernel: {:.1} (median)", smed / kmed);
+        let (pmin, pmed) = min_median(tp);
+        println!(
+            "  kernel, scalar path (one point at a time), {STACK_REPS} runs: min {pmin:.3} s, median {pmed:.3} s ({:.1} ns/point)",
+            ns(pmed)
+        );
     }
     println!(
         "  agreement: kernel vs hand-written max relative difference {worst:.1e} (limit 1e-13){}",

@@ -67,12 +67,13 @@
 //!
 //! "Intel(R) Xeon(R) Processor" (as `lscpu` names it; a KVM guest, 2 cores,
 //! 48 KiB L1d and 2 MiB L2 a core), one thread, the default x86-64 target
-//! (SSE2), 10^7 points, medians of 7 runs (3 for the stack machine):
+//! (SSE2), 10^7 points, medians of 7 runs (3 for the stack machine and the
+//! scalar path):
 //!
-//! | law set | kernel | hand-written Rust | ratio | stack machine |
-//! |---|---|---|---|---|
-//! | disk: c2, rho, P, vphi, Phi (24 instructions) | 32.7 ns/point | 31.3 ns/point | 1.05 | 410 ns/point (12.5 × the kernel) |
-//! | Plummer: Phi, gR, gz (14 instructions) | 8.6 ns/point | 3.8 ns/point | 2.24 | — |
+//! | law set | kernel | hand-written Rust | ratio | stack machine | kernel, scalar path |
+//! |---|---|---|---|---|---|
+//! | disk: c2, rho, P, vphi, Phi (24 instructions, 5 registers) | 33.8 ns/point | 32.4 ns/point | 1.05 | 459 ns/point (13.6 × the kernel) | 105 ns/point |
+//! | Plummer: Phi, gR, gz (14 instructions, 4 registers) | 7.5 ns/point | 3.7 ns/point | 2.01 | — | — |
 //!
 //! The disk set is bound by `powf` and `exp` (three library calls a point,
 //! the same in both), so the kernel's loads and stores between

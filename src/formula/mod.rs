@@ -262,8 +262,9 @@ pub struct Program {
     kernel: Kernel,
 }
 
-/// Registers the scalar path keeps on the machine stack (more spill to the heap).
-const INLINE_REGS: usize = 64;
+/// Registers the scalar path keeps on the machine stack: a small array for
+/// most formulas, a larger one, then the heap.
+const INLINE_REGS: [usize; 2] = [8, 64];
 
 impl Program {
     /// Compile `expr` with `vars` as the run-time inputs, in that order;
@@ -279,12 +280,13 @@ impl Program {
     /// Evaluate at one point (`args` in the order of `vars`).
     pub fn eval(&self, args: &[f64]) -> f64 {
         let mut out = [0.0];
-        let n = self.kernel.registers();
-        if n <= INLINE_REGS {
-            self.kernel
-                .eval_into(args, &mut [0.0; INLINE_REGS], &mut out);
+        let (k, n) = (&self.kernel, self.kernel.registers());
+        if n <= INLINE_REGS[0] {
+            k.eval_into(args, &mut [0.0; INLINE_REGS[0]], &mut out);
+        } else if n <= INLINE_REGS[1] {
+            k.eval_into(args, &mut [0.0; INLINE_REGS[1]], &mut out);
         } else {
-            self.kernel.eval_into(args, &mut vec![0.0; n], &mut out);
+            k.eval_into(args, &mut vec![0.0; n], &mut out);
         }
         out[0]
     }
