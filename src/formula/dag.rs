@@ -42,6 +42,17 @@ pub(crate) enum Op {
     Select,
 }
 
+impl Op {
+    /// How many operands it reads.
+    pub(crate) fn arity(self) -> usize {
+        match self {
+            Op::Un(_) => 1,
+            Op::Bin(_) => 2,
+            Op::Select => 3,
+        }
+    }
+}
+
 /// A node: an operation on up to three values (unused ones are zero).
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub(crate) struct Node {

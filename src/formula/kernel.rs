@@ -138,15 +138,14 @@ impl fmt::Display for Kernel {
             Src::Const(c) => format!("{c:e}"),
         };
         for i in &self.code {
-            let (name, n) = match i.op {
-                Op::Un(Un::PowF(c)) => (format!("PowF[{}]", c.get()), 1),
-                Op::Un(Un::Call(g)) | Op::Bin(Bin::Call(g)) => (func_name(g).to_string(), 1),
-                Op::Un(u) => (format!("{u:?}"), 1),
-                Op::Bin(b) => (format!("{b:?}"), 2),
-                Op::Select => ("Select".to_string(), 3),
+            let name = match i.op {
+                Op::Un(Un::PowF(c)) => format!("PowF[{}]", c.get()),
+                Op::Un(Un::Call(g)) | Op::Bin(Bin::Call(g)) => func_name(g).to_string(),
+                Op::Un(u) => format!("{u:?}"),
+                Op::Bin(b) => format!("{b:?}"),
+                Op::Select => "Select".to_string(),
             };
-            let n = if matches!(i.op, Op::Bin(_)) { 2 } else { n };
-            let args: Vec<String> = i.args[..n].iter().map(src).collect();
+            let args: Vec<String> = i.args[..i.op.arity()].iter().map(src).collect();
             writeln!(f, "{} = {name}({})", src(&i.dst), args.join(", "))?;
         }
         for (k, s) in self.outputs.iter().enumerate() {
@@ -339,15 +338,10 @@ impl Kernel {
     /// variable or a constant (what [`super::Program::len`] reports).
     pub(crate) fn steps(&self) -> usize {
         let leaf = |s: &Src| matches!(s, Src::Var(_) | Src::Const(_));
-        let arity = |op: &Op| match op {
-            Op::Un(_) => 1,
-            Op::Bin(_) => 2,
-            Op::Select => 3,
-        };
         let reads: usize = self
             .code
             .iter()
-            .map(|i| i.args[..arity(&i.op)].iter().filter(|s| leaf(s)).count())
+            .map(|i| i.args[..i.op.arity()].iter().filter(|s| leaf(s)).count())
             .sum();
         self.code.len() + reads + self.outputs.iter().filter(|s| leaf(s)).count()
     }
@@ -383,6 +377,7 @@ mod tests {
         // One more instruction per extra output, instead of five.
         assert_eq!(k.len(), 6);
         assert_eq!(count(&k, Op::Un(Un::Call(Func::Sqrt))), 1);
+        assert_eq!(k.to_string().matches("sqrt(").count(), 1, "{k}");
         let mut out = [0.0; 3];
         k.eval(&[3.0, 4.0], &mut out, &mut k.workspace());
         assert!((out[0] - 5.0).abs() < 1e-15 && (out[1] - 10.0).abs() < 1e-15);
