@@ -1,14 +1,17 @@
 //! Property tests of the formula engine on randomly generated formulas:
 //! derivatives against central finite differences, print → parse round
 //! trips, value-preserving simplification, and compiled programs against the
-//! tree walker. Points where a formula is not finite (or not smooth, for the
+//! tree walker; the block kernel against the scalar path and the stack
+//! machine, to the bit. Points where a formula is not finite (or not smooth, for the
 //! derivative check) are skipped; each property also has a fixed-formula
 //! test asserting that the checks actually ran. Conditionals are generated
 //! with every comparison, `and`, `or`, `not` and chained comparisons,
 //! nested in each other and as operands of everything else.
 
 use proptest::prelude::*;
-use stillpoint::formula::{parse, CmpOp, Cond, Expr, Func, Program, Visit};
+use stillpoint::formula::{
+    parse, CmpOp, Cond, Expr, Func, Kernel, Program, StackProgram, Visit, Workspace,
+};
 
 const FUNCS1: [Func; 14] = [
     Func::Sqrt,
@@ -98,30 +101,33 @@ fn conditionals() -> impl Strategy<Value = Expr> {
 }
 
 fn formula() -> impl Strategy<Value = Expr> {
-    leaf().prop_recursive(4, 24, 3, |inner| {
-        prop_oneof![
-            (inner.clone(), inner.clone()).prop_map(|(a, b)| a + b),
-            (inner.clone(), inner.clone()).prop_map(|(a, b)| a - b),
-            (inner.clone(), inner.clone()).prop_map(|(a, b)| a * b),
-            (inner.clone(), inner.clone()).prop_map(|(a, b)| a / b),
-            inner.clone().prop_map(|a| -a),
-            (
-                inner.clone(),
-                prop::sample::select(vec![2.0, 3.0, -1.0, -2.0, 0.5, 1.5, -0.5])
-            )
-                .prop_map(|(a, n)| a.pow(Expr::num(n))),
-            (inner.clone(), inner.clone()).prop_map(|(a, b)| a.pow(b)),
-            (inner.clone(), prop::sample::select(FUNCS1.to_vec()))
-                .prop_map(|(a, f)| Expr::call(f, vec![a])),
-            (
-                inner.clone(),
-                inner.clone(),
-                prop::sample::select(FUNCS2.to_vec())
-            )
-                .prop_map(|(a, b, f)| Expr::call(f, vec![a, b])),
-            conditional(inner.clone()),
-        ]
-    })
+    leaf().prop_recursive(4, 24, 3, formula_step)
+}
+
+/// One level of [`formula`]: an operation on smaller formulas.
+fn formula_step(inner: BoxedStrategy<Expr>) -> impl Strategy<Value = Expr> {
+    prop_oneof![
+        (inner.clone(), inner.clone()).prop_map(|(a, b)| a + b),
+        (inner.clone(), inner.clone()).prop_map(|(a, b)| a - b),
+        (inner.clone(), inner.clone()).prop_map(|(a, b)| a * b),
+        (inner.clone(), inner.clone()).prop_map(|(a, b)| a / b),
+        inner.clone().prop_map(|a| -a),
+        (
+            inner.clone(),
+            prop::sample::select(vec![2.0, 3.0, -1.0, -2.0, 0.5, 1.5, -0.5])
+        )
+            .prop_map(|(a, n)| a.pow(Expr::num(n))),
+        (inner.clone(), inner.clone()).prop_map(|(a, b)| a.pow(b)),
+        (inner.clone(), prop::sample::select(FUNCS1.to_vec()))
+            .prop_map(|(a, f)| Expr::call(f, vec![a])),
+        (
+            inner.clone(),
+            inner.clone(),
+            prop::sample::select(FUNCS2.to_vec())
+        )
+            .prop_map(|(a, b, f)| Expr::call(f, vec![a, b])),
+        conditional(inner.clone()),
+    ]
 }
 
 fn at(e: &Expr, x: f64, y: f64) -> f64 {
@@ -274,8 +280,102 @@ fn check_program(e: &Expr) -> Result<usize, String> {
     Ok(checked)
 }
 
+/// Parameters the kernel property folds in as constants: an integer, a
+/// fractional and a larger exponent.
+fn parameter(n: &str) -> Option<f64> {
+    match n {
+        "k" => Some(3.0),
+        "q" => Some(-0.5),
+        "h" => Some(2.5),
+        _ => None,
+    }
+}
+
+/// Formulas for the kernel: those of [`formula`] plus parameters, integer
+/// powers up to and past 64, parameter exponents, every comparison, `and`
+/// and `or`.
+fn kernel_formula() -> impl Strategy<Value = Expr> {
+    let leaves = prop_oneof![
+        3 => leaf(),
+        1 => prop::sample::select(vec!["k", "q", "h"]).prop_map(Expr::name),
+        1 => Just(Expr::num(-0.0)),
+    ];
+    leaves.prop_recursive(4, 24, 3, |inner| {
+        prop_oneof![
+            4 => formula_step(inner.clone()),
+            1 => (
+                inner.clone(),
+                prop::sample::select(vec![0.0, 1.0, 4.0, 5.0, 7.0, -3.0, 64.0, -64.0, 65.0, 2.5])
+            )
+                .prop_map(|(a, n)| a.pow(Expr::num(n))),
+            1 => (inner.clone(), prop::sample::select(vec!["k", "q", "h"]))
+                .prop_map(|(a, p)| a.pow(Expr::name(p))),
+            1 => (condition(inner.clone().boxed()), inner.clone(), inner)
+                .prop_map(|(c, a, b)| Expr::If(Box::new(c), Box::new(a), Box::new(b))),
+        ]
+    })
+}
+
+fn same_bits(a: f64, b: f64) -> bool {
+    a.to_bits() == b.to_bits() || (a.is_nan() && b.is_nan())
+}
+
+/// Run several formulas as one kernel over `xy` (block path), at each point
+/// (scalar path) and one by one on the stack machine; all must agree to the
+/// bit. Returns the number of values compared.
+fn check_kernel(es: &[Expr], xy: &[(f64, f64)]) -> Result<usize, String> {
+    let vars = ["x", "y"];
+    let named: Vec<(&str, &Expr)> = es.iter().map(|e| ("f", e)).collect();
+    let k = Kernel::compile(&named, &vars, &parameter).map_err(|e| e.to_string())?;
+    let stack: Vec<StackProgram> = es
+        .iter()
+        .map(|e| StackProgram::compile(e, &vars, &parameter).unwrap())
+        .collect();
+    let (x, y): (Vec<f64>, Vec<f64>) = xy.iter().copied().unzip();
+    let mut cols = vec![vec![0.0; xy.len()]; es.len()];
+    let mut outs: Vec<&mut [f64]> = cols.iter_mut().map(|c| &mut c[..]).collect();
+    let mut ws = Workspace::new();
+    k.run(&[&x, &y], &mut outs, &mut ws);
+    let mut point = vec![0.0; es.len()];
+    for (i, &(x, y)) in xy.iter().enumerate() {
+        k.eval(&[x, y], &mut point, &mut ws);
+        for (j, p) in stack.iter().enumerate() {
+            let (b, s, m) = (cols[j][i], point[j], p.eval(&[x, y]));
+            if !same_bits(b, s) || !same_bits(s, m) {
+                return Err(format!(
+                    "{} at ({x:e}, {y:e}): block {b:e}, scalar {s:e}, stack machine {m:e}",
+                    es[j]
+                ));
+            }
+        }
+    }
+    Ok(xy.len() * es.len())
+}
+
+/// Numbers of points around one and two blocks, and none.
+fn block_lengths() -> Vec<usize> {
+    let l = Kernel::LANES;
+    vec![0, 1, 2, l - 1, l, l + 1, 2 * l + 3, 5 * l / 2]
+}
+
+fn coordinate() -> impl Strategy<Value = f64> {
+    prop_oneof![
+        6 => -3.0..3.0f64,
+        1 => prop::sample::select(vec![0.0, -0.0, 1.0, -1.0, 0.5, f64::INFINITY, f64::NAN]),
+    ]
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 200, ..ProptestConfig::default() })]
+
+    #[test]
+    fn kernel_block_scalar_and_stack_machine_agree_to_the_bit(
+        es in prop::collection::vec(kernel_formula(), 1..4),
+        n in prop::sample::select(block_lengths()),
+        seed in prop::collection::vec((coordinate(), coordinate()), 3 * Kernel::LANES),
+    ) {
+        check_kernel(&es, &seed[..n]).map_err(TestCaseError::fail)?;
+    }
 
     #[test]
     fn derivative_matches_finite_differences(e in formula()) {
@@ -348,4 +448,30 @@ fn finite_differences_would_catch_an_error() {
     let (x, h) = (0.8_f64, 1e-5);
     let fd = (at(&e, x + h, 0.0) - at(&e, x - h, 0.0)) / (2.0 * h);
     assert!((at(&wrong, x, 0.0) - fd).abs() > 1e-5 * (1.0 + fd.abs()));
+}
+
+/// The kernel check on fixed formulas: a NaN in the branch not taken does
+/// not leak, and 300 points (full blocks and a partial one)
+/// agrees with the scalar path and the stack machine to the bit.
+#[test]
+fn kernel_agrees_on_fixed_formulas() {
+    let srcs = [
+        "sqrt(x) if x > 0 and not_used_below < 1 else 0",
+        "(sqrt(x) if x > 0 else -1) + (log(y) if y <= 0 or x == 1 else y^k)",
+        "(x if not x < y else y) + (1 if -1 < x <= 2 else 0)",
+        "x^q + x^h + x^65 + x^-64 + (x*y)^k + min(x, -0)*max(y, 0)",
+        "atan2(y, x) * exp(-x^2) + abs(x - y) - x/y",
+    ];
+    let es: Vec<Expr> = srcs
+        .iter()
+        .map(|s| parse(&s.replace("not_used_below", "y")).unwrap())
+        .collect();
+    let xy: Vec<(f64, f64)> = (0..300)
+        .map(|i| (i as f64 / 50.0 - 3.0, 1.5 - i as f64 / 120.0))
+        .collect();
+    assert_eq!(check_kernel(&es, &xy), Ok(1500));
+    let k = Kernel::compile(&[("f", &es[0])], &["x", "y"], &parameter).unwrap();
+    let mut out = [f64::NAN];
+    k.eval(&[-1.0, 0.0], &mut out, &mut k.workspace());
+    assert!(out[0].abs() < 1e-300, "sqrt(-1) in the branch not taken");
 }

@@ -59,6 +59,41 @@ pub(crate) fn is_builtin_constant(name: &str) -> bool {
     name == "pi"
 }
 
+/// What a compiler makes of a name: a run-time variable (its index) or a
+/// constant (a given value, or a built-in constant).
+pub(crate) enum Resolved {
+    Var(usize),
+    Const(f64),
+}
+
+/// Resolve a name for compilation: variables first, then `constants`, then
+/// built-in constants; anything else is an error with the closest variable.
+pub(crate) fn resolve_name(
+    n: &str,
+    vars: &[&str],
+    constants: &dyn Fn(&str) -> Option<f64>,
+) -> Result<Resolved, FormulaError> {
+    if let Some(i) = vars.iter().position(|v| *v == n) {
+        Ok(Resolved::Var(i))
+    } else if let Some(v) = constants(n) {
+        Ok(Resolved::Const(v))
+    } else if is_builtin_constant(n) {
+        Ok(Resolved::Const(std::f64::consts::PI))
+    } else {
+        Err(FormulaError::UnknownName {
+            name: n.to_string(),
+            span: 0..0,
+            suggestion: super::hints::suggest(n, vars.iter().copied()),
+        })
+    }
+}
+
+/// True for the number -1 exactly: `(-1)*x` is an exact negation.
+#[allow(clippy::float_cmp)]
+pub(crate) fn minus_one(e: &Expr) -> bool {
+    matches!(e, Expr::Num(v) if *v == -1.0)
+}
+
 /// `a ^ b` in f64, using repeated multiplication for small integer exponents
 /// so that the tree walker and the compiled program agree bit for bit.
 pub(crate) fn pow_f64(a: f64, b: f64) -> f64 {
