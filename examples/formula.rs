@@ -1,5 +1,7 @@
 //! Try the formula engine: `cargo run --example formula -- "FORMULA" [NAME]`
-//! prints the simplified formula, its LaTeX, and its derivative by NAME.
+//! prints the simplified formula, its LaTeX, and its derivative by NAME, for
+//! instance `"rho0 if R < R_in else rho0*(R/R_in)^(-p)" R`. A syntax error
+//! (try the old `"if(R < R_in, 1, 2)"`) prints the caret and the fix.
 
 fn main() {
     let args: Vec<String> = std::env::args().skip(1).collect();

@@ -507,3 +507,45 @@ fn issue2_radial_line_from_the_axis_builds() {
     let o = stillpoint(d.path(), &["check", "p.json"]);
     assert!(o.status.success(), "{}", text(&o));
 }
+
+#[test]
+fn issue5_old_conditional_in_a_profile_shows_the_new_form() {
+    let p = GOOD.replace(
+        "\"sound_speed_sq\": \"cs2\"",
+        "\"sound_speed_sq\": \"cs2*if(z < H, 1, 2)\"",
+    );
+    assert_ne!(p, GOOD);
+    let t = bad_build(&p, &[]);
+    assert!(t.contains("gas.sound_speed_sq"), "{t}");
+    assert!(
+        t.contains("`if(...)` is not our syntax: write `cs2*(1 if z < H else 2)`"),
+        "{t}"
+    );
+    assert!(t.contains("    cs2*if(z < H, 1, 2)\n        ^^\n"), "{t}");
+    // The new form builds (a kink at z = H, no jump).
+    let d = tmp();
+    let p = GOOD.replace(
+        "\"sound_speed_sq\": \"cs2\"",
+        "\"sound_speed_sq\": \"cs2*(1 if not z >= H else z/H)\"",
+    );
+    std::fs::write(d.path().join("p.json"), p).unwrap();
+    let o = stillpoint(d.path(), &["build", "p.json", "-o", "out.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+}
+
+#[test]
+fn issue5_reserved_words_are_not_parameter_names() {
+    for word in ["if", "else", "and", "or", "not"] {
+        let p = GOOD.replace(
+            "\"P_base\": 1.0",
+            &format!("\"P_base\": 1.0, \"{word}\": 2"),
+        );
+        let t = bad_build(&p, &[]);
+        assert!(
+            t.contains(&format!("parameters.{word}"))
+                && t.contains(&format!("`{word}` cannot be a parameter name"))
+                && t.contains("if, else, and, or, not are reserved"),
+            "{t}"
+        );
+    }
+}

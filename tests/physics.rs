@@ -288,7 +288,7 @@ fn audit_detects_missing_pressure_correction() {
 fn issue2_piecewise_audit_unbalanced_near_an_edge_is_not_identically_zero() {
     let text = DISK.replace(
         r#""solve_for": "rotation", "density": "R^(-p)""#,
-        r#""solve_for": "nothing", "density": "R^(-p)", "rotation": "if(R < 0.35, sqrt(G*M/R), sqrt(G*M/R - (p + q)*c0*R^(-q)))""#,
+        r#""solve_for": "nothing", "density": "R^(-p)", "rotation": "sqrt(G*M/R) if R < 0.35 else sqrt(G*M/R - (p + q)*c0*R^(-q))""#,
     );
     match verdict(&load(&text, &[])) {
         Verdict::NotEquilibrium { max, at } => {

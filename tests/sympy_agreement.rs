@@ -4,7 +4,10 @@
 //! differentiated by our engine and evaluated (in extended precision) at
 //! random points; the results go to a JSON file that `tests/sympy_check.py`
 //! re-derives and re-evaluates with SymPy. Parameters (`param` lines) are
-//! resolved with `resolve_parameters` and checked the same way.
+//! resolved with `resolve_parameters` and checked the same way. A formula
+//! with `@ name = value, ...` is also evaluated at that point, which must be
+//! finite for us; SymPy's reference there is its limit from above in the
+//! variable (so a removable 0/0 in SymPy's own derivative is no excuse).
 //!
 //! Set `SYMPY_AGREEMENT_KEEP=FILE` to keep a copy of the JSON report.
 //! Needs python3 with SymPy; `.ci/run` installs it (`pip install sympy`).
@@ -32,7 +35,7 @@ fn build_report() -> Value {
     let root = Path::new(env!("CARGO_MANIFEST_DIR"));
     let text = std::fs::read_to_string(root.join("tests/data/formulas.txt")).expect("formula list");
     let mut defs: Vec<(String, Expr)> = Vec::new();
-    let mut cases: Vec<(String, String)> = Vec::new();
+    let mut cases: Vec<(String, String, BTreeMap<String, f64>)> = Vec::new();
     for (i, line) in text.lines().enumerate() {
         let line = line.trim();
         if line.is_empty() || line.starts_with('#') {
@@ -44,8 +47,17 @@ fn build_report() -> Value {
                 parse(src.trim()).unwrap_or_else(|e| panic!("line {}: {}", i + 1, e.render(src)));
             defs.push((name.trim().to_string(), e));
         } else {
-            let (var, src) = line.split_once('|').expect("variable | formula");
-            cases.push((var.trim().to_string(), src.trim().to_string()));
+            let (var, rest) = line.split_once('|').expect("variable | formula");
+            let (src, at) = rest.split_once('@').unwrap_or((rest, ""));
+            let fixed = at
+                .split(',')
+                .filter(|a| !a.trim().is_empty())
+                .map(|a| {
+                    let (n, v) = a.split_once('=').expect("@ name = value");
+                    (n.trim().to_string(), v.trim().parse().expect("a number"))
+                })
+                .collect();
+            cases.push((var.trim().to_string(), src.trim().to_string(), fixed));
         }
     }
     let params = resolve_parameters(&defs, &[]).expect("parameters resolve");
@@ -66,22 +78,23 @@ fn build_report() -> Value {
 
     let mut rng = Rng(0x5EED_CAFE_F00D_1234);
     let mut formulas = Vec::new();
-    for (var, src) in &cases {
+    let mut pinned = 0;
+    for (var, src, fixed) in &cases {
         let e = parse(src).unwrap_or_else(|err| panic!("{}", err.render(src)));
         let simplified = e.simplify();
         let derivative = e.diff(var);
         let names: Vec<String> = e.names().into_iter().collect();
         let mut points = Vec::new();
-        for _ in 0..40 {
-            if points.len() == 4 {
-                break;
-            }
+        let mut tries = 0;
+        while tries < 40 && points.len() < 4 + usize::from(!fixed.is_empty()) {
+            // The fixed point first, then random ones.
+            let pin = tries == 0 && !fixed.is_empty();
+            tries += 1;
             let values: BTreeMap<String, f64> = names
                 .iter()
                 .map(|n| {
-                    let v = param_values
-                        .get(n)
-                        .copied()
+                    let v = (pin.then(|| fixed.get(n).copied()).flatten())
+                        .or_else(|| param_values.get(n).copied())
                         .unwrap_or_else(|| rng.uniform(0.3, 0.95));
                     (n.clone(), v)
                 })
@@ -91,14 +104,19 @@ fn build_report() -> Value {
             let df = derivative
                 .eval_extended(&look)
                 .expect("all names have values");
+            assert!(
+                !pin || (f.is_finite() && df.is_finite()),
+                "{src} at {values:?}: f = {f}, d/d{var} {derivative} = {df}"
+            );
             if f.is_finite() && df.is_finite() {
-                points.push(json!({"values": values, "f": f, "df": df}));
+                points.push(json!({"values": values, "f": f, "df": df, "fixed": pin}));
             }
         }
         assert!(
             points.len() >= 2,
             "{src}: too few points where it is finite"
         );
+        pinned += usize::from(!fixed.is_empty());
         formulas.push(json!({
             "formula": src,
             "var": var,
@@ -108,6 +126,7 @@ fn build_report() -> Value {
             "points": points,
         }));
     }
+    assert!(pinned >= 3, "the fixed points were not read: {pinned}");
     json!({"parameters": param_json, "formulas": formulas})
 }
 

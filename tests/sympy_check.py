@@ -14,13 +14,19 @@ SymPy, differentiates the original with SymPy and compares numerically:
   * our values f, f'         vs SymPy's values
   * our resolved parameters  vs SymPy evaluating their definitions
 
+Our conditional `a if c else b` is Python's conditional expression and
+becomes SymPy's Piecewise((a, c), (b, True)); `and`, `or`, `not` become
+And, Or, Not, and a chained comparison `a < b <= c` becomes
+And(a < b, b <= c), as Python defines it. A point marked `fixed` (see
+tests/data/formulas.txt) takes SymPy's values as limits from above in the
+variable, so a removable 0/0 in SymPy's own form does not count.
+
 Prints `sympy: N formulas, K disagreements` and exits non-zero on any
 disagreement (or any formula SymPy cannot read).
 """
 
 import ast
 import json
-import re
 import sys
 
 import sympy
@@ -56,6 +62,7 @@ FUNCS = {
     "_if": _if,
     "_and": sympy.And,
     "_or": sympy.Or,
+    "_not": sympy.Not,
     "_lt": sympy.Lt,
     "_le": sympy.Le,
     "_gt": sympy.Gt,
@@ -74,31 +81,43 @@ CMP_NAMES = {
 }
 
 
+def _call(name, args):
+    return ast.Call(func=ast.Name(id=name, ctx=ast.Load()), args=args, keywords=[])
+
+
 class _Conditions(ast.NodeTransformer):
-    """Rewrite Python's `and`/`or`/comparisons into SymPy calls, so that
-    parse_expr builds relationals instead of evaluating truth values."""
+    """Rewrite Python's conditional expression, `and`/`or`/`not` and
+    comparisons into SymPy calls, so that parse_expr builds Piecewise and
+    relationals instead of evaluating truth values."""
+
+    def visit_IfExp(self, node):
+        self.generic_visit(node)
+        return _call("_if", [node.test, node.body, node.orelse])
 
     def visit_BoolOp(self, node):
         self.generic_visit(node)
-        name = "_and" if isinstance(node.op, ast.And) else "_or"
-        return ast.Call(func=ast.Name(id=name, ctx=ast.Load()), args=node.values, keywords=[])
+        return _call("_and" if isinstance(node.op, ast.And) else "_or", node.values)
+
+    def visit_UnaryOp(self, node):
+        self.generic_visit(node)
+        if isinstance(node.op, ast.Not):
+            return _call("_not", [node.operand])
+        return node
 
     def visit_Compare(self, node):
         self.generic_visit(node)
-        if len(node.ops) != 1:
-            raise ValueError("chained comparisons are not part of the language")
-        name = CMP_NAMES[type(node.ops[0])]
-        return ast.Call(
-            func=ast.Name(id=name, ctx=ast.Load()),
-            args=[node.left, node.comparators[0]],
-            keywords=[],
-        )
+        # a < b <= c is a < b and b <= c (Python Language Reference, 6.10).
+        operands = [node.left, *node.comparators]
+        links = [
+            _call(CMP_NAMES[type(op)], [operands[i], operands[i + 1]])
+            for i, op in enumerate(node.ops)
+        ]
+        return links[0] if len(links) == 1 else _call("_and", links)
 
 
 def to_sympy(text, names):
     """Our formula text to a SymPy expression."""
     py = text.replace("^", "**")
-    py = re.sub(r"\bif\s*\(", "_if(", py)
     tree = _Conditions().visit(ast.parse(py, mode="eval"))
     py = ast.unparse(ast.fix_missing_locations(tree))
     local = dict(FUNCS)
@@ -107,9 +126,18 @@ def to_sympy(text, names):
     return parse_expr(py, local_dict=local, transformations=standard_transformations)
 
 
-def value(expr, point):
-    subs = {sympy.Symbol(n, real=True): sympy.Float(v, DIGITS) for n, v in point.items()}
-    v = sympy.N(expr.xreplace(subs), DIGITS)
+def value(expr, point, limit_in=None):
+    """The value at a point; with `limit_in`, the limit from above in that
+    variable (the others substituted first)."""
+    subs = {
+        sympy.Symbol(n, real=True): sympy.Float(v, DIGITS)
+        for n, v in point.items()
+        if n != limit_in
+    }
+    expr = expr.xreplace(subs)
+    if limit_in is not None:
+        expr = sympy.limit(expr, sympy.Symbol(limit_in, real=True), point[limit_in], "+")
+    v = sympy.N(expr, DIGITS)
     v = complex(v)
     if abs(v.imag) > 1e-30 * max(1.0, abs(v.real)):
         raise ValueError(f"complex value {v}")
@@ -150,13 +178,15 @@ def main(path):
             problems.append(f"{label}: no points were evaluated")
         for pt in f["points"]:
             env = pt["values"]
+            at = var if pt.get("fixed") else None
             try:
-                fv = value(orig, env)
+                fv = value(orig, env, at)
+                dv = value(their_deriv, env, at)
                 checks = [
                     ("simplified", value(ours_simpl, env), fv),
-                    ("derivative", value(ours_deriv, env), value(their_deriv, env)),
+                    ("derivative", value(ours_deriv, env), dv),
                     ("value f", pt["f"], fv),
-                    ("value f'", pt["df"], value(their_deriv, env)),
+                    ("value f'", pt["df"], dv),
                 ]
             except Exception as err:  # noqa: BLE001
                 problems.append(f"{label} at {env}: SymPy evaluation failed: {err}")

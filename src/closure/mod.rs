@@ -108,16 +108,11 @@ pub struct Solved {
 }
 
 impl Solved {
-    /// v_φ² at `s`, or None when there is no rotation. On the axis of a disk
-    /// (R = 0) a derived law is often 0/0 — R times terms in 1/R, or a
-    /// derivative written u^n n u′/u — although its limit is finite; there
-    /// the flow of a regular axisymmetric state does not rotate, so a NaN on
-    /// the axis is the limit v_φ² = 0. (A potential singular on the axis is
-    /// refused before this matters, see `verify_existence`.)
+    /// v_φ² at `s`, or None when there is no rotation. Derivatives follow
+    /// the power rule c·u^(c−1)·u′, finite where u = 0, so the axis needs no
+    /// special case: a value that is not a number there is reported.
     fn rotation_sq_at(&self, s: f64) -> Option<f64> {
-        let v2 = self.rotation_sq.as_ref()?.eval(&[s]);
-        let on_axis = self.shape == Shape::DiskMidplane && s == 0.0;
-        Some(if on_axis && v2.is_nan() { 0.0 } else { v2 })
+        Some(self.rotation_sq.as_ref()?.eval(&[s]))
     }
 
     /// True when evaluating the background runs a quadrature (an integrated

@@ -1,17 +1,21 @@
-//! Compilation of a tree to a flat stack-machine program, and the
-//! interpreter that runs it. Names that are not run-time variables become
+//! The stack machine: compilation of a tree to a flat stack program, and
+//! the interpreter that runs it one point at a time. It was the evaluator
+//! under [`super::Program`] before the block kernel (`kernel.rs`); it stays
+//! as [`StackProgram`], the reference the kernel is tested against to the
+//! bit (`tests/formula_props.rs`) and timed against
+//! (`benches/evaluator.rs`). Names that are not run-time variables become
 //! constants at compile time, and every subtree without variables is folded
-//! to one constant. `if` evaluates both branches and selects (no side
+//! to one constant. A conditional evaluates both branches and selects (no side
 //! effects exist), so the program has no jumps. The interpreter keeps its
 //! stack in a fixed array on the machine stack for ordinary depths, so a
-//! call allocates nothing and [`super::Program`] is `Send + Sync`.
+//! call allocates nothing. The tests at the bottom test [`super::Program`].
 
-use super::expr::{apply_f64, compare_f64, is_builtin_constant, pow_f64};
+use super::expr::{apply_f64, compare_f64, minus_one, pow_f64, resolve_name, Resolved};
 use super::{CmpOp, Cond, Expr, FormulaError, Func};
 
 /// One instruction.
 #[derive(Clone, Copy, Debug, PartialEq)]
-pub(crate) enum Op {
+enum Op {
     Const(f64),
     Var(usize),
     Add,
@@ -24,14 +28,48 @@ pub(crate) enum Op {
     Cmp(CmpOp),
     And,
     Or,
+    Not,
     /// Pops else, then, condition; pushes the selected value.
     Select,
 }
 
 const INLINE_STACK: usize = 64;
 
+/// A formula compiled for the stack machine: the reference evaluator (slow;
+/// use [`super::Program`] or [`super::Kernel`]).
+#[derive(Clone, Debug)]
+pub struct StackProgram {
+    code: Vec<Op>,
+    depth: usize,
+}
+
+impl StackProgram {
+    /// Compile `expr` with `vars` as the run-time inputs, in that order;
+    /// every other name must be given by `constants`.
+    pub fn compile(
+        expr: &Expr,
+        vars: &[&str],
+        constants: &dyn Fn(&str) -> Option<f64>,
+    ) -> Result<StackProgram, FormulaError> {
+        let (code, depth) = compile(expr, vars, constants)?;
+        Ok(StackProgram { code, depth })
+    }
+    /// Evaluate at one point (`args` in the order of `vars`).
+    pub fn eval(&self, args: &[f64]) -> f64 {
+        run(&self.code, self.depth, &|i| args[i])
+    }
+    /// The number of stack instructions.
+    pub fn len(&self) -> usize {
+        self.code.len()
+    }
+    /// True if there are no instructions (never, for a compiled formula).
+    pub fn is_empty(&self) -> bool {
+        self.code.is_empty()
+    }
+}
+
 /// Compile; returns the code and the stack depth it needs.
-pub(crate) fn compile(
+fn compile(
     e: &Expr,
     vars: &[&str],
     constants: &dyn Fn(&str) -> Option<f64>,
@@ -73,21 +111,12 @@ impl Compiler<'_> {
     fn emit(&mut self, e: &Expr) -> Result<(), FormulaError> {
         match e {
             Expr::Num(v) => self.code.push(Op::Const(*v)),
-            Expr::Name(n) => {
-                if let Some(i) = self.vars.iter().position(|v| v == n) {
-                    self.code.push(Op::Var(i));
-                } else if let Some(v) = (self.constants)(n) {
-                    self.code.push(Op::Const(v));
-                } else if is_builtin_constant(n) {
-                    self.code.push(Op::Const(std::f64::consts::PI));
-                } else {
-                    return Err(FormulaError::UnknownName {
-                        name: n.clone(),
-                        span: 0..0,
-                        suggestion: super::parser::suggest(n, self.vars.iter().copied()),
-                    });
-                }
-            }
+            Expr::Name(n) => self
+                .code
+                .push(match resolve_name(n, self.vars, self.constants)? {
+                    Resolved::Var(i) => Op::Var(i),
+                    Resolved::Const(v) => Op::Const(v),
+                }),
             Expr::Add(ts) => self.chain(ts, 0.0, Op::Add)?,
             // -1*x is exactly -x.
             Expr::Mul(fs) if fs.len() == 2 && minus_one(&fs[0]) => {
@@ -163,14 +192,13 @@ impl Compiler<'_> {
                     Op::Or
                 });
             }
+            Cond::Not(a) => {
+                self.cond(a)?;
+                self.code.push(Op::Not);
+            }
         }
         Ok(())
     }
-}
-
-#[allow(clippy::float_cmp)] // exactly -1, whose product is an exact negation
-fn minus_one(e: &Expr) -> bool {
-    matches!(e, Expr::Num(v) if *v == -1.0)
 }
 
 fn max_depth(code: &[Op]) -> usize {
@@ -178,7 +206,7 @@ fn max_depth(code: &[Op]) -> usize {
     for op in code {
         match op {
             Op::Const(_) | Op::Var(_) => d += 1,
-            Op::Neg | Op::Call1(_) => {}
+            Op::Neg | Op::Not | Op::Call1(_) => {}
             Op::Select => d -= 2,
             _ => d -= 1,
         }
@@ -188,7 +216,7 @@ fn max_depth(code: &[Op]) -> usize {
 }
 
 /// Run a program; `var(i)` gives the i-th input.
-pub(crate) fn run(code: &[Op], depth: usize, var: &dyn Fn(usize) -> f64) -> f64 {
+fn run(code: &[Op], depth: usize, var: &dyn Fn(usize) -> f64) -> f64 {
     if depth <= INLINE_STACK {
         let mut stack = [0.0f64; INLINE_STACK];
         exec(code, &mut stack, var)
@@ -212,6 +240,7 @@ fn exec(code: &[Op], st: &mut [f64], var: &dyn Fn(usize) -> f64) -> f64 {
                 sp += 1;
             }
             Op::Neg => st[sp - 1] = -st[sp - 1],
+            Op::Not => st[sp - 1] = truth(st[sp - 1] == 0.0),
             Op::Call1(f) => st[sp - 1] = apply_f64(f, st[sp - 1], 0.0),
             Op::Select => {
                 let c = st[sp - 3] != 0.0;
@@ -256,10 +285,15 @@ mod tests {
 
     #[test]
     fn conditionals_select() {
-        let p = prog("if(x < 0 or y > 5, -x, x*y)", &["x", "y"]);
+        let p = prog("-x if x < 0 or y > 5 else x*y", &["x", "y"]);
         assert!((p.eval(&[-2.0, 1.0]) - 2.0).abs() < 1e-15);
         assert!((p.eval(&[2.0, 3.0]) - 6.0).abs() < 1e-15);
         assert!((p.eval(&[2.0, 6.0]) + 2.0).abs() < 1e-15);
+        let p = prog("1 if not 0 < x < k else 2", &["x"]);
+        assert!((p.eval(&[1.0]) - 2.0).abs() < 1e-15);
+        assert!((p.eval(&[3.0]) - 1.0).abs() < 1e-15);
+        // not (NaN < 2) holds: a comparison with NaN is false.
+        assert!((p.eval(&[f64::NAN]) - 1.0).abs() < 1e-15);
     }
 
     #[test]

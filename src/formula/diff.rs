@@ -1,7 +1,10 @@
 //! Symbolic differentiation by one name. Results are built with the
 //! simplifying constructors, so they stay compact; piecewise constructs
-//! (`abs`, `min`, `max`, `if`) differentiate branch by branch under the same
-//! condition, which is the derivative away from the switching points.
+//! (`abs`, `min`, `max`, conditionals) differentiate branch by branch under
+//! the same condition, which is the derivative away from the switching
+//! points. A power with a constant exponent follows the power rule
+//! c·u^(c−1)·u′, which is finite wherever the derivative exists, also where
+//! u = 0 (the form c·u^c·u′/u, shorter for a reader, is 0/0 there).
 
 use super::simplify::{add, call, iff, mul, pow, scale, simplify, simplify_cond};
 use super::{CmpOp, Cond, Expr, Func};
@@ -50,12 +53,13 @@ pub(crate) fn derivative(e: &Expr, x: &str) -> Expr {
                 // n * u^(n-1) * u'
                 return mul(vec![num(n), pow(u, num(n - 1.0)), du]);
             }
+            if !depends_on(&v, x) {
+                // v * u^(v-1) * u'
+                let v_minus_1 = add(vec![v.clone(), num(-1.0)]);
+                return mul(vec![v, pow(u, v_minus_1), du]);
+            }
             let dv = derivative(&v, x);
             let uv = pow(u.clone(), v.clone());
-            if !depends_on(&v, x) {
-                // v * u^v * u' / u: keeps the original power visible.
-                return mul(vec![v, uv, du, recip(u)]);
-            }
             // u^v * (v' log u + v u'/u)
             let log_u = call(Func::Log, vec![u.clone()]);
             let inner = add(vec![mul(vec![dv, log_u]), mul(vec![v, du, recip(u)])]);
@@ -126,7 +130,37 @@ mod tests {
 
     #[test]
     fn power_law_derivative_is_compact() {
-        assert_eq!(d("rho0*(R/R0)^(-p)", "R"), "-p*rho0*(R/R0)^(-p)/R");
+        assert_eq!(d("rho0*(R/R0)^(-p)", "R"), "-p*rho0*(R/R0)^(-p - 1)/R0");
+    }
+
+    #[test]
+    fn power_rule_is_finite_where_the_base_vanishes() {
+        // d/dx (x/a)^n = n x^(n-1)/a^n: the power rule d/dx u^n = n u^(n-1)
+        // with the chain rule (any calculus text, e.g. Stewart, Calculus,
+        // ch. 3; cited from memory). At x = 0 it is 0 for n > 1 and 1/a for
+        // n = 1, not the 0/0 of n*(x/a)^n/x.
+        let e = parse("(x/a)^n").unwrap().diff("x");
+        assert_eq!(e.to_string(), "n*(x/a)^(n - 1)/a");
+        for (x, a, n) in [
+            (0.0, 0.5, 2.5),
+            (0.0, 2.0, 1.0),
+            (0.0, 0.7, 3.0),
+            (0.3, 0.5, 2.5),
+        ] {
+            let look = |name: &str| match name {
+                "x" => Some(x),
+                "a" => Some(a),
+                "n" => Some(n),
+                _ => None,
+            };
+            let want = n * f64::powf(x, n - 1.0) / a.powf(n);
+            for got in [e.eval(&look).unwrap(), e.eval_extended(&look).unwrap()] {
+                assert!(
+                    (got - want).abs() < 1e-14 * (1.0 + want.abs()),
+                    "{x} {a} {n}: {got}"
+                );
+            }
+        }
     }
 
     #[test]
@@ -137,9 +171,13 @@ mod tests {
         assert_eq!(d("sin(x)", "x"), "cos(x)");
         assert_eq!(d("exp(2*x)", "x"), "2*exp(2*x)");
         assert_eq!(d("log(x)", "x"), "1/x");
-        assert_eq!(d("abs(x)", "x"), "if(x >= 0, 1, -1)");
-        assert_eq!(d("min(x, 1)", "x"), "if(x <= 1, 1, 0)");
-        assert_eq!(d("if(x < 1, x^2, 2*x)", "x"), "if(x < 1, 2*x, 2)");
+        assert_eq!(d("abs(x)", "x"), "1 if x >= 0 else -1");
+        assert_eq!(d("min(x, 1)", "x"), "1 if x <= 1 else 0");
+        assert_eq!(d("x^2 if x < 1 else 2*x", "x"), "2*x if x < 1 else 2");
+        assert_eq!(
+            d("x^3 if not 0 < x <= 1 else sin(x)", "x"),
+            "3*x^2 if not 0 < x <= 1 else cos(x)"
+        );
         assert_eq!(d("x - x", "x"), "0");
     }
 

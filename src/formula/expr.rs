@@ -50,9 +50,48 @@ pub(crate) fn arity(f: Func) -> usize {
     }
 }
 
+/// The words of the conditional `a if c else b` and its connectives; they
+/// are not names (a parameter may not be called so).
+pub const KEYWORDS: [&str; 5] = ["if", "else", "and", "or", "not"];
+
 /// Names that are always known: the constant `pi`.
 pub(crate) fn is_builtin_constant(name: &str) -> bool {
     name == "pi"
+}
+
+/// What a compiler makes of a name: a run-time variable (its index) or a
+/// constant (a given value, or a built-in constant).
+pub(crate) enum Resolved {
+    Var(usize),
+    Const(f64),
+}
+
+/// Resolve a name for compilation: variables first, then `constants`, then
+/// built-in constants; anything else is an error with the closest variable.
+pub(crate) fn resolve_name(
+    n: &str,
+    vars: &[&str],
+    constants: &dyn Fn(&str) -> Option<f64>,
+) -> Result<Resolved, FormulaError> {
+    if let Some(i) = vars.iter().position(|v| *v == n) {
+        Ok(Resolved::Var(i))
+    } else if let Some(v) = constants(n) {
+        Ok(Resolved::Const(v))
+    } else if is_builtin_constant(n) {
+        Ok(Resolved::Const(std::f64::consts::PI))
+    } else {
+        Err(FormulaError::UnknownName {
+            name: n.to_string(),
+            span: 0..0,
+            suggestion: super::hints::suggest(n, vars.iter().copied()),
+        })
+    }
+}
+
+/// True for the number -1 exactly: `(-1)*x` is an exact negation.
+#[allow(clippy::float_cmp)]
+pub(crate) fn minus_one(e: &Expr) -> bool {
+    matches!(e, Expr::Num(v) if *v == -1.0)
 }
 
 /// `a ^ b` in f64, using repeated multiplication for small integer exponents
@@ -124,7 +163,7 @@ pub(crate) fn compare_f64(op: CmpOp, a: f64, b: f64) -> bool {
 pub enum Visit<'a> {
     /// A sub-formula (the formula itself first).
     Expr(&'a Expr),
-    /// A condition of an `if`.
+    /// A condition of a conditional (and each part of a compound one).
     Cond(&'a Cond),
 }
 
@@ -157,6 +196,7 @@ fn walk_cond<'a>(c: &'a Cond, f: &mut dyn FnMut(Visit<'a>)) {
             walk_cond(a, f);
             walk_cond(b, f);
         }
+        Cond::Not(a) => walk_cond(a, f),
     }
 }
 
@@ -204,6 +244,7 @@ fn map_cond(c: &Cond, f: &dyn Fn(&Expr) -> Option<Expr>) -> Cond {
         Cond::Cmp(op, a, b) => Cond::Cmp(*op, map_tree(a, f), map_tree(b, f)),
         Cond::And(a, b) => Cond::And(Box::new(map_cond(a, f)), Box::new(map_cond(b, f))),
         Cond::Or(a, b) => Cond::Or(Box::new(map_cond(a, f)), Box::new(map_cond(b, f))),
+        Cond::Not(a) => Cond::Not(Box::new(map_cond(a, f))),
     }
 }
 
@@ -271,6 +312,7 @@ fn cmp_cond(c: &Cond, d: &Cond) -> Ordering {
         (Cond::And(a, b), Cond::And(u, v)) | (Cond::Or(a, b), Cond::Or(u, v)) => {
             cmp_cond(a, u).then_with(|| cmp_cond(b, v))
         }
+        (Cond::Not(a), Cond::Not(u)) => cmp_cond(a, u),
         _ => cond_rank(c).cmp(&cond_rank(d)),
     }
 }
@@ -280,6 +322,7 @@ fn cond_rank(c: &Cond) -> u8 {
         Cond::Cmp(..) => 0,
         Cond::And(..) => 1,
         Cond::Or(..) => 2,
+        Cond::Not(..) => 3,
     }
 }
 
@@ -338,6 +381,7 @@ fn eval_cond(c: &Cond, lookup: &dyn Fn(&str) -> Option<f64>) -> Result<bool, For
         Cond::Cmp(op, a, b) => compare_f64(*op, eval(a, lookup)?, eval(b, lookup)?),
         Cond::And(a, b) => eval_cond(a, lookup)? & eval_cond(b, lookup)?,
         Cond::Or(a, b) => eval_cond(a, lookup)? | eval_cond(b, lookup)?,
+        Cond::Not(a) => !eval_cond(a, lookup)?,
     })
 }
 
@@ -393,6 +437,19 @@ mod tests {
         assert_eq!(cmp_expr(&x(), &x2), Ordering::Less);
         assert_eq!(cmp_expr(&x2, &Expr::name("y")), Ordering::Less);
         assert_eq!(cmp_expr(&x2, &x2), Ordering::Equal);
+    }
+
+    #[test]
+    fn walk_reaches_comparisons_under_not() {
+        // Switch points are collected from every comparison a walk visits.
+        let e = super::super::parse("1 if not (x < 2 or not y > 3) else 0").unwrap();
+        let mut cmps = Vec::new();
+        e.walk(&mut |v| {
+            if let Visit::Cond(Cond::Cmp(op, _, b)) = v {
+                cmps.push((*op, b.as_number()));
+            }
+        });
+        assert_eq!(cmps, vec![(CmpOp::Lt, Some(2.0)), (CmpOp::Gt, Some(3.0))]);
     }
 
     #[test]

@@ -221,6 +221,7 @@ impl Ctx<'_> {
             }
             Cond::And(a, b) => self.cond(a)? & self.cond(b)?,
             Cond::Or(a, b) => self.cond(a)? | self.cond(b)?,
+            Cond::Not(a) => !self.cond(a)?,
         })
     }
 }
@@ -303,7 +304,7 @@ mod tests {
         let src = "sqrt(x) + exp(x) + log(x) + log10(x) + sin(x) + cos(x) + tan(x) + asin(x) \
                    + acos(x) + atan(x) + atan2(x, -2) + atan2(-x, -2) + sinh(x) + cosh(x) \
                    + tanh(x) + abs(-x) + min(x, 2) + max(x, 2) + x^-3 + (-x)^3 + 2^x \
-                   + if(x > 0.5 and x < 1, 1, 0)";
+                   + (1 if x > 0.5 and x < 1 else 0) + (1 if not 0.5 < x < 1 else 2)";
         let e = parse(src).unwrap();
         let a = e.eval(&|_| Some(0.7)).unwrap();
         let b = ext(src);

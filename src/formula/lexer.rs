@@ -38,6 +38,7 @@ impl Tok {
     pub fn describe(&self) -> String {
         match self {
             Tok::Num(v) => format!("number `{v}`"),
+            Tok::Name(n) if super::expr::KEYWORDS.contains(&n.as_str()) => format!("`{n}`"),
             Tok::Name(n) => format!("name `{n}`"),
             Tok::End => "end of formula".to_string(),
             other => format!("`{}`", other.symbol()),

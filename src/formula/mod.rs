@@ -4,9 +4,12 @@
 //! and LaTeX. It knows nothing of physics: names are just names.
 //!
 //! This file holds the public contract (types and entry points); the work is
-//! split into submodules: `lexer` and `parser` (text to tree), `expr` (tree
-//! helpers and f64 evaluation), `simplify`, `diff`, `compile` ([`Program`]),
-//! `print` (text and LaTeX), `params` (parameter resolution) and `extended`
+//! split into submodules: `lexer` and `parser` (text to tree, with `hints`
+//! for misspelt names), `expr` (tree helpers and f64 evaluation),
+//! `simplify`, `diff`, `compile` (the stack machine, kept as the reference),
+//! `dag`, `lanes` and `kernel` (the block [`Kernel`] under [`Program`]),
+//! `print` (text), `latex`, `legacy` (the rewrite shown for the old
+//! `if(c, a, b)` form), `params` (parameter resolution) and `extended`
 //! (high-precision evaluation).
 
 use std::collections::{BTreeMap, BTreeSet};
@@ -14,16 +17,24 @@ use std::fmt;
 use std::ops::Range;
 
 mod compile;
+mod dag;
 mod diff;
 mod expr;
 mod extended;
+mod hints;
+mod kernel;
+mod lanes;
+mod latex;
+mod legacy;
 mod lexer;
 mod params;
 mod parser;
 mod print;
 mod simplify;
 
-pub use expr::{func_by_name, func_name, Visit};
+pub use compile::StackProgram;
+pub use expr::{func_by_name, func_name, Visit, KEYWORDS};
+pub use kernel::{Kernel, Workspace};
 pub use params::parameter_using;
 
 /// A function the formula language knows.
@@ -60,7 +71,8 @@ pub enum CmpOp {
     Ne,
 }
 
-/// A condition of `if(condition, a, b)`.
+/// The condition of a conditional `a if condition else b`. A chained
+/// comparison `lo < x <= hi` is the conjunction `lo < x and x <= hi`.
 #[derive(Clone, Debug, PartialEq)]
 pub enum Cond {
     /// `a < b` and the other comparisons.
@@ -69,6 +81,8 @@ pub enum Cond {
     And(Box<Cond>, Box<Cond>),
     /// `c or d`.
     Or(Box<Cond>, Box<Cond>),
+    /// `not c`.
+    Not(Box<Cond>),
 }
 
 /// A formula as a tree. Sums and products are n-ary so that simplification
@@ -87,7 +101,7 @@ pub enum Expr {
     Pow(Box<Expr>, Box<Expr>),
     /// A function call.
     Call(Func, Vec<Expr>),
-    /// `if(condition, then, else)`.
+    /// The conditional `then if condition else otherwise`.
     If(Box<Cond>, Box<Expr>, Box<Expr>),
 }
 
@@ -237,7 +251,7 @@ impl Expr {
     }
     /// LaTeX for the formula.
     pub fn to_latex(&self) -> String {
-        print::latex(self)
+        latex::latex(self)
     }
 }
 
@@ -248,14 +262,17 @@ impl fmt::Display for Expr {
     }
 }
 
-/// A formula compiled to a flat instruction list over a fixed list of
-/// variables; names that are not variables are folded in as constants.
+/// One formula compiled to a flat instruction list over a fixed list of
+/// variables; names that are not variables are folded in as constants. A
+/// [`Kernel`] with one output.
 #[derive(Clone, Debug)]
 pub struct Program {
-    code: Vec<compile::Op>,
-    n_vars: usize,
-    depth: usize,
+    kernel: Kernel,
 }
+
+/// Registers the scalar path keeps on the machine stack: a small array for
+/// most formulas, a larger one, then the heap.
+const INLINE_REGS: [usize; 2] = [8, 64];
 
 impl Program {
     /// Compile `expr` with `vars` as the run-time inputs, in that order;
@@ -265,43 +282,50 @@ impl Program {
         vars: &[&str],
         constants: &dyn Fn(&str) -> Option<f64>,
     ) -> Result<Program, FormulaError> {
-        let (code, depth) = compile::compile(expr, vars, constants)?;
-        Ok(Program {
-            code,
-            n_vars: vars.len(),
-            depth,
-        })
+        let kernel = Kernel::compile(&[("", expr)], vars, constants)?;
+        Ok(Program { kernel })
     }
     /// Evaluate at one point (`args` in the order of `vars`).
     pub fn eval(&self, args: &[f64]) -> f64 {
-        debug_assert!(
-            args.len() >= self.n_vars,
-            "Program::eval: too few arguments"
-        );
-        compile::run(&self.code, self.depth, &|i| args[i])
+        let mut out = [0.0];
+        let (k, n) = (&self.kernel, self.kernel.registers());
+        if n <= INLINE_REGS[0] {
+            k.eval_into(args, &mut [0.0; INLINE_REGS[0]], &mut out);
+        } else if n <= INLINE_REGS[1] {
+            k.eval_into(args, &mut [0.0; INLINE_REGS[1]], &mut out);
+        } else {
+            k.eval_into(args, &mut vec![0.0; n], &mut out);
+        }
+        out[0]
     }
     /// Evaluate over columns of inputs (one slice per variable, equal lengths)
-    /// into `out`.
+    /// into `out`, in blocks (one workspace allocation per call).
     pub fn eval_columns(&self, columns: &[&[f64]], out: &mut [f64]) {
+        let n_vars = self.kernel.vars().len();
         assert!(
-            columns.len() >= self.n_vars,
+            columns.len() >= n_vars,
             "Program::eval_columns: too few columns"
         );
         assert!(
-            columns.iter().all(|c| c.len() >= out.len()),
+            columns[..n_vars].iter().all(|c| c.len() >= out.len()),
             "Program::eval_columns: a column is shorter than the output"
         );
-        for (k, o) in out.iter_mut().enumerate() {
-            *o = compile::run(&self.code, self.depth, &|i| columns[i][k]);
-        }
+        let mut ws = self.kernel.workspace();
+        self.kernel.run(columns, &mut [out], &mut ws);
     }
-    /// The number of instructions (after constant folding).
+    /// The size of the program after constant folding, counted as a stack
+    /// machine counts it: instructions plus every read of a variable or a
+    /// constant (`k*x + pi` is 5: const, var, mul, const, add).
     pub fn len(&self) -> usize {
-        self.code.len()
+        self.kernel.steps()
     }
     /// True if the program has no instructions (never, for a compiled formula).
     pub fn is_empty(&self) -> bool {
-        self.code.is_empty()
+        self.len() == 0
+    }
+    /// The kernel underneath (one output).
+    pub fn kernel(&self) -> &Kernel {
+        &self.kernel
     }
 }
 

@@ -2,7 +2,7 @@
 //! evaluated in dependency order; a cycle is reported in order
 //! (`a -> b -> a`), an undefined name with the closest defined one.
 
-use super::parser::suggest;
+use super::hints::suggest;
 use super::{Expr, FormulaError};
 use std::collections::{BTreeSet, HashMap};
 

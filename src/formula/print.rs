@@ -1,16 +1,20 @@
-//! Printing: plain text that the parser reads back (minimal parentheses,
-//! `a - b`, `a/b`, `x^(-2)`, exactly round-tripping numbers), LaTeX, and the
-//! caret rendering of errors. Printing never simplifies.
+//! Printing as text that the parser reads back: minimal parentheses,
+//! `a - b`, `a/b`, `x^(-2)`, exactly round-tripping numbers, a conditional
+//! in parentheses when it is an operand, `a < b and b < c` as the chain
+//! `a < b < c`. Also the caret rendering of errors, and the precedence and
+//! spelling of conditions that `latex` shares. Printing never simplifies;
+//! LaTeX is `latex`.
 
 use super::expr::func_name;
-use super::{CmpOp, Cond, Expr, FormulaError, Func};
+use super::{CmpOp, Cond, Expr, FormulaError};
 
 // Binding strength of what a piece of text is, loosest first.
-const SUM: u8 = 1;
-const PRODUCT: u8 = 2;
-const NEG: u8 = 3;
-const POWER: u8 = 4;
-const ATOM: u8 = 5;
+pub(super) const CONDITIONAL: u8 = 0;
+pub(super) const SUM: u8 = 1;
+pub(super) const PRODUCT: u8 = 2;
+pub(super) const NEG: u8 = 3;
+pub(super) const POWER: u8 = 4;
+pub(super) const ATOM: u8 = 5;
 
 /// Render an error: the formula, a caret line, the message.
 pub(crate) fn render_error(err: &FormulaError, source: &str) -> String {
@@ -67,7 +71,7 @@ fn wrap(p: (String, u8), min: u8) -> String {
 }
 
 /// Is this term printed with a leading minus (negative number or coefficient)?
-fn negated(e: &Expr) -> Option<Expr> {
+pub(super) fn negated(e: &Expr) -> Option<Expr> {
     match e {
         Expr::Num(v) if *v < 0.0 => Some(Expr::Num(-v)),
         Expr::Mul(fs) => match fs.first() {
@@ -93,7 +97,7 @@ fn negated(e: &Expr) -> Option<Expr> {
 
 /// Sum terms with a term that has no leading minus first (`1 - x^2`, not
 /// `-x^2 + 1`); the order of the rest is kept.
-fn positive_first(ts: &[Expr]) -> Vec<&Expr> {
+pub(super) fn positive_first(ts: &[Expr]) -> Vec<&Expr> {
     let mut v: Vec<&Expr> = ts.iter().collect();
     if negated(&ts[0]).is_some() {
         if let Some(j) = ts.iter().position(|t| negated(t).is_none()) {
@@ -148,8 +152,13 @@ fn piece(e: &Expr) -> (String, u8) {
             (format!("{}({})", func_name(*f), a.join(", ")), ATOM)
         }
         Expr::If(c, a, b) => (
-            format!("if({}, {}, {})", cond_text(c), text(a), text(b)),
-            ATOM,
+            format!(
+                "{} if {} else {}",
+                wrap(piece(a), SUM),
+                cond_text(c),
+                text(b)
+            ),
+            CONDITIONAL,
         ),
     }
 }
@@ -207,187 +216,105 @@ fn op_text(op: CmpOp) -> &'static str {
     }
 }
 
+// Binding strength of a condition, loosest first.
+pub(super) const OR: u8 = 1;
+pub(super) const AND: u8 = 2;
+pub(super) const NOT: u8 = 3;
+pub(super) const COMPARISON: u8 = 4;
+
+/// How a printer spells the parts of a condition.
+pub(super) struct CondStyle {
+    pub expr: fn(&Expr) -> String,
+    pub op: fn(CmpOp) -> &'static str,
+    pub and: &'static str,
+    pub or: &'static str,
+    pub not: &'static str,
+    pub open: &'static str,
+    pub close: &'static str,
+    /// Put an `and` that is an operand of `or` in parentheses.
+    pub group_and_in_or: bool,
+}
+
+const TEXT: CondStyle = CondStyle {
+    expr: |e| wrap(piece(e), SUM),
+    op: op_text,
+    and: " and ",
+    or: " or ",
+    not: "not ",
+    open: "(",
+    close: ")",
+    group_and_in_or: false,
+};
+
 fn cond_text(c: &Cond) -> String {
+    cond_piece(c, &TEXT).0
+}
+
+/// The parts of a conjunction, left to right (`and` is associative).
+fn conjuncts<'a>(c: &'a Cond, out: &mut Vec<&'a Cond>) {
     match c {
-        Cond::Cmp(op, a, b) => format!("{} {} {}", text(a), op_text(*op), text(b)),
-        Cond::And(a, b) => format!("{} and {}", cond_and_part(a), cond_and_part(b)),
-        Cond::Or(a, b) => format!("{} or {}", cond_text(a), cond_text(b)),
+        Cond::And(a, b) => {
+            conjuncts(a, out);
+            conjuncts(b, out);
+        }
+        other => out.push(other),
     }
 }
 
-fn cond_and_part(c: &Cond) -> String {
-    match c {
-        Cond::Or(..) => format!("({})", cond_text(c)),
-        _ => cond_text(c),
-    }
-}
-
-// ---------------------------------------------------------------- LaTeX
-
-const GREEK: [&str; 35] = [
-    "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "iota", "kappa",
-    "lambda", "mu", "nu", "xi", "pi", "rho", "sigma", "tau", "upsilon", "phi", "chi", "psi",
-    "omega", "Gamma", "Delta", "Theta", "Lambda", "Xi", "Pi", "Sigma", "Upsilon", "Phi", "Psi",
-    "Omega", "varphi",
-];
-
-/// LaTeX for a name: Greek letters, trailing digits and `_x` as subscripts.
-fn latex_name(n: &str) -> String {
-    let (head, sub) = match n.split_once('_') {
-        Some((h, s)) if !h.is_empty() => (h.to_string(), Some(s.to_string())),
-        _ => {
-            let cut = n.trim_end_matches(|c: char| c.is_ascii_digit()).len();
-            if cut > 0 && cut < n.len() {
-                (n[..cut].to_string(), Some(n[cut..].to_string()))
-            } else {
-                (n.to_string(), None)
-            }
+/// Text and binding strength of a condition in a style.
+pub(super) fn cond_piece(c: &Cond, st: &CondStyle) -> (String, u8) {
+    let wrap = |p: (String, u8), min: u8| {
+        if p.1 >= min {
+            p.0
+        } else {
+            format!("{}{}{}", st.open, p.0, st.close)
         }
     };
-    let head = if GREEK.contains(&head.as_str()) {
-        format!("\\{head}")
-    } else if head.chars().count() > 1 {
-        format!("\\mathrm{{{head}}}")
-    } else {
-        head
-    };
-    match sub {
-        Some(s) => format!("{head}_{{{}}}", s.replace('_', "\\_")),
-        None => head,
-    }
-}
-
-fn latex_number(v: f64) -> String {
-    let t = number(v);
-    match t.split_once('e') {
-        Some((m, x)) => format!("{m} \\times 10^{{{x}}}"),
-        None => t,
-    }
-}
-
-/// LaTeX for a tree.
-pub(crate) fn latex(e: &Expr) -> String {
-    lpiece(e).0
-}
-
-fn lwrap(p: (String, u8), min: u8) -> String {
-    if p.1 >= min {
-        p.0
-    } else {
-        format!("\\left({}\\right)", p.0)
-    }
-}
-
-fn lpiece(e: &Expr) -> (String, u8) {
-    match e {
-        Expr::Num(v) => (latex_number(*v), if *v < 0.0 { NEG } else { ATOM }),
-        Expr::Name(n) => (latex_name(n), ATOM),
-        Expr::Add(ts) => {
-            let mut s = String::new();
-            for (i, t) in positive_first(ts).into_iter().enumerate() {
-                match (i, negated(t)) {
-                    (0, _) => s += &lwrap(lpiece(t), SUM),
-                    (_, Some(p)) => s += &format!(" - {}", lwrap(lpiece(&p), PRODUCT)),
-                    (_, None) => s += &format!(" + {}", lwrap(lpiece(t), PRODUCT)),
-                }
-            }
-            (s, SUM)
-        }
-        Expr::Mul(fs) => {
-            if let Some(p) = negated(e) {
-                return (format!("-{}", lwrap(lpiece(&p), PRODUCT)), PRODUCT);
-            }
-            let mut top = Vec::new();
-            let mut bottom = Vec::new();
-            for f in fs {
-                match f {
-                    Expr::Pow(b, x) if matches!(**x, Expr::Num(v) if v < 0.0) => {
-                        let v = -x.as_number().unwrap_or(-1.0);
-                        bottom.push(super::simplify::pow((**b).clone(), Expr::Num(v)));
+    match c {
+        Cond::Cmp(op, a, b) => (
+            format!("{} {} {}", (st.expr)(a), (st.op)(*op), (st.expr)(b)),
+            COMPARISON,
+        ),
+        Cond::And(..) => {
+            let mut parts = Vec::new();
+            conjuncts(c, &mut parts);
+            // Comparisons that share an operand print as one chain.
+            let mut out: Vec<String> = Vec::new();
+            let mut tail: Option<&Expr> = None;
+            for p in parts {
+                match (p, tail) {
+                    (Cond::Cmp(op, a, b), Some(t)) if a == t => {
+                        let last = out.last_mut().expect("a chain has a first link");
+                        *last += &format!(" {} {}", (st.op)(*op), (st.expr)(b));
+                        tail = Some(b);
                     }
-                    other => top.push(other.clone()),
+                    _ => {
+                        out.push(wrap(cond_piece(p, st), AND + 1));
+                        tail = match p {
+                            Cond::Cmp(_, _, b) => Some(b),
+                            _ => None,
+                        };
+                    }
                 }
             }
-            let join = |v: &[Expr]| {
-                let parts: Vec<String> = v.iter().map(|f| lwrap(lpiece(f), NEG)).collect();
-                parts.join(" \\, ")
-            };
-            let t = if top.is_empty() { "1".to_string() } else { join(&top) };
-            if bottom.is_empty() {
-                (t, PRODUCT)
-            } else {
-                // A lone factor above or below the bar needs no parentheses.
-                let lone = |v: &[Expr], joined: String| match v {
-                    [one] => latex(one),
-                    _ => joined,
+            if out.len() == 1 {
+                return (out.pop().unwrap_or_default(), COMPARISON);
+            }
+            (out.join(st.and), AND)
+        }
+        Cond::Or(a, b) => {
+            let operand = |c: &Cond| {
+                let p = cond_piece(c, st);
+                let min = if st.group_and_in_or && p.1 == AND {
+                    AND + 1
+                } else {
+                    OR
                 };
-                let t = lone(&top, t);
-                let b = lone(&bottom, join(&bottom));
-                (format!("\\frac{{{t}}}{{{b}}}"), ATOM)
-            }
-        }
-        Expr::Pow(b, x) => {
-            if matches!(**x, Expr::Num(v) if v < 0.0) {
-                let v = -x.as_number().unwrap_or(-1.0);
-                let d = latex(&super::simplify::pow((**b).clone(), Expr::Num(v)));
-                return (format!("\\frac{{1}}{{{d}}}"), ATOM);
-            }
-            // A fraction or root is an atom inside a product, but as the base
-            // of a power it needs parentheses: (R/R_0)^{-p}, not R/R_0^{-p}.
-            let piece = lpiece(b);
-            let base = if ["\\frac", "\\sqrt", "\\begin"].iter().any(|p| piece.0.starts_with(p)) {
-                format!("\\left({}\\right)", piece.0)
-            } else {
-                lwrap(piece, ATOM)
+                wrap(p, min)
             };
-            (format!("{base}^{{{}}}", latex(x)), POWER)
+            (format!("{}{}{}", operand(a), st.or, operand(b)), OR)
         }
-        Expr::Call(Func::Sqrt, a) => (format!("\\sqrt{{{}}}", latex(&a[0])), ATOM),
-        Expr::Call(Func::Abs, a) => (format!("\\left|{}\\right|", latex(&a[0])), ATOM),
-        Expr::Call(f, args) => {
-            let name = match f {
-                Func::Exp | Func::Log | Func::Sin | Func::Cos | Func::Tan | Func::Sinh
-                | Func::Cosh | Func::Tanh | Func::Min | Func::Max => format!("\\{}", func_name(*f)),
-                Func::Log10 => "\\log_{10}".into(),
-                Func::Asin => "\\arcsin".into(),
-                Func::Acos => "\\arccos".into(),
-                Func::Atan => "\\arctan".into(),
-                _ => format!("\\operatorname{{{}}}", func_name(*f)),
-            };
-            let a: Vec<String> = args.iter().map(latex).collect();
-            (format!("{name}\\left({}\\right)", a.join(", ")), ATOM)
-        }
-        Expr::If(c, a, b) => (
-            format!(
-                "\\begin{{cases}} {} & \\text{{if }} {} \\\\ {} & \\text{{otherwise}} \\end{{cases}}",
-                latex(a),
-                latex_cond(c),
-                latex(b)
-            ),
-            ATOM,
-        ),
-    }
-}
-
-fn latex_cond(c: &Cond) -> String {
-    match c {
-        Cond::Cmp(op, a, b) => {
-            let o = match op {
-                CmpOp::Lt => "<",
-                CmpOp::Le => "\\le",
-                CmpOp::Gt => ">",
-                CmpOp::Ge => "\\ge",
-                CmpOp::Eq => "=",
-                CmpOp::Ne => "\\ne",
-            };
-            format!("{} {o} {}", latex(a), latex(b))
-        }
-        Cond::And(a, b) => format!("{} \\text{{ and }} {}", latex_cond(a), latex_cond(b)),
-        Cond::Or(a, b) => format!(
-            "\\left({} \\text{{ or }} {}\\right)",
-            latex_cond(a),
-            latex_cond(b)
-        ),
+        Cond::Not(a) => (format!("{}{}", st.not, wrap(cond_piece(a, st), NOT)), NOT),
     }
 }
 
@@ -415,9 +342,38 @@ mod tests {
         assert_eq!(rt("(x^y)^z"), "(x^y)^z");
         assert_eq!(rt("a/(b*c)"), "a/(b*c)");
         assert_eq!(
-            rt("if(x < 1 and (y > 2 or y < 0), 1e-12, 2.5)"),
-            "if(x < 1 and (y > 2 or y < 0), 1e-12, 2.5)"
+            rt("1e-12 if x < 1 and (y > 2 or y < 0) else 2.5"),
+            "1e-12 if x < 1 and (y > 2 or y < 0) else 2.5"
         );
+    }
+
+    #[test]
+    fn conditionals_print_with_python_precedence() {
+        // The form read back is the form printed: no parentheses that the
+        // grammar does not need, and every one it does.
+        for s in [
+            "x + 1 if x > 0 else y",
+            "a if c > 1 else b if c > 0 else d",
+            "(a if c > 1 else b) if c > 0 else d",
+            "2*(x if x > 0 else -x)",
+            "-(x if x > 0 else 1)",
+            "x^(2 if x > 0 else 3)",
+            "(x if x > 0 else 1)^2",
+            "(x if x > 0 else 1) + y",
+            "y - (x if x > 0 else 1)",
+            "sqrt(x if x > 0 else 0)",
+            "1 if (x if x > 0 else -x) < 2 else 0",
+            "1 if not x < 1 else 0",
+            "1 if not (x < 1 and y < 2) else 0",
+            "1 if not x < 1 or y < 2 and x > 0 else 0",
+            "1 if (x < 1 or y < 2) and x > 0 else 0",
+            "1 if 0 < x <= y < 3 else 0",
+            "1 if 0 < x and y < 3 else 0",
+        ] {
+            assert_eq!(rt(s), s);
+        }
+        // Spelled out, a chain prints as one.
+        assert_eq!(rt("1 if 0 < x and x <= 2 else 0"), "1 if 0 < x <= 2 else 0");
     }
 
     #[test]
@@ -426,22 +382,6 @@ mod tests {
             let back: f64 = number(v).parse().unwrap();
             assert_eq!(back.to_bits(), v.to_bits(), "{v}");
         }
-    }
-
-    #[test]
-    fn latex_forms() {
-        let l = |s: &str| latex(&parse(s).unwrap());
-        assert_eq!(l("rho0/R_in"), "\\frac{\\rho_{0}}{R_{in}}");
-        assert_eq!(l("(R/R0)^(-p)"), "\\left(\\frac{R}{R_{0}}\\right)^{-p}");
-        assert_eq!(l("sqrt(x)^3"), "\\left(\\sqrt{x}\\right)^{3}");
-        assert_eq!(l("sqrt(phi) * pi"), "\\sqrt{\\phi} \\, \\pi");
-        assert_eq!(
-            l("Omega_K + k_B + Mdot"),
-            "\\Omega_{K} + k_{B} + \\mathrm{Mdot}"
-        );
-        assert_eq!(l("exp(-x^2)"), "\\exp\\left(-x^{2}\\right)");
-        assert_eq!(l("(a + b)^2"), "\\left(a + b\\right)^{2}");
-        assert!(l("if(x < 1, 0, x)").starts_with("\\begin{cases} 0 & \\text{if } x < 1"));
     }
 
     #[test]

@@ -283,6 +283,7 @@ pub(crate) fn size(e: &Expr) -> usize {
         match c {
             Cond::Cmp(_, a, b) => 1 + size(a) + size(b),
             Cond::And(a, b) | Cond::Or(a, b) => 1 + cond_size(a) + cond_size(b),
+            Cond::Not(a) => 1 + cond_size(a),
         }
     }
     match e {
@@ -330,6 +331,7 @@ fn const_cond(c: &Cond) -> Option<bool> {
         Cond::Cmp(op, a, b) => Some(compare_f64(*op, a.as_number()?, b.as_number()?)),
         Cond::And(a, b) => Some(const_cond(a)? && const_cond(b)?),
         Cond::Or(a, b) => Some(const_cond(a)? || const_cond(b)?),
+        Cond::Not(a) => Some(!const_cond(a)?),
     }
 }
 
@@ -356,6 +358,12 @@ pub(crate) fn simplify_cond(c: &Cond) -> Cond {
                 _ => Cond::Or(Box::new(a), Box::new(b)),
             }
         }
+        // not not c = c; `not (a < b)` is not rewritten as `a >= b`, which
+        // differs where a comparison meets a NaN.
+        Cond::Not(a) => match simplify_cond(a) {
+            Cond::Not(inner) => *inner,
+            a => Cond::Not(Box::new(a)),
+        },
     }
 }
 
@@ -421,9 +429,13 @@ mod tests {
 
     #[test]
     fn conditions_fold() {
-        assert_eq!(s("if(1 < 2, x, y)"), "x");
-        assert_eq!(s("if(x < 2 or 3 > 2, x, y)"), "x");
-        assert_eq!(s("if(x < 2, y, y)"), "y");
+        assert_eq!(s("x if 1 < 2 else y"), "x");
+        assert_eq!(s("x if x < 2 or 3 > 2 else y"), "x");
+        assert_eq!(s("y if x < 2 else y"), "y");
+        assert_eq!(s("x if not 1 < 2 else y"), "y");
+        assert_eq!(s("x if not not x < 2 else y"), "x if x < 2 else y");
+        // `not a < b` is not `a >= b`: they differ where a is NaN.
+        assert_eq!(s("x if not x < 2 else y"), "x if not x < 2 else y");
         assert_eq!(s("min(x, x) + abs(exp(x))"), "x + exp(x)");
         assert_eq!(s("sqrt(4) + log(10) - log(10)"), "2");
     }

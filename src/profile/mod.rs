@@ -103,7 +103,9 @@ pub struct Loaded {
 }
 
 /// Names no parameter may take: coordinates and built-ins.
-pub const RESERVED: [&str; 10] = ["R", "phi", "x", "y", "z", "r", "pi", "G", "k_B", "m_u"];
+pub const RESERVED: [&str; 15] = [
+    "R", "phi", "x", "y", "z", "r", "pi", "G", "k_B", "m_u", "if", "else", "and", "or", "not",
+];
 
 /// Parse a `--set NAME=VALUE` argument.
 pub fn parse_override(arg: &str) -> Result<(String, String), String> {
