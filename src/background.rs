@@ -235,9 +235,11 @@ impl StateBlock {
 /// Allocated once per thread by [`Background::workspace`] and reused.
 #[derive(Debug, Default)]
 pub struct Workspace {
-    /// Scratch buffers, used as the background sees fit (one register file
-    /// per compiled program, node buffers, …).
+    /// Scratch buffers, used as the background sees fit (outputs of
+    /// compiled programs, node buffers, …).
     pub buffers: Vec<Vec<f64>>,
+    /// Register files of compiled programs.
+    pub kernels: Vec<crate::formula::Workspace>,
 }
 
 /// An equilibrium state that can be evaluated at any point inside the domain

@@ -17,14 +17,17 @@
 
 pub mod integrate;
 mod laws;
+mod solved;
+pub mod tabulate;
 
 pub use laws::{derived_laws, DerivedLaw, Laws};
 
-use crate::background::{Background, Frame, Shape, State};
+use crate::background::{Background, Shape};
+use crate::formula::Kernel;
 use crate::formula::{FormulaError, Program};
 use crate::keys::Keyed;
 use crate::model::{Model, Unknown};
-use integrate::Cumulative;
+use tabulate::Table;
 
 /// Why a closure could not produce an equilibrium.
 #[derive(Clone, Debug, PartialEq, thiserror::Error)]
@@ -85,7 +88,7 @@ impl Domain {
 
 /// Which quantity a background integrates.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
-enum Integrated {
+pub(crate) enum Integrated {
     /// ln ρ (disk, found density).
     LogDensity,
     /// P itself (disk or slab, found pressure).
@@ -94,91 +97,7 @@ enum Integrated {
     LogPressure,
 }
 
-/// A solved background: compiled laws and, for integrated closures, the
-/// tabulated integral.
-pub struct Solved {
-    shape: Shape,
-    potential: Program,
-    density: Option<Program>,
-    sound_speed_sq: Option<Program>,
-    pressure: Option<Program>,
-    rotation_sq: Option<Program>,
-    rotation: Option<Program>,
-    integral: Option<(Integrated, Cumulative, f64)>,
-}
-
-impl Solved {
-    /// v_φ² at `s`, or None when there is no rotation. Derivatives follow
-    /// the power rule c·u^(c−1)·u′, finite where u = 0, so the axis needs no
-    /// special case: a value that is not a number there is reported.
-    fn rotation_sq_at(&self, s: f64) -> Option<f64> {
-        Some(self.rotation_sq.as_ref()?.eval(&[s]))
-    }
-
-    /// True when evaluating the background runs a quadrature (an integrated
-    /// closure), so that callers may want to memoize it.
-    pub fn is_integrated(&self) -> bool {
-        self.integral.is_some()
-    }
-}
-
-impl Solved {
-    /// The state at coordinate `s` of the balance line.
-    fn state(&self, s: f64) -> State {
-        let ev = |p: &Option<Program>| p.as_ref().map(|p| p.eval(&[s]));
-        let c2 = ev(&self.sound_speed_sq);
-        let (density, pressure) = match &self.integral {
-            None => {
-                let rho = ev(&self.density).unwrap_or(f64::NAN);
-                let p = ev(&self.pressure)
-                    .or(c2.map(|c| c * rho))
-                    .unwrap_or(f64::NAN);
-                (rho, p)
-            }
-            Some((kind, cum, base)) => {
-                let i = cum.at(s);
-                match kind {
-                    Integrated::LogDensity => {
-                        let rho = base * i.exp();
-                        (rho, rho * c2.unwrap_or(f64::NAN))
-                    }
-                    Integrated::Pressure => (ev(&self.density).unwrap_or(f64::NAN), base + i),
-                    Integrated::LogPressure => {
-                        let p = base * i.exp();
-                        (p / c2.unwrap_or(f64::NAN), p)
-                    }
-                }
-            }
-        };
-        let potential = self.potential.eval(&[s]);
-        if self.shape != Shape::DiskMidplane {
-            return State::at_rest(density, pressure, potential);
-        }
-        // A given rotation law keeps its sign (the sense of rotation); a
-        // derived one is prograde, v_φ = +√(v_φ²).
-        let rotation = match &self.rotation {
-            Some(v) => v.eval(&[s]),
-            None => self.rotation_sq_at(s).map_or(0.0, f64::sqrt),
-        };
-        State::rotating(density, pressure, potential, rotation)
-    }
-}
-
-impl Background for Solved {
-    fn frame(&self) -> Frame {
-        self.shape.frame()
-    }
-
-    /// Every closure so far balances along one coordinate: a disk's laws are
-    /// those of its midplane.
-    fn depends_on(&self) -> [bool; 2] {
-        [true, false]
-    }
-
-    fn at(&self, x: &[f64]) -> State {
-        self.state(x[0])
-    }
-}
+pub use solved::Solved;
 
 /// Compile a formula of the model, an error naming where it came from.
 pub fn compile(
@@ -195,20 +114,7 @@ pub fn compile(
 /// Solve the model's closure over the domain.
 pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
     let laws = Laws::build(model)?;
-    let compile = |e: &crate::formula::Expr, origin: &str| compile(model, e, origin);
-    let opt = |e: &Option<crate::formula::Expr>, origin: &str| {
-        e.as_ref().map(|e| compile(e, origin)).transpose()
-    };
-    let mut solved = Solved {
-        shape: model.shape,
-        potential: compile(&laws.potential, &model.potential.origin)?,
-        density: opt(&laws.density, "density")?,
-        sound_speed_sq: opt(&laws.sound_speed_sq, "sound speed")?,
-        pressure: opt(&laws.pressure, "pressure")?,
-        rotation_sq: opt(&laws.rotation_sq, "rotation")?,
-        rotation: opt(&laws.rotation, "rotation")?,
-        integral: None,
-    };
+    let mut integral = None;
     if let Some(integrand) = &laws.integrand {
         let anchor = model.anchor.ok_or_else(|| {
             ClosureError::Incomplete(format!(
@@ -246,22 +152,43 @@ pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
             &|n| model.lookup(n),
         ));
         knots.extend([lo, hi]);
-        let program = compile(integrand, "integrand")?;
-        solved.integral = Some((
-            kind,
-            Cumulative::new(program, knots, anchor.at),
-            anchor.value,
-        ));
+        let one = |name: &str, e: &crate::formula::Expr| {
+            Kernel::compile(&[(name, e)], &[model.coordinate()], &|n| model.lookup(n)).map_err(
+                |error| ClosureError::Formula {
+                    origin: "integrand".into(),
+                    error,
+                },
+            )
+        };
+        let table = Table::new(
+            one("f", integrand)?,
+            one("m", &magnitude(integrand))?,
+            knots,
+            anchor.at,
+        );
+        integral = Some((kind, table, anchor.value));
     }
+    let solved = Solved::new(model, &laws, integral)?;
     verify_existence(model, &solved, domain)?;
     Ok(solved)
+}
+
+/// The size of the terms of a sum, Σ|tᵢ| (|e| for anything else): the
+/// scale its rounding is relative to.
+fn magnitude(e: &crate::formula::Expr) -> crate::formula::Expr {
+    use crate::formula::{Expr, Func};
+    let abs = |t: &Expr| Expr::call(Func::Abs, vec![t.clone()]);
+    match e {
+        Expr::Add(ts) => Expr::Add(ts.iter().map(abs).collect()),
+        other => abs(other),
+    }
 }
 
 /// Stop with a clear error where the solved state is not an equilibrium:
 /// v_φ² < 0 (an interval), density, pressure or c² not positive or not finite.
 fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), ClosureError> {
     let s = model.coordinate();
-    if domain.axis_at_lo && !bg.potential.eval(&[domain.lo]).is_finite() {
+    if domain.axis_at_lo && !bg.on_line(domain.lo).potential.is_finite() {
         return Err(ClosureError::NoEquilibrium(format!(
             "the potential is singular at {s} = {}, which the grid contains: soften the point \
              mass (gravity.softening) or keep {s} = {} off the grid",
@@ -272,7 +199,7 @@ fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), C
     // The given laws first: a density, pressure or c² that is not positive
     // is the cause, and a derived rotation law only its symptom.
     verify_positive(s, bg, &pts)?;
-    if bg.rotation_sq.is_some() {
+    if bg.rotation_sq_at(domain.lo).is_some() {
         let law = if model.unknown == Unknown::Rotation {
             "the derived rotation law"
         } else {
@@ -326,7 +253,7 @@ fn show(x: f64) -> String {
 /// every scan point.
 fn verify_positive(s: &str, bg: &Solved, pts: &[f64]) -> Result<(), ClosureError> {
     for &x in pts {
-        let st = bg.state(x);
+        let st = bg.on_line(x);
         let c2 = st.sound_speed_sq();
         for (name, v) in [
             ("density", st.density),

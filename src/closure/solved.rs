@@ -1,0 +1,281 @@
+//! The solved background of a closure: its laws compiled into one block
+//! program (common subexpressions shared between ρ, P, v_φ and Φ) and, for
+//! integrated closures, the tabulated integral.
+//!
+//! Owns: turning laws and a table into a [`Background`] — which outputs the
+//! program has, how the integral becomes ρ and P, the accelerations, and the
+//! block and scalar paths, which agree to the bit. Does not own which laws a
+//! closure needs or derives (`laws`), the table (`tabulate`) or the
+//! existence checks (`mod.rs`).
+
+use super::tabulate::Table;
+use super::{ClosureError, Integrated, Laws};
+use crate::background::{Background, Frame, Shape, State, StateBlock, Want, Workspace};
+use crate::formula::{Expr, Func, Kernel, Program};
+use crate::model::Model;
+
+/// Positions of the outputs of the law program.
+#[derive(Clone, Copy, Debug, Default)]
+struct Outputs {
+    phi: usize,
+    rho: Option<usize>,
+    p: Option<usize>,
+    c2: Option<usize>,
+    v: Option<usize>,
+}
+
+/// A solved background: compiled laws and, for integrated closures, the
+/// tabulated integral.
+pub struct Solved {
+    shape: Shape,
+    laws: Kernel,
+    out: Outputs,
+    accel: Kernel,
+    rotation_sq: Option<Program>,
+    integral: Option<(Integrated, Table, f64)>,
+}
+
+/// Buffers of [`Workspace::buffers`]: one per law output, then the integral,
+/// the table's nodes and (next) their integrand values, then the two
+/// accelerations.
+const INTEGRAL: usize = 5;
+const NODES: usize = 6;
+const ACCEL: usize = 8;
+
+impl Solved {
+    /// Compile the laws of a closure (and take the table of an integrated
+    /// one) into a background.
+    pub(super) fn new(
+        model: &Model,
+        laws: &Laws,
+        integral: Option<(Integrated, Table, f64)>,
+    ) -> Result<Solved, ClosureError> {
+        let s = model.coordinate();
+        let fail = |origin: &str| {
+            let origin = origin.to_string();
+            move |error| ClosureError::Formula { origin, error }
+        };
+        let mut list: Vec<(&str, Expr)> = vec![("phi", laws.potential.clone())];
+        let mut out = Outputs::default();
+        let mut push = |name: &'static str, e: &Option<Expr>| {
+            e.as_ref().map(|e| {
+                list.push((name, e.clone()));
+                list.len() - 1
+            })
+        };
+        out.rho = push("rho", &laws.density);
+        out.p = push("P", &laws.pressure);
+        out.c2 = push("c2", &laws.sound_speed_sq);
+        // A given rotation law keeps its sign (the sense of rotation); a
+        // derived one is prograde, v_φ = +√(v_φ²).
+        let v = laws.rotation.clone().or_else(|| {
+            laws.rotation_sq
+                .clone()
+                .map(|v2| Expr::call(Func::Sqrt, vec![v2]))
+        });
+        if model.shape == Shape::DiskMidplane {
+            out.v = push("v", &v);
+        }
+        let refs: Vec<(&str, &Expr)> = list.iter().map(|(n, e)| (*n, e)).collect();
+        let lookup = |n: &str| model.lookup(n);
+        let kernel = Kernel::compile(&refs, &[s], &lookup).map_err(fail("laws"))?;
+        let accel = accelerations(laws, integral.as_ref().map(|i| i.0), s);
+        let accel_refs = [("g", &accel[0]), ("a", &accel[1])];
+        let accel = Kernel::compile(&accel_refs, &[s], &lookup).map_err(fail("accelerations"))?;
+        let rotation_sq = laws
+            .rotation_sq
+            .as_ref()
+            .map(|e| super::compile(model, e, "rotation"))
+            .transpose()?;
+        Ok(Solved {
+            shape: model.shape,
+            laws: kernel,
+            out,
+            accel,
+            rotation_sq,
+            integral,
+        })
+    }
+
+    /// v_φ² at `s`, or None when there is no rotation. Derivatives follow
+    /// the power rule c·u^(c−1)·u′, finite where u = 0, so the axis needs no
+    /// special case: a value that is not a number there is reported.
+    pub(super) fn rotation_sq_at(&self, s: f64) -> Option<f64> {
+        Some(self.rotation_sq.as_ref()?.eval(&[s]))
+    }
+
+    /// Whether evaluating the background reads a tabulated integral.
+    pub fn is_integrated(&self) -> bool {
+        self.integral.is_some()
+    }
+
+    /// ρ and P from the law outputs `o` and the integral `i`: the one
+    /// combination both paths use.
+    fn combine(&self, o: &dyn Fn(Option<usize>) -> f64, i: f64) -> (f64, f64) {
+        match &self.integral {
+            None => {
+                let rho = o(self.out.rho);
+                let p = match self.out.p {
+                    Some(_) => o(self.out.p),
+                    None => o(self.out.c2) * rho,
+                };
+                (rho, p)
+            }
+            Some((kind, _, base)) => match kind {
+                Integrated::LogDensity => {
+                    let rho = base * i.exp();
+                    (rho, rho * o(self.out.c2))
+                }
+                Integrated::Pressure => (o(self.out.rho), base + i),
+                Integrated::LogPressure => {
+                    let p = base * i.exp();
+                    (p / o(self.out.c2), p)
+                }
+            },
+        }
+    }
+
+    fn velocity(&self, v: f64) -> [f64; 3] {
+        match self.out.v {
+            Some(_) => [0.0, v, 0.0],
+            None => [0.0; 3],
+        }
+    }
+}
+
+/// −∂Φ/∂s and −(1/ρ) ∂P/∂s as formulas in the balance coordinate. For an
+/// integrated closure the integrand f is the derivative of the integrated
+/// quantity: ln ρ (P = ρc², so −∂P/∂s/ρ = −(c² f + ∂c²/∂s)), P (−f/ρ) or
+/// ln P (−c² f).
+fn accelerations(laws: &Laws, kind: Option<Integrated>, s: &str) -> [Expr; 2] {
+    let nan = || Expr::num(f64::NAN);
+    let g = (-laws.potential.diff(s)).simplify();
+    let a = match (kind, &laws.integrand) {
+        (None, _) => match (&laws.pressure, &laws.density) {
+            (Some(p), Some(rho)) => -(p.diff(s) / rho.clone()),
+            _ => nan(),
+        },
+        (Some(Integrated::LogDensity), Some(f)) => match &laws.sound_speed_sq {
+            Some(c2) => -(c2.clone() * f.clone() + c2.diff(s)),
+            None => nan(),
+        },
+        (Some(Integrated::Pressure), Some(f)) => match &laws.density {
+            Some(rho) => -(f.clone() / rho.clone()),
+            None => nan(),
+        },
+        (Some(Integrated::LogPressure), Some(f)) => match &laws.sound_speed_sq {
+            Some(c2) => -(c2.clone() * f.clone()),
+            None => nan(),
+        },
+        (Some(_), None) => nan(),
+    };
+    [g, a.simplify()]
+}
+
+impl Background for Solved {
+    fn frame(&self) -> Frame {
+        self.shape.frame()
+    }
+
+    /// Every closure so far balances along one coordinate: a disk's laws are
+    /// those of its midplane.
+    fn depends_on(&self) -> [bool; 2] {
+        [true, false]
+    }
+
+    fn workspace(&self) -> Workspace {
+        Workspace {
+            buffers: (0..ACCEL + 2).map(|_| Vec::new()).collect(),
+            kernels: vec![
+                self.laws.workspace(),
+                self.accel.workspace(),
+                self.integral
+                    .as_ref()
+                    .map_or_else(crate::formula::Workspace::new, |(_, t, _)| t.workspace()),
+            ],
+        }
+    }
+
+    fn at(&self, x: &[f64]) -> State {
+        let s = x[0];
+        let mut o = [0.0; 5];
+        self.laws.eval(&[s], &mut o, &mut self.laws.workspace());
+        let i = match &self.integral {
+            Some((_, t, _)) => t.at(s, &mut t.workspace()),
+            None => 0.0,
+        };
+        let get = |k: Option<usize>| k.map_or(f64::NAN, |k| o[k]);
+        let (density, pressure) = self.combine(&get, i);
+        let mut a = [0.0; 2];
+        self.accel.eval(&[s], &mut a, &mut self.accel.workspace());
+        State {
+            density,
+            pressure,
+            potential: o[self.out.phi],
+            velocity: self.velocity(get(self.out.v)),
+            gravity: [a[0], 0.0, 0.0],
+            pressure_accel: [a[1], 0.0, 0.0],
+        }
+    }
+
+    fn eval(&self, coords: &[&[f64]], want: Want, out: &mut StateBlock, ws: &mut Workspace) {
+        let s = coords[0];
+        let n = s.len();
+        let nout = self.laws.outputs().len();
+        for b in ws.buffers.iter_mut() {
+            b.resize(n.max(b.len()), 0.0);
+        }
+        let (laws_ws, rest) = ws.kernels.split_at_mut(1);
+        let (accel_ws, table_ws) = rest.split_at_mut(1);
+        {
+            let mut outs: Vec<&mut [f64]> =
+                ws.buffers[..nout].iter_mut().map(|b| &mut b[..n]).collect();
+            self.laws.run(&[s], &mut outs, &mut laws_ws[0]);
+        }
+        if let Some((_, t, _)) = &self.integral {
+            let (head, tail) = ws.buffers.split_at_mut(NODES);
+            let (nodes, values) = tail.split_at_mut(1);
+            t.eval(
+                s,
+                &mut head[INTEGRAL][..n],
+                &mut nodes[0],
+                &mut values[0],
+                &mut table_ws[0],
+            );
+        }
+        let b = &ws.buffers;
+        for i in 0..n {
+            let get = |k: Option<usize>| k.map_or(f64::NAN, |k| b[k][i]);
+            let integral = if self.integral.is_some() {
+                b[INTEGRAL][i]
+            } else {
+                0.0
+            };
+            let (rho, p) = self.combine(&get, integral);
+            out.density[i] = rho;
+            out.pressure[i] = p;
+            out.potential[i] = b[self.out.phi][i];
+            let v = self.velocity(get(self.out.v));
+            for (c, v) in v.iter().enumerate() {
+                out.velocity[c][i] = *v;
+            }
+        }
+        if want.accelerations {
+            let (g, a) = ws.buffers[ACCEL..ACCEL + 2].split_at_mut(1);
+            self.accel.run(
+                &[s],
+                &mut [&mut g[0][..n], &mut a[0][..n]],
+                &mut accel_ws[0],
+            );
+            for i in 0..n {
+                out.gravity[0][i] = g[0][i];
+                out.pressure_accel[0][i] = a[0][i];
+                for c in 1..3 {
+                    out.gravity[c][i] = 0.0;
+                    out.pressure_accel[c][i] = 0.0;
+                }
+            }
+        }
+        out.len = n;
+    }
+}
