@@ -244,6 +244,8 @@ impl Background for Solved {
             );
         }
         let b = &ws.buffers;
+        // One lane reads one element of many buffers: an index is clearest.
+        #[allow(clippy::needless_range_loop)]
         for i in 0..n {
             let get = |k: Option<usize>| k.map_or(f64::NAN, |k| b[k][i]);
             let integral = if self.integral.is_some() {
@@ -267,13 +269,11 @@ impl Background for Solved {
                 &mut [&mut g[0][..n], &mut a[0][..n]],
                 &mut accel_ws[0],
             );
-            for i in 0..n {
-                out.gravity[0][i] = g[0][i];
-                out.pressure_accel[0][i] = a[0][i];
-                for c in 1..3 {
-                    out.gravity[c][i] = 0.0;
-                    out.pressure_accel[c][i] = 0.0;
-                }
+            out.gravity[0][..n].copy_from_slice(&g[0][..n]);
+            out.pressure_accel[0][..n].copy_from_slice(&a[0][..n]);
+            for c in 1..3 {
+                out.gravity[c][..n].fill(0.0);
+                out.pressure_accel[c][..n].fill(0.0);
             }
         }
         out.len = n;

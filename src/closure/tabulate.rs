@@ -128,9 +128,7 @@ impl Table {
             .fold(0.0f64, f64::max)
             * (b - a).abs();
         let d = (fixed - de).abs();
-        if !d.is_finite() {
-            0.0
-        } else if d == 0.0 {
+        if !d.is_finite() || d == 0.0 {
             0.0
         } else {
             d / (VERIFY_TOLERANCE * scale)
