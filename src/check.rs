@@ -20,7 +20,7 @@
 use std::fmt;
 
 use crate::background::{Background, Shape};
-use crate::closure::{self, integrate, ClosureError, Domain, Laws};
+use crate::closure::{self, ClosureError, Domain, Laws};
 use crate::formula::Program;
 use crate::model::Model;
 use crate::sample::gauss::GaussLegendre;
@@ -171,7 +171,7 @@ fn closed_form(
         error,
     };
     // Probabilistic identity test in 256-bit arithmetic.
-    let trials = identity_points(res, model, domain);
+    let trials = identity_points(model, domain);
     let mut worst = 0.0f64;
     let mut ok = true;
     for &x in &trials {
@@ -239,16 +239,16 @@ fn closed_form(
 /// random points of every piece is zero; one that is piecewise may vanish on
 /// most of the domain and not on a sliver that 24 points over the whole
 /// domain would miss.
-fn identity_points(res: &crate::formula::Expr, model: &Model, domain: &Domain) -> Vec<f64> {
+fn identity_points(model: &Model, domain: &Domain) -> Vec<f64> {
     let mut rng = Uniform(0x5EED_1234_ABCD_0001);
     let mut cuts = vec![domain.lo];
-    cuts.extend(integrate::breakpoints(
-        res,
-        model.coordinate(),
-        domain.lo,
-        domain.hi,
-        &|n| model.lookup(n),
-    ));
+    cuts.extend(
+        domain
+            .switches(model)
+            .iter()
+            .map(|w| w.at)
+            .filter(|x| *x > domain.lo && *x < domain.hi),
+    );
     cuts.push(domain.hi);
     let width = domain.hi - domain.lo;
     let mut pts = Vec::new();
@@ -278,9 +278,8 @@ fn integral_form(
         }
     };
     let anchor = model.anchor.map(|a| a.at).unwrap_or(domain.lo);
-    let (lo, hi) = (domain.lo.min(anchor), domain.hi.max(anchor));
-    let breaks =
-        integrate::breakpoints(integrand, model.coordinate(), lo, hi, &|n| model.lookup(n));
+    let (lo, hi) = domain.range_with_anchor(model);
+    let breaks: Vec<f64> = domain.switches(model).iter().map(|w| w.at).collect();
     let mut pts: Vec<f64> = (0..=400)
         .map(|i| lo + (hi - lo) * i as f64 / 400.0)
         .chain(

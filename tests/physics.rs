@@ -374,3 +374,48 @@ fn issue2_retrograde_rotation_keeps_its_sign() {
         assert!(rel(b.pressure, a.pressure) < 1e-15);
     }
 }
+
+/// A hot window 4e-4 wide on a slab 30 long (c² = 4 inside |z − z0| < w,
+/// 1 outside, g = 1): the window lies between grid edges and is far
+/// narrower than any uniform scan, yet its switch points z0 ± w must be
+/// found from the condition itself. The closed form is the hydrostatic
+/// integral ln P(z) = ln P(z_a) − g ∫ dz/c², piecewise linear in z (same
+/// textbook isothermal relation as `isothermal_slab_matches_exponential_closed_form`).
+#[test]
+fn issue5_narrow_window_is_found_and_integrated_exactly() {
+    let text = r#"{
+      "name": "t", "units": "code",
+      "parameters": { "g0": 1.0, "z0": 12.3456, "w": 2e-4, "c_in": 4.0, "c_out": 1.0 },
+      "gravity": { "uniform": "g0" },
+      "gas": { "sound_speed_sq": "if(abs(z - z0) < w, c_in, c_out)" },
+      "balance": { "shape": "slab", "solve_for": "density", "anchor": { "at": 0.01, "value": 1 } },
+      "grid": { "z": { "from": 0.01, "to": 30, "cells": 100 } }
+    }"#;
+    let l = load(text, &[]);
+    let (bg, domain) = pipeline::solve(&l).unwrap();
+    let (z0, w) = (12.3456, 2e-4);
+    let switches: Vec<f64> = domain.switches(&l.model).iter().map(|s| s.at).collect();
+    assert_eq!(
+        switches.len(),
+        3,
+        "z0 - w, z0 (the kink of abs) and z0 + w: {switches:?}"
+    );
+    assert!((switches[0] - (z0 - w)).abs() < 1e-14 && (switches[2] - (z0 + w)).abs() < 1e-14);
+    let exact = |z: f64| {
+        let inside = (z.min(z0 + w) - (z0 - w)).max(0.0);
+        -((z - 0.01 - inside) / 1.0 + inside / 4.0)
+    };
+    let mut worst = 0.0f64;
+    let probes = (0..=300).map(|i| 0.01 + 0.0999 * i as f64);
+    let near = [-1.5, -1.0, -0.999, -0.5, 0.0, 0.5, 0.999, 1.0, 1.5].map(|t| z0 + t * w);
+    for z in probes.chain(near) {
+        let err = (bg.at(z).pressure.ln() - exact(z)).abs() / exact(z).abs().max(1.0);
+        worst = worst.max(err);
+    }
+    assert!(worst < 1e-13, "worst relative error of ln P {worst:e}");
+    let across = bg.at(z0 + w).pressure.ln() - bg.at(z0 - w).pressure.ln();
+    // Across the window itself: Δ ln P = −2w/c_in = −1e-4, to the rounding
+    // of ln P ≈ −12.3 (ulp 1.8e-15).
+    assert!((across + 2.0 * w / 4.0).abs() < 1e-14, "{across}");
+    assert!(matches!(verdict(&l), Verdict::ZeroToTolerance { max, .. } if max < 1e-13));
+}

@@ -2,13 +2,12 @@
 //!
 //! Owns: the double-exponential segment rule (Takahasi & Mori 1974, Publ.
 //! RIMS 9, 721, through the `quadrature` crate), the compensated cumulative
-//! sum from an anchor, evaluation at any point from the nearest knot, and the
-//! search for breakpoints (kinks of `if`, `abs`, `min`, `max`) that must
-//! become knots so that each segment is smooth. Does not own: physics.
+//! sum from an anchor, and evaluation at any point from the nearest knot.
+//! The knots a caller passes include the switch points of piecewise laws
+//! (see [`super::switches`]), so that each segment is smooth. Does not own:
+//! physics, or finding the switch points.
 
-use std::collections::BTreeSet;
-
-use crate::formula::{Cond, Expr, Func, Program, Visit};
+use crate::formula::Program;
 
 /// Accuracy requested from each double-exponential segment, relative to the
 /// segment's scale |b − a| max|f|. Measured with the `quadrature` crate's
@@ -134,64 +133,6 @@ impl Cumulative {
     pub fn knots(&self) -> &[f64] {
         &self.knots
     }
-}
-
-/// The places in [lo, hi] where a formula may have a kink or jump in `var`:
-/// roots of a − b for each comparison inside `if`, of the argument of `abs`,
-/// and of a − b for `min(a, b)`/`max(a, b)`. Found by scanning `scan` points
-/// for sign changes and refining with Brent's method (Brent 1973,
-/// "Algorithms for Minimization without Derivatives", through `roots`).
-pub fn breakpoints(
-    expr: &Expr,
-    var: &str,
-    lo: f64,
-    hi: f64,
-    constants: &dyn Fn(&str) -> Option<f64>,
-) -> Vec<f64> {
-    let mut switches = Vec::new();
-    collect_switches(expr, &mut switches);
-    let mut out = BTreeSet::new();
-    let scan = 4000;
-    for g in switches {
-        let Ok(p) = Program::compile(&g, &[var], constants) else {
-            continue;
-        };
-        let f = |x: f64| p.eval(&[x]);
-        let xs: Vec<f64> = (0..=scan)
-            .map(|i| lo + (hi - lo) * i as f64 / scan as f64)
-            .collect();
-        for w in xs.windows(2) {
-            let (fa, fb) = (f(w[0]), f(w[1]));
-            if fa == 0.0 {
-                out.insert(w[0].to_bits());
-            } else if fa.is_finite() && fb.is_finite() && fa * fb < 0.0 {
-                let mut conv = roots::SimpleConvergency {
-                    eps: 1e-15,
-                    max_iter: 200,
-                };
-                if let Ok(r) = roots::find_root_brent(w[0], w[1], &f, &mut conv) {
-                    out.insert(r.to_bits());
-                }
-            }
-        }
-    }
-    out.into_iter()
-        .map(f64::from_bits)
-        .filter(|x| *x > lo && *x < hi)
-        .collect()
-}
-
-/// The differences whose sign switches a piecewise formula: the argument of
-/// `abs`, a − b of `min(a, b)` and `max(a, b)`, and a − b of each comparison.
-fn collect_switches(e: &Expr, out: &mut Vec<Expr>) {
-    e.walk(&mut |v| match v {
-        Visit::Expr(Expr::Call(Func::Abs, a)) if a.len() == 1 => out.push(a[0].clone()),
-        Visit::Expr(Expr::Call(Func::Min | Func::Max, a)) if a.len() == 2 => {
-            out.push(a[0].clone() - a[1].clone())
-        }
-        Visit::Cond(Cond::Cmp(_, a, b)) => out.push(a.clone() - b.clone()),
-        _ => {}
-    });
 }
 
 #[cfg(test)]

@@ -17,6 +17,7 @@
 
 pub mod integrate;
 mod laws;
+pub mod switches;
 
 pub use laws::{derived_laws, DerivedLaw, Laws};
 
@@ -80,6 +81,50 @@ impl Domain {
         pts.sort_by(|a, b| a.total_cmp(b));
         pts.dedup_by(|a, b| a.to_bits() == b.to_bits());
         pts
+    }
+
+    /// The scan points with the switch points of piecewise laws added, a
+    /// point just inside each side of every switch and one in the middle of
+    /// every piece between switches, so that a piece narrower than the
+    /// uniform spacing is still looked at.
+    pub fn scan_points_with(&self, switches: &[f64]) -> Vec<f64> {
+        let mut pts = self.scan_points();
+        let first = pts.first().copied().unwrap_or(self.lo);
+        let mut cuts: Vec<f64> = switches
+            .iter()
+            .copied()
+            .filter(|x| *x > first && *x < self.hi)
+            .collect();
+        cuts.sort_by(|a, b| a.total_cmp(b));
+        let nudge = 1e-9 * (self.hi - self.lo);
+        let mut edges = vec![first];
+        edges.extend(&cuts);
+        edges.push(self.hi);
+        for w in edges.windows(2) {
+            let inset = nudge.min(0.25 * (w[1] - w[0]));
+            pts.extend([w[0] + inset, 0.5 * (w[0] + w[1]), w[1] - inset]);
+        }
+        pts.extend(cuts);
+        pts.sort_by(|a, b| a.total_cmp(b));
+        pts.dedup_by(|a, b| a.to_bits() == b.to_bits());
+        pts
+    }
+
+    /// The switch points of the model's laws inside this domain (and up to
+    /// the anchor, when it lies outside), bracketed on its knots.
+    pub fn switches(&self, model: &Model) -> Vec<switches::Switch> {
+        let (lo, hi) = self.range_with_anchor(model);
+        let mut fence = self.knots.clone();
+        fence.extend(model.anchor.map(|a| a.at));
+        switches::law_switches(model, (lo, hi), &fence)
+    }
+
+    /// The domain's range stretched to include the model's anchor.
+    pub fn range_with_anchor(&self, model: &Model) -> (f64, f64) {
+        match model.anchor {
+            Some(a) => (self.lo.min(a.at), self.hi.max(a.at)),
+            None => (self.lo, self.hi),
+        }
     }
 }
 
@@ -228,17 +273,10 @@ pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
                 anchor.value
             )));
         }
-        let lo = domain.lo.min(anchor.at);
-        let hi = domain.hi.max(anchor.at);
+        let (lo, hi) = domain.range_with_anchor(model);
         let mut knots = domain.knots.clone();
-        knots.extend(integrate::breakpoints(
-            integrand,
-            model.coordinate(),
-            lo,
-            hi,
-            &|n| model.lookup(n),
-        ));
-        knots.extend([lo, hi]);
+        knots.extend([lo, hi, anchor.at]);
+        knots.extend(domain.switches(model).iter().map(|w| w.at));
         let program = compile(integrand, "integrand")?;
         solved.integral = Some((
             kind,
