@@ -419,3 +419,31 @@ fn issue5_narrow_window_is_found_and_integrated_exactly() {
     assert!((across + 2.0 * w / 4.0).abs() < 1e-14, "{across}");
     assert!(matches!(verdict(&l), Verdict::ZeroToTolerance { max, .. } if max < 1e-13));
 }
+
+/// An exactly Keplerian, isothermal disk solved for density: with
+/// v_φ² = GM/R = R ∂Φ/∂R and ∂c²/∂R = 0 the radial balance gives
+/// ∂ln ρ/∂R = 0, so ρ ≡ ρ(anchor) (Kepler's law for a point mass). The
+/// integrand v_φ²/R − Φ_R cancels to rounding, so the residual must be
+/// measured against the size of its terms, not of their net sum.
+#[test]
+fn issue5_keplerian_isothermal_disk_solved_for_density_passes_at_round_off() {
+    let text = r#"{
+      "name": "t", "units": "code",
+      "parameters": { "M": 1.0, "cs2": 0.0025 },
+      "gravity": { "point_mass": "M" },
+      "gas": { "sound_speed_sq": "cs2" },
+      "balance": { "shape": "disk", "solve_for": "density", "rotation": "sqrt(G*M/R)",
+                   "anchor": { "at": 1, "value": 1 } },
+      "grid": { "R": { "from": 0.4, "to": 2.5, "cells": 64, "spacing": "log" } }
+    }"#;
+    let l = load(text, &[]);
+    let (bg, _) = pipeline::solve(&l).unwrap();
+    for i in 0..=42 {
+        let r = 0.4 + 0.05 * i as f64;
+        assert!((bg.at(r).density - 1.0).abs() < 1e-13, "R = {r}");
+    }
+    match verdict(&l) {
+        Verdict::ZeroToTolerance { max, .. } => assert!(max < 1e-15, "{max:e}"),
+        v => panic!("expected zero to tolerance at round-off, got {v:?}"),
+    }
+}

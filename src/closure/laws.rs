@@ -29,6 +29,10 @@ pub struct Laws {
     pub rotation: Option<Expr>,
     /// The integrand of integrated closures (d ln ρ/ds, dP/ds or d ln P/ds).
     pub integrand: Option<Expr>,
+    /// The terms whose sum is the integrand (v_φ²/(R c²), Φ_R/c², … ): the
+    /// scale of the integral-form residual is the integral of the largest of
+    /// them, never of their sum, which is rounding noise where they cancel.
+    pub integrand_terms: Vec<Expr>,
     /// Everything derived, for printing.
     pub derived: Vec<DerivedLaw>,
 }
@@ -54,11 +58,27 @@ impl DerivedLaw {
     }
 }
 
-/// Record the integrand of an integrated closure and list it for `derive`.
-fn integrand(laws: &mut Laws, derived: &mut Vec<DerivedLaw>, name: String, f: Expr, note: &str) {
+/// Record the integrand of an integrated closure, the terms it sums, and
+/// list it for `derive`.
+fn integrand(
+    laws: &mut Laws,
+    derived: &mut Vec<DerivedLaw>,
+    name: String,
+    (f, terms): (Expr, Vec<Expr>),
+    note: &str,
+) {
     let note = format!("integrated from the anchor (double-exponential rule){note}");
     derived.push(DerivedLaw::new(name, f.clone(), note));
     laws.integrand = Some(f);
+    laws.integrand_terms = terms;
+}
+
+/// Each term times `factor`, simplified.
+fn scaled(terms: &[&Expr], factor: &Expr) -> Vec<Expr> {
+    terms
+        .iter()
+        .map(|t| ((*t).clone() * factor.clone()).simplify())
+        .collect()
 }
 
 /// The law `key` (a full profile path such as `balance.density`) or an error
@@ -101,6 +121,7 @@ impl Laws {
             rotation_sq: None,
             rotation: m.rotation.as_ref().map(|l| l.expr.clone()),
             integrand: None,
+            integrand_terms: Vec::new(),
             derived: Vec::new(),
         };
         let disk = m.shape == Shape::DiskMidplane;
@@ -140,44 +161,46 @@ impl Laws {
                 refuse(&m.density, "density", &why)?;
                 let v2 = (v.clone() * v).simplify();
                 let c2_r = c2.diff(s);
-                let f = (v2.clone() / r.clone() - phi_s.clone() - c2_r.clone())
-                    .distribute(&(Expr::num(1.0) / c2));
+                let per_c2 = Expr::num(1.0) / c2;
+                let cen = v2.clone() / r.clone();
+                let f = (cen.clone() - phi_s.clone() - c2_r.clone()).distribute(&per_c2);
+                let terms = scaled(&[&cen, &phi_s, &c2_r], &per_c2);
                 derived.push(DerivedLaw::new(
                     format!("dc^2/d{s}"),
                     c2_r,
                     "exact derivative",
                 ));
                 laws.rotation_sq = Some(v2);
-                integrand(&mut laws, &mut derived, format!("d ln(rho)/d{s}"), f, "");
+                let name = format!("d ln(rho)/d{s}");
+                integrand(&mut laws, &mut derived, name, (f, terms), "");
             }
             (true, Unknown::Pressure) => {
                 let v = need(&m.rotation, "balance.rotation", &why)?;
                 let rho = need(&m.density, "balance.density", &why)?;
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let v2 = (v.clone() * v).simplify();
-                let f = (v2.clone() / r.clone() - phi_s.clone()).distribute(&rho);
+                let cen = v2.clone() / r.clone();
+                let f = (cen.clone() - phi_s.clone()).distribute(&rho);
+                let terms = scaled(&[&cen, &phi_s], &rho);
                 laws.density = Some(rho);
                 laws.rotation_sq = Some(v2);
-                integrand(&mut laws, &mut derived, format!("dP/d{s}"), f, "");
+                integrand(&mut laws, &mut derived, format!("dP/d{s}"), (f, terms), "");
             }
             (false, Unknown::Density) => {
                 let c2 = need(&m.sound_speed_sq, SOUND_SPEED, &why)?;
                 refuse(&m.density, "density", &why)?;
                 let f = (-(phi_s.clone() / c2)).simplify();
-                integrand(
-                    &mut laws,
-                    &mut derived,
-                    format!("d ln(P)/d{s}"),
-                    f,
-                    "; rho = P/c^2",
-                );
+                let terms = vec![f.clone()];
+                let name = format!("d ln(P)/d{s}");
+                integrand(&mut laws, &mut derived, name, (f, terms), "; rho = P/c^2");
             }
             (false, Unknown::Pressure) => {
                 let rho = need(&m.density, "balance.density", &why)?;
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let f = (-(rho.clone() * phi_s.clone())).simplify();
+                let terms = vec![f.clone()];
                 laws.density = Some(rho);
-                integrand(&mut laws, &mut derived, format!("dP/d{s}"), f, "");
+                integrand(&mut laws, &mut derived, format!("dP/d{s}"), (f, terms), "");
             }
             (_, Unknown::Nothing) => {
                 let rho = need(&m.density, "balance.density", "auditing a set of laws")?;
