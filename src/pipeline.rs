@@ -6,7 +6,7 @@
 //! not own: command-line parsing or file formats.
 
 use crate::background::{Background, Memoized, Shape};
-use crate::closure::{self, ClosureError, Domain, Solved};
+use crate::closure::{self, show, ClosureError, Domain, Solved};
 use crate::fields::FieldSet;
 use crate::grid::{Coord, Grid, Layout};
 use crate::keys::Keyed;
@@ -119,9 +119,23 @@ pub struct Built {
     pub metadata: Metadata,
 }
 
-/// Solve, sample and describe.
+/// Solve, verify, sample and describe. The verification is the check
+/// `stillpoint check` runs (jumps, the closed- or integral-form balance) at
+/// the default tolerance; a state that fails it is refused, except an audit
+/// (`solve_for: nothing`), which is written with a caution, and jumps the
+/// profile declares intended.
 pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
     let (bg, domain) = solve(loaded)?;
+    let centres = centres_for(&loaded.grid);
+    let report = crate::check::run(
+        &loaded.model,
+        &bg,
+        &domain,
+        &centres,
+        crate::check::DEFAULT_TOLERANCE,
+    )
+    .map_err(|e| Error::closure(loaded, e))?;
+    let verified = verdict_cautions(loaded, &report)?;
     let memo = Memoized::new(&bg);
     let source: &dyn Background = if bg.is_integrated() { &memo } else { &bg };
     let background = sample::sample(
@@ -141,8 +155,8 @@ pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
         generator: format!("stillpoint {}", env!("CARGO_PKG_VERSION")),
         units: loaded.model.units,
         cautions: {
-            let mut c = cautions(loaded, &bg, &domain);
-            c.extend(audit_caution(loaded, &bg, &domain));
+            let mut c = verified;
+            c.extend(cautions(loaded, &bg, &domain));
             c
         },
         extra: vec![
@@ -232,24 +246,55 @@ pub fn balance_description(m: &crate::model::Model) -> &'static str {
     }
 }
 
-/// For an audit (`solve_for: nothing`) whose laws do not balance, the caution
-/// a built file must carry: nothing was solved, so nothing else says that
-/// the state will move. `check` reports the same imbalance as its verdict.
-fn audit_caution(loaded: &Loaded, bg: &Solved, domain: &Domain) -> Option<String> {
+/// What the verification means for a build: an error for a jump that is
+/// not intended and for a solved state that misses the tolerance; cautions
+/// for intended jumps and for an audit (`solve_for: nothing`) whose laws do
+/// not balance — nothing was solved, so nothing else says that the state
+/// will move. `check` reports the same as its verdict.
+fn verdict_cautions(loaded: &Loaded, report: &crate::check::Report) -> Result<Vec<String>, Error> {
     let m = &loaded.model;
-    if m.unknown != crate::model::Unknown::Nothing {
-        return None;
+    let s = m.coordinate();
+    let refuse =
+        |message: String| Err(Error::closure(loaded, ClosureError::NoEquilibrium(message)));
+    let unintended: Vec<_> = report.jumps.iter().filter(|j| !j.intended).collect();
+    if let Some(j) = unintended.first() {
+        let more = match unintended.len() {
+            1 => String::new(),
+            n => format!(" (and {} more: `stillpoint check` lists them)", n - 1),
+        };
+        return refuse(format!(
+            "{}{more}, and the balance differentiates it. Make the switch smooth over a few \
+             cells (a step from A to B as A + (B - A)*0.5*(1 + tanh(({s} - {})/w)) with w about \
+             two cells) or, if the jump is intended, list the law in balance.intended_jumps",
+            j.describe(s),
+            show(j.at)
+        ));
     }
-    let centres = centres_for(&loaded.grid);
-    let report =
-        crate::check::run(m, bg, domain, &centres, crate::check::DEFAULT_TOLERANCE).ok()?;
-    match report.verdict {
-        crate::check::Verdict::NotEquilibrium { max, at } => Some(format!(
+    let mut out: Vec<String> = report
+        .jumps
+        .iter()
+        .map(|j| {
+            format!(
+                "{}, intended by balance.intended_jumps: the state is not an equilibrium there \
+                 and will move from the first step",
+                j.describe(s)
+            )
+        })
+        .collect();
+    if let crate::check::Verdict::NotEquilibrium { max, at } = report.verdict {
+        if m.unknown != crate::model::Unknown::Nothing {
+            return refuse(format!(
+                "the solved state misses the balance: the largest relative residual is {max:.3e} \
+                 at {s} = {} (tolerance {:.1e}); nothing was written",
+                show(at),
+                report.tolerance
+            ));
+        }
+        out.push(format!(
             "the given laws are not an equilibrium (balance.solve_for is nothing): the largest \
-             relative residual is {max:.3e} at {} = {at:.6}; the state will move from the first \
-             step (run `stillpoint check` for details)",
-            m.coordinate()
-        )),
-        _ => None,
+             relative residual is {max:.3e} at {s} = {at:.6}; the state will move from the first \
+             step (run `stillpoint check` for details)"
+        ));
     }
+    Ok(out)
 }

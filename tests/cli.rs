@@ -507,3 +507,150 @@ fn issue2_radial_line_from_the_axis_builds() {
     let o = stillpoint(d.path(), &["check", "p.json"]);
     assert!(o.status.success(), "{}", text(&o));
 }
+
+/// Run `verb` on `profile` written into a fresh folder; returns the folder
+/// (so files can be inspected), the exit code and the combined output.
+fn run_on(profile: &str, args: &[&str]) -> (tempfile::TempDir, Option<i32>, String) {
+    let d = tmp();
+    std::fs::write(d.path().join("p.json"), profile).unwrap();
+    let mut all = vec![args[0], "p.json"];
+    all.extend(&args[1..]);
+    let o = stillpoint(d.path(), &all);
+    (d, o.status.code(), text(&o))
+}
+
+/// `check` exits 1 naming the law, the place and the size of the jump, and
+/// `build` refuses (exit 2, no file) with the same facts and the advice.
+fn assert_jump_refused(profile: &str, facts: &[&str]) {
+    let (_d, code, t) = run_on(profile, &["check"]);
+    assert_eq!(code, Some(1), "{t}");
+    assert!(t.contains("NOT AN EQUILIBRIUM"), "{t}");
+    for f in facts {
+        assert!(t.contains(f), "check output lacks `{f}`: {t}");
+    }
+    let t = bad_build(profile, &[]);
+    for f in facts.iter().chain(&["tanh", "balance.intended_jumps"]) {
+        assert!(t.contains(f), "build error lacks `{f}`: {t}");
+    }
+}
+
+/// Σ ∝ R^−p with a cavity Σ × 1e-3 inside R_cav = 0.8 and derived rotation:
+/// P = Σc² jumps by 1000 and the balance differentiates P. Used to pass as
+/// identically zero. The relative jump is 1 − 1e-3.
+#[test]
+fn issue5_cavity_disk_jump_is_not_an_equilibrium() {
+    let p = DISK
+        .replace(
+            "\"sigma0*(R/R0)^(-p)\"",
+            "\"sigma0*R^(-p)*if(R < R_cav, floor, 1)\"",
+        )
+        .replace(
+            "\"h0\": 0.05,",
+            "\"h0\": 0.05, \"R_cav\": 0.8, \"floor\": 1e-3,",
+        )
+        .replace("\"cells\": 384", "\"cells\": 8");
+    assert!(p.contains("R_cav"), "rewrite failed");
+    assert_jump_refused(
+        &p,
+        &[
+            "balance.density",
+            "jumps at R = 0.8",
+            "relative jump 9.990e-1",
+        ],
+    );
+    // Declared intended: the build writes the file with a caution, and check
+    // passes with the jump listed.
+    let intended = p.replace(
+        "\"vertically_integrated\": true",
+        "\"vertically_integrated\": true, \"intended_jumps\": [\"balance.density\"]",
+    );
+    let (d, code, t) = run_on(&intended, &["build", "-o", "cav.h5"]);
+    assert_eq!(code, Some(0), "{t}");
+    let f = hdf5::File::open(d.path().join("cav.h5")).unwrap();
+    let c: hdf5::types::VarLenUnicode = f.attr("cautions").unwrap().read_scalar().unwrap();
+    assert!(
+        c.as_str().contains("intended by balance.intended_jumps"),
+        "{}",
+        c.as_str()
+    );
+    let (_d, code, t) = run_on(&intended, &["check"]);
+    assert_eq!(code, Some(0), "{t}");
+    assert!(t.contains("intended (balance.intended_jumps)"), "{t}");
+    // A key that is not a law of the profile is refused by name.
+    let typo = intended.replace("[\"balance.density\"]", "[\"balance.densty\"]");
+    let t = bad_build(&typo, &[]);
+    assert!(
+        t.contains("balance.intended_jumps[0]") && t.contains("did you mean `balance.density`"),
+        "{t}"
+    );
+}
+
+/// c² = 0.01 inside R = 1, 0.02 outside, with Σ given and rotation derived:
+/// P = Σc² doubles at R = 1 (relative jump 1/2).
+#[test]
+fn issue5_two_level_sound_speed_jump_is_not_an_equilibrium() {
+    let p = DISK
+        .replace("\"cs2_0*(R/R0)^(-q)\"", "\"if(R < 1, 0.01, 0.02)\"")
+        .replace("\"cells\": 384", "\"cells\": 8");
+    assert!(p.contains("0.02"), "rewrite failed");
+    assert_jump_refused(
+        &p,
+        &[
+            "gas.sound_speed_sq",
+            "jumps at R = 1 ",
+            "relative jump 5.000e-1",
+        ],
+    );
+}
+
+/// An audit of a slab whose pressure (and density) halve at z = 1: each
+/// side balances (P = ρ = e^(−z) times a constant, g = c² = 1), but P jumps
+/// by 1/2 where the balance differentiates it.
+#[test]
+fn issue5_halving_slab_audit_jump_is_not_an_equilibrium() {
+    let p = r#"{ "name": "halving", "units": "code",
+      "parameters": { "g0": 1.0 },
+      "gravity": { "uniform": "g0" },
+      "gas": { "gamma": 1.4 },
+      "balance": { "shape": "slab", "solve_for": "nothing",
+         "density": "exp(-z)*if(z < 1, 1, 0.5)", "pressure": "exp(-z)*if(z < 1, 1, 0.5)" },
+      "grid": { "z": { "from": 0, "to": 3, "cells": 64 } } }"#;
+    assert_jump_refused(
+        p,
+        &[
+            "balance.pressure",
+            "jumps at z = 1 ",
+            "relative jump 5.000e-1",
+        ],
+    );
+}
+
+/// Contacts are equilibria: a slab solved for density with c² doubling at
+/// z = 1 (ρ halves, P continuous: ∂ln P/∂z = −g/c² holds no derivative of
+/// c²), and a slab solved for pressure whose density halves at z = 1 (the
+/// pressure integral only sees ρ). Both check PASS and build without caution.
+#[test]
+fn issue5_contact_discontinuities_pass() {
+    let contact = GOOD.replace(
+        "\"sound_speed_sq\": \"cs2\"",
+        "\"sound_speed_sq\": \"if(z < 1, cs2, 2*cs2)\"",
+    );
+    let density_step = GOOD
+        .replace(
+            "\"gamma\": 1.4, \"sound_speed_sq\": \"cs2\"",
+            "\"gamma\": 1.4",
+        )
+        .replace(
+            "\"solve_for\": \"density\"",
+            "\"solve_for\": \"pressure\", \"density\": \"exp(-z)*if(z < 1, 1, 0.5)\"",
+        );
+    for p in [contact, density_step] {
+        assert_ne!(p, GOOD, "rewrite failed");
+        let (_d, code, t) = run_on(&p, &["check"]);
+        assert_eq!(code, Some(0), "{t}");
+        assert!(t.contains("PASS") && !t.contains("jump"), "{t}");
+        let (_d, code, t) = run_on(&p, &["build", "-o", "c.h5"]);
+        assert_eq!(code, Some(0), "{t}");
+        assert!(!t.contains("caution"), "{t}");
+    }
+}

@@ -13,6 +13,10 @@
 //!   the stored values against an independent composite Gauss–Legendre rule
 //!   (20 points per piece, split at switch points), relative to the integral
 //!   of the largest term of the integrand along the path (`integral`).
+//! * Jumps: at every switch point of a piecewise law, the left and right
+//!   limits of each quantity the balance differentiates (`jumps`). A jump
+//!   there is not an equilibrium, unless the profile lists the law in
+//!   `balance.intended_jumps`.
 //! * Positivity of ρ, P, c² (and v_φ² for disks) over the domain.
 //! * The discrete imbalance of the sampled data under second-order centred
 //!   differences at the grid's resolution (what an unbalanced scheme sees).
@@ -22,7 +26,10 @@
 
 mod closed;
 mod integral;
+pub mod jumps;
 mod report;
+
+pub use jumps::Jump;
 
 use crate::background::{Background, Shape};
 use crate::closure::{self, ClosureError, Domain, Laws};
@@ -61,8 +68,10 @@ pub enum Verdict {
 pub struct Report {
     /// The background coordinate name.
     pub coordinate: String,
-    /// The verdict on the continuous balance.
+    /// The verdict on the continuous balance between switch points.
     pub verdict: Verdict,
+    /// Jumps at switch points in quantities the balance differentiates.
+    pub jumps: Vec<Jump>,
     /// The residual formula, when closed form.
     pub residual_formula: Option<String>,
     /// Minimum of each quantity that must be positive (or, for v_φ², not
@@ -76,10 +85,12 @@ pub struct Report {
 }
 
 impl Report {
-    /// True when the balance holds (identically or to tolerance) and every
-    /// positive quantity is positive.
+    /// True when the balance holds (identically or to tolerance), nothing
+    /// jumps that is not declared intended, and every positive quantity is
+    /// positive.
     pub fn passed(&self) -> bool {
         !matches!(self.verdict, Verdict::NotEquilibrium { .. })
+            && self.jumps.iter().all(|j| j.intended)
             && self
                 .positivity
                 .iter()
@@ -98,7 +109,9 @@ pub fn run(
     tolerance: f64,
 ) -> Result<Report, ClosureError> {
     let laws = Laws::build(model)?;
-    let switches: Vec<f64> = domain.switches(model).iter().map(|w| w.at).collect();
+    let found = domain.switches(model);
+    let switches: Vec<f64> = found.iter().map(|w| w.at).collect();
+    let jumps = find_jumps(model, &laws, domain, &found, tolerance)?;
     let (verdict, formula) = match (&laws.integrand, laws.residual(model)) {
         (None, Some((res, terms))) => {
             closed::closed_form(model, domain, &switches, (&res, &terms), tolerance)?
@@ -139,11 +152,43 @@ pub fn run(
     Ok(Report {
         coordinate: model.coordinate().to_string(),
         verdict,
+        jumps,
         residual_formula: formula,
         positivity,
         discrete,
         tolerance,
     })
+}
+
+/// The jumps of the quantities the balance differentiates at the switch
+/// points inside the domain, each marked intended when one of the laws that
+/// switch there is listed in `balance.intended_jumps`.
+fn find_jumps(
+    model: &Model,
+    laws: &Laws,
+    domain: &Domain,
+    switches: &[closure::switches::Switch],
+    tolerance: f64,
+) -> Result<Vec<Jump>, ClosureError> {
+    let programs = laws
+        .watched
+        .iter()
+        .map(|(name, e)| Ok((name.as_str(), closure::compile(model, e, name)?)))
+        .collect::<Result<Vec<_>, ClosureError>>()?;
+    let evals: Vec<_> = programs
+        .iter()
+        .map(|(_, p)| move |x: f64| p.eval(&[x]))
+        .collect();
+    let quantities: Vec<(&str, &dyn Fn(f64) -> f64)> = programs
+        .iter()
+        .zip(&evals)
+        .map(|((name, _), f)| (*name, f as &dyn Fn(f64) -> f64))
+        .collect();
+    let mut jumps = jumps::find(&quantities, switches, (domain.lo, domain.hi), tolerance);
+    for j in &mut jumps {
+        j.intended = j.laws.iter().any(|l| model.intended_jumps.contains(l));
+    }
+    Ok(jumps)
 }
 
 /// Largest relative residual of the balance under second-order centred

@@ -6,31 +6,52 @@ use std::fmt;
 
 use super::{Report, Verdict};
 
+impl Report {
+    /// The verdict between switch points, under `label` (`verdict`, or
+    /// `pieces` when a jump decides the verdict).
+    fn pieces(&self, f: &mut fmt::Formatter<'_>, label: &str) -> fmt::Result {
+        let (word, detail) = match &self.verdict {
+            Verdict::IdenticallyZero { how } => ("identically zero", format!("how          {how}")),
+            Verdict::ZeroToTolerance { max, at } => ("zero to tolerance", self.largest(*max, *at)),
+            Verdict::NotEquilibrium { max, at } => ("NOT AN EQUILIBRIUM", self.largest(*max, *at)),
+        };
+        writeln!(f, "  {label:<12} {word}")?;
+        writeln!(f, "  {detail}")
+    }
+
+    fn largest(&self, max: f64, at: f64) -> String {
+        format!(
+            "max residual {max:.3e} (relative) at {} = {at:.6}, tolerance {:.1e}",
+            self.coordinate, self.tolerance
+        )
+    }
+}
+
 impl fmt::Display for Report {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         let s = &self.coordinate;
         writeln!(f, "balance")?;
-        match &self.verdict {
-            Verdict::IdenticallyZero { how } => {
-                writeln!(f, "  verdict      identically zero")?;
-                writeln!(f, "  how          {how}")?;
-            }
-            Verdict::ZeroToTolerance { max, at } => {
-                writeln!(f, "  verdict      zero to tolerance")?;
-                writeln!(
-                    f,
-                    "  max residual {max:.3e} (relative) at {s} = {at:.6}, tolerance {:.1e}",
-                    self.tolerance
-                )?;
-            }
-            Verdict::NotEquilibrium { max, at } => {
-                writeln!(f, "  verdict      NOT AN EQUILIBRIUM")?;
-                writeln!(
-                    f,
-                    "  max residual {max:.3e} (relative) at {s} = {at:.6}, tolerance {:.1e}",
-                    self.tolerance
-                )?;
-            }
+        let unintended = self.jumps.iter().filter(|j| !j.intended).count();
+        if unintended > 0 {
+            writeln!(
+                f,
+                "  verdict      NOT AN EQUILIBRIUM: {unintended} jump{} where the balance \
+                 differentiates",
+                if unintended == 1 { "" } else { "s" }
+            )?;
+        } else {
+            self.pieces(f, "verdict")?;
+        }
+        for j in &self.jumps {
+            let note = if j.intended {
+                " — intended (balance.intended_jumps): not an equilibrium there"
+            } else {
+                ""
+            };
+            writeln!(f, "  jump         {}{note}", j.describe(s))?;
+        }
+        if unintended > 0 {
+            self.pieces(f, "pieces")?;
         }
         if let Some(r) = &self.residual_formula {
             writeln!(f, "  residual     {r}")?;

@@ -33,6 +33,13 @@ pub struct Laws {
     /// scale of the integral-form residual is the integral of the largest of
     /// them, never of their sum, which is rounding noise where they cancel.
     pub integrand_terms: Vec<Expr>,
+    /// The quantities whose derivative enters the balance (Φ always; P = ρc²
+    /// where P is derived in closed form; c² where the integrand holds
+    /// ∂c²/∂R; a given P in audits), by name. At a switch point each must be
+    /// continuous: the derivative of a jump is lost when a piecewise law is
+    /// differentiated piece by piece. A law that is not differentiated may
+    /// jump (a contact: ρ and c² jump with P continuous).
+    pub watched: Vec<(String, Expr)>,
     /// Everything derived, for printing.
     pub derived: Vec<DerivedLaw>,
 }
@@ -122,6 +129,7 @@ impl Laws {
             rotation: m.rotation.as_ref().map(|l| l.expr.clone()),
             integrand: None,
             integrand_terms: Vec::new(),
+            watched: Vec::new(),
             derived: Vec::new(),
         };
         let disk = m.shape == Shape::DiskMidplane;
@@ -151,6 +159,7 @@ impl Laws {
                     v2.clone(),
                     format!("v_phi^2 = {s} (dPhi/d{s} + (1/rho) dP/d{s})"),
                 ));
+                laws.watched.push(("pressure".into(), p.clone()));
                 laws.density = Some(rho);
                 laws.pressure = Some(p);
                 laws.rotation_sq = Some(v2);
@@ -161,10 +170,11 @@ impl Laws {
                 refuse(&m.density, "density", &why)?;
                 let v2 = (v.clone() * v).simplify();
                 let c2_r = c2.diff(s);
-                let per_c2 = Expr::num(1.0) / c2;
+                let per_c2 = Expr::num(1.0) / c2.clone();
                 let cen = v2.clone() / r.clone();
                 let f = (cen.clone() - phi_s.clone() - c2_r.clone()).distribute(&per_c2);
                 let terms = scaled(&[&cen, &phi_s, &c2_r], &per_c2);
+                laws.watched.push(("c^2".into(), c2.clone()));
                 derived.push(DerivedLaw::new(
                     format!("dc^2/d{s}"),
                     c2_r,
@@ -219,6 +229,7 @@ impl Laws {
                     let v = need(&m.rotation, "balance.rotation", "auditing a disk")?;
                     laws.rotation_sq = Some((v.clone() * v).simplify());
                 }
+                laws.watched.push(("pressure".into(), p.clone()));
                 laws.density = Some(rho);
                 laws.pressure = Some(p);
             }
@@ -228,6 +239,8 @@ impl Laws {
                 ))
             }
         }
+        laws.watched
+            .push(("potential".into(), laws.potential.clone()));
         laws.derived = derived;
         Ok(laws)
     }

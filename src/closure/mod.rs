@@ -344,7 +344,7 @@ fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), C
 
 /// A coordinate for a message: six significant digits, so that scan points
 /// such as 0.9979750000000001 read as 0.997975.
-fn show(x: f64) -> String {
+pub(crate) fn show(x: f64) -> String {
     let rounded: f64 = format!("{x:.5e}").parse().unwrap_or(x);
     if rounded.abs() >= 1e-4 && rounded.abs() < 1e7 || rounded == 0.0 {
         rounded.to_string()

@@ -254,6 +254,7 @@ pub fn from_text(
         "pressure",
         "anchor",
         "vertically_integrated",
+        "intended_jumps",
     ])?;
     let shape = balance.require("shape")?.node().choice(Shape::KEYS)?;
     let unknown = balance.require("solve_for")?.node().choice(Unknown::KEYS)?;
@@ -376,7 +377,7 @@ pub fn from_text(
         Some(o) => output(o.node())?,
     };
 
-    let model = Model {
+    let mut model = Model {
         name,
         about,
         units,
@@ -393,7 +394,11 @@ pub fn from_text(
         gamma,
         molecular_weight: molecular_weight.map(|(v, _)| v),
         vertically_integrated,
+        intended_jumps: Vec::new(),
     };
+    if let Some(list) = balance.child("intended_jumps") {
+        model.intended_jumps = sections::intended_jumps(list.node(), &model.law_keys())?;
+    }
     Ok(Loaded {
         source: label.to_string(),
         json_text,
