@@ -93,10 +93,21 @@ pub fn centres_for(grid: &Grid) -> Vec<f64> {
     }
 }
 
-/// Solve the profile's closure over its grid.
+/// Solve the profile's closure over its grid, refusing a state that is no
+/// equilibrium somewhere (for `build`).
 pub fn solve(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
     let domain = domain_for(&loaded.grid);
     let bg = closure::solve(&loaded.model, &domain).map_err(|e| Error::closure(loaded, e))?;
+    Ok((bg, domain))
+}
+
+/// Solve the profile's closure over its grid without refusing a state that
+/// is no equilibrium somewhere, so that `check` can report where and `table`
+/// can print the rows that exist.
+pub fn solve_unverified(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
+    let domain = domain_for(&loaded.grid);
+    let bg =
+        closure::solve_unverified(&loaded.model, &domain).map_err(|e| Error::closure(loaded, e))?;
     Ok((bg, domain))
 }
 

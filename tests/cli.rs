@@ -654,3 +654,58 @@ fn issue5_contact_discontinuities_pass() {
         assert!(!t.contains("caution"), "{t}");
     }
 }
+
+/// A disk whose pressure gradient outgrows gravity (h0 = 0.9): the derived
+/// v_φ² = GM/R − (p + q)c² (Takeuchi & Lin 2002, ApJ 581, 1344, eq. 7 in
+/// its vertically integrated form) with c² = h0² GM R^(−q) is negative for
+/// R > (1/((p + q) h0²))^(1/(1 − q)) = 0.677404 and reaches
+/// 0.4 − 1.5·0.81/√2.5 = −0.368434 at R = 2.5. `check` reports that as a
+/// failed check (exit 1) with the interval and the minimum; `table` prints
+/// every row and marks the impossible ones; `build` refuses (exit 2).
+#[test]
+fn issue5_check_reports_negative_rotation_as_a_failed_check() {
+    let d = tmp();
+    let o = stillpoint(d.path(), &["check", "powerlaw-disk", "--set", "h0=0.9"]);
+    let t = text(&o);
+    assert_eq!(o.status.code(), Some(1), "{t}");
+    let r0 = (1.0f64 / (1.5 * 0.81)).powf(2.0);
+    assert!((r0 - 0.677404).abs() < 5e-7, "{r0}");
+    for want in [
+        "v_phi^2      min -3.684335e-1 at R = 2.500000  FAILS",
+        "v_phi^2 < 0 between R = 0.677404 and R = 2.5",
+        "result         FAIL",
+    ] {
+        assert!(t.contains(want), "`{want}` in {t}");
+    }
+    let o = stillpoint(
+        d.path(),
+        &["table", "powerlaw-disk", "--set", "h0=0.9", "--points", "5"],
+    );
+    let t = text(&o);
+    assert_eq!(o.status.code(), Some(0), "{t}");
+    let rows: Vec<&str> = t.lines().skip(2).collect();
+    assert_eq!(rows.len(), 5, "{t}");
+    assert!(
+        !rows[0].contains("no equilibrium") && !rows[1].contains("no equilibrium"),
+        "{t}"
+    );
+    assert!(
+        rows[2..]
+            .iter()
+            .all(|r| r.contains("no equilibrium: v_phi^2 =")),
+        "{t}"
+    );
+    assert!(rows[4].contains("-3.684e-1"), "{t}");
+    let t = bad_build(&DISK.replace("\"h0\": 0.05", "\"h0\": 0.9"), &[]);
+    assert!(t.contains("v_phi^2 < 0 between R = 0.677404"), "{t}");
+    // Σ = 1 − R: no equilibrium from R = 1 outward; check names the cause.
+    let (_d, code, t) = run_on(
+        &DISK.replace("\"sigma0*(R/R0)^(-p)\"", "\"1 - R\""),
+        &["check"],
+    );
+    assert_eq!(code, Some(1), "{t}");
+    assert!(
+        t.contains("no equilibrium: density ≤ 0 at R = 1 through R = 2.5 (minimum -1.500000e0"),
+        "{t}"
+    );
+}

@@ -32,6 +32,7 @@ mod report;
 pub use jumps::Jump;
 
 use crate::background::{Background, Shape};
+use crate::closure::existence::{self, Extent};
 use crate::closure::{self, ClosureError, Domain, Laws};
 use crate::model::Model;
 
@@ -74,9 +75,11 @@ pub struct Report {
     pub jumps: Vec<Jump>,
     /// The residual formula, when closed form.
     pub residual_formula: Option<String>,
-    /// Minimum of each quantity that must be positive (or, for v_φ², not
-    /// negative) with where it occurs: (name, minimum, where, strict).
-    pub positivity: Vec<(String, f64, f64, bool)>,
+    /// Each quantity that must be positive (or, for v_φ², not negative):
+    /// its minimum, where, and the intervals where it fails.
+    pub positivity: Vec<Extent>,
+    /// Where the state is no equilibrium, in words (from `positivity`).
+    pub no_equilibrium: Vec<String>,
     /// Largest relative imbalance of second-order centred differences of
     /// the sampled state at the grid's cell centres, and where.
     pub discrete: Option<(f64, f64)>,
@@ -91,10 +94,7 @@ impl Report {
     pub fn passed(&self) -> bool {
         !matches!(self.verdict, Verdict::NotEquilibrium { .. })
             && self.jumps.iter().all(|j| j.intended)
-            && self
-                .positivity
-                .iter()
-                .all(|(_, v, _, strict)| if *strict { *v > 0.0 } else { *v >= 0.0 })
+            && self.positivity.iter().all(Extent::ok)
     }
 }
 
@@ -126,28 +126,16 @@ pub fn run(
             ))
         }
     };
-    let mut positivity = Vec::new();
     let pts = domain.scan_points_with(&switches);
-    let mut track = |name: &str, strict: bool, f: &dyn Fn(f64) -> f64| {
-        let (mut m, mut at) = (f64::INFINITY, f64::NAN);
-        for &x in &pts {
-            let v = f(x);
-            if v < m || v.is_nan() {
-                m = v;
-                at = x;
-            }
-        }
-        positivity.push((name.to_string(), m, at, strict));
+    let v2 = match (&laws.rotation_sq, model.shape) {
+        (Some(v2), Shape::DiskMidplane) => Some(closure::compile(model, v2, "rotation")?),
+        _ => None,
     };
-    track("density", true, &|x| bg.at(x).density);
-    track("pressure", true, &|x| bg.at(x).pressure);
-    track("c^2", true, &|x| bg.at(x).sound_speed_sq());
-    if model.shape == Shape::DiskMidplane {
-        if let Some(v2) = &laws.rotation_sq {
-            let p = closure::compile(model, v2, "rotation")?;
-            track("v_phi^2", false, &|x| p.eval(&[x]));
-        }
-    }
+    let v2_at = |x: f64| v2.as_ref().map_or(0.0, |p| p.eval(&[x]));
+    let rotation: Option<&dyn Fn(f64) -> f64> = v2.as_ref().map(|_| &v2_at as _);
+    let positivity = existence::survey(bg, rotation, &pts);
+    let law = closure::rotation_law_name(model);
+    let no_equilibrium = existence::failures(&positivity, model.coordinate(), law);
     let discrete = discrete_imbalance(model.shape, bg, centres);
     Ok(Report {
         coordinate: model.coordinate().to_string(),
@@ -155,6 +143,7 @@ pub fn run(
         jumps,
         residual_formula: formula,
         positivity,
+        no_equilibrium,
         discrete,
         tolerance,
     })

@@ -57,10 +57,13 @@ impl fmt::Display for Report {
             writeln!(f, "  residual     {r}")?;
         }
         writeln!(f, "positivity")?;
-        for (name, v, at, strict) in &self.positivity {
-            let ok = if *strict { *v > 0.0 } else { *v >= 0.0 };
-            let mark = if ok { "ok" } else { "FAILS" };
-            writeln!(f, "  {name:<12} min {v:.6e} at {s} = {at:.6}  {mark}")?;
+        for e in &self.positivity {
+            let mark = if e.ok() { "ok" } else { "FAILS" };
+            let (q, v, at) = (e.quantity, e.min, e.at);
+            writeln!(f, "  {q:<12} min {v:.6e} at {s} = {at:.6}  {mark}")?;
+        }
+        for message in &self.no_equilibrium {
+            writeln!(f, "  no equilibrium: {message}")?;
         }
         if let Some((m, at)) = self.discrete {
             writeln!(

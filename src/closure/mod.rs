@@ -15,6 +15,7 @@
 //! the existence checks (no equilibrium ⇒ an error naming the law, the
 //! interval and the value). Does not own: grids, sampling or files.
 
+pub mod existence;
 pub mod integrate;
 mod laws;
 pub mod switches;
@@ -108,6 +109,13 @@ impl Domain {
         pts.sort_by(|a, b| a.total_cmp(b));
         pts.dedup_by(|a, b| a.to_bits() == b.to_bits());
         pts
+    }
+
+    /// The scan points with the switch points of the model's laws (see
+    /// [`Domain::scan_points_with`]).
+    pub fn scan_points_for(&self, model: &Model) -> Vec<f64> {
+        let switches: Vec<f64> = self.switches(model).iter().map(|w| w.at).collect();
+        self.scan_points_with(&switches)
     }
 
     /// The switch points of the model's laws inside this domain (and up to
@@ -230,8 +238,20 @@ pub fn compile(
     })
 }
 
-/// Solve the model's closure over the domain.
+/// Solve the model's closure over the domain and refuse a state that is no
+/// equilibrium somewhere in it (see [`existence`]), naming where.
 pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
+    let solved = solve_unverified(model, domain)?;
+    verify_existence(model, &solved, domain)?;
+    Ok(solved)
+}
+
+/// Solve the model's closure over the domain without refusing a state that
+/// is no equilibrium somewhere (a negative v_φ², a density that is not
+/// positive): `check` reports where, and `table` marks the rows. Input
+/// errors (a missing law, an anchor value that is not positive, a
+/// potential singular on the grid) are still errors.
+pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
     let laws = Laws::build(model)?;
     let compile = |e: &crate::formula::Expr, origin: &str| compile(model, e, origin);
     let opt = |e: &Option<crate::formula::Expr>, origin: &str| {
@@ -284,60 +304,54 @@ pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
             anchor.value,
         ));
     }
-    verify_existence(model, &solved, domain)?;
-    Ok(solved)
-}
-
-/// Stop with a clear error where the solved state is not an equilibrium:
-/// v_φ² < 0 (an interval), density, pressure or c² not positive or not finite.
-fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), ClosureError> {
     let s = model.coordinate();
-    if domain.axis_at_lo && !bg.potential.eval(&[domain.lo]).is_finite() {
+    if domain.axis_at_lo && !solved.potential.eval(&[domain.lo]).is_finite() {
         return Err(ClosureError::NoEquilibrium(format!(
             "the potential is singular at {s} = {}, which the grid contains: soften the point \
              mass (gravity.softening) or keep {s} = {} off the grid",
             domain.lo, domain.lo
         )));
     }
-    let pts = domain.scan_points();
-    // The given laws first: a density, pressure or c² that is not positive
-    // is the cause, and a derived rotation law only its symptom.
-    verify_positive(s, bg, &pts)?;
-    if bg.rotation_sq.is_some() {
-        let law = if model.unknown == Unknown::Rotation {
-            "the derived rotation law"
-        } else {
-            "the rotation law"
-        };
-        let mut bad: Option<(f64, f64, f64, f64)> = None; // from, to, min value, where
-        for &x in &pts {
-            let v = bg.rotation_sq_at(x).unwrap_or(0.0);
-            if v < 0.0 || v.is_nan() {
-                let b = bad.get_or_insert((x, x, v, x));
-                b.1 = x;
-                if v < b.2 || v.is_nan() {
-                    b.2 = v;
-                    b.3 = x;
-                }
-            } else if bad.is_some() {
-                break;
-            }
-        }
-        if let Some((a, b, v, at)) = bad {
-            if v.is_nan() {
-                return Err(ClosureError::NoEquilibrium(format!(
-                    "{law} gives v_phi^2 that is not a number at {s} = {}",
-                    show(at)
-                )));
-            }
-            return Err(ClosureError::NoEquilibrium(format!(
-                "{law} needs v_phi^2 < 0 between {s} = {} and {s} = {} (v_phi^2 = {v:.6e} at {s} = {}): \
-                 gravity cannot hold the pressure gradient there",
-                show(a),
-                show(b),
-                show(at)
-            )));
-        }
+    Ok(solved)
+}
+
+/// The survey of ρ, P, c² and v_φ² of a solved state over the scan points
+/// of the domain (see [`existence::survey`]).
+pub fn survey(model: &Model, bg: &Solved, domain: &Domain) -> Vec<existence::Extent> {
+    let pts = domain.scan_points_for(model);
+    let v2 = |x: f64| bg.rotation_sq_at(x).unwrap_or(0.0);
+    let rotation: Option<&dyn Fn(f64) -> f64> = bg.rotation_sq.as_ref().map(|_| &v2 as _);
+    existence::survey(bg, rotation, &pts)
+}
+
+/// What gives v_φ², for messages.
+pub fn rotation_law_name(model: &Model) -> &'static str {
+    if model.unknown == Unknown::Rotation {
+        "the derived rotation law"
+    } else {
+        "the rotation law"
+    }
+}
+
+/// Stop with a clear error where the solved state is not an equilibrium:
+/// density, pressure or c² not positive or not finite (first: they are the
+/// cause), v_φ² < 0 (an interval), a potential that is not finite.
+fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), ClosureError> {
+    let s = model.coordinate();
+    let survey = survey(model, bg, domain);
+    let failures = existence::failures(&survey, s, rotation_law_name(model));
+    if let Some(message) = failures.into_iter().next() {
+        return Err(ClosureError::NoEquilibrium(message));
+    }
+    if let Some(x) = domain
+        .scan_points_for(model)
+        .into_iter()
+        .find(|&x| !bg.potential.eval(&[x]).is_finite())
+    {
+        return Err(ClosureError::NoEquilibrium(format!(
+            "the potential is not finite at {s} = {}",
+            show(x)
+        )));
     }
     Ok(())
 }
@@ -351,39 +365,6 @@ pub(crate) fn show(x: f64) -> String {
     } else {
         format!("{rounded:e}")
     }
-}
-
-/// Density, pressure and c² positive and finite, and the potential finite, at
-/// every scan point.
-fn verify_positive(s: &str, bg: &Solved, pts: &[f64]) -> Result<(), ClosureError> {
-    for &x in pts {
-        let st = bg.at(x);
-        let c2 = st.sound_speed_sq();
-        for (name, v) in [
-            ("density", st.density),
-            ("pressure", st.pressure),
-            ("c^2", c2),
-        ] {
-            if v.is_nan() || v <= 0.0 {
-                let what = if v.is_finite() {
-                    "≤ 0"
-                } else {
-                    "is not finite"
-                };
-                return Err(ClosureError::NoEquilibrium(format!(
-                    "{name} {what} ({v:e}) at {s} = {}",
-                    show(x)
-                )));
-            }
-        }
-        if !st.potential.is_finite() {
-            return Err(ClosureError::NoEquilibrium(format!(
-                "the potential is not finite at {s} = {}",
-                show(x)
-            )));
-        }
-    }
-    Ok(())
 }
 
 #[cfg(test)]
