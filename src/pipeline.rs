@@ -231,6 +231,18 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
             ));
         }
     }
+    if let Some(crate::closure::axis::Approach::SingularGradient { .. }) =
+        closure::axis_approach(m, domain)
+    {
+        out.push(format!(
+            "the gravity dPhi/d{s} grows without bound towards {s} = {} (the potential itself is \
+             finite there): the cells next to the {} feel an unbounded force; start the grid off \
+             the {} to avoid it",
+            domain.lo,
+            closure::axis_word(m),
+            closure::axis_word(m)
+        ));
+    }
     if loaded.output.precision == crate::output::Precision::Single {
         out.push(crate::output::SINGLE_PRECISION_CAUTION.to_string());
     }

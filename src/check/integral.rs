@@ -35,7 +35,16 @@ pub(super) fn integral_form(
             "nothing to integrate: the closure has no integrand".into(),
         ));
     };
-    let f = closure::compile(model, integrand, "integrand")?;
+    let program = closure::compile(model, integrand, "integrand")?;
+    // Next to an axis where the compiled integrand loses digits, evaluate it
+    // in 256-bit arithmetic, as the solver does.
+    let careful = closure::careful_near_axis(model, domain, integrand, &program);
+    let f = |x: f64| {
+        careful
+            .as_ref()
+            .and_then(|c| c.at(x))
+            .unwrap_or_else(|| program.eval(&[x]))
+    };
     let terms: Vec<Program> = laws
         .integrand_terms
         .iter()
@@ -88,10 +97,7 @@ pub(super) fn integral_form(
             cuts[1..n - 1].reverse();
         }
         cuts.windows(2).fold((0.0, 0.0), |(i, j), c| {
-            (
-                i + gl(c[0], c[1], &|x| f.eval(&[x])),
-                j + gl(c[0], c[1], &largest).abs(),
-            )
+            (i + gl(c[0], c[1], &f), j + gl(c[0], c[1], &largest).abs())
         })
     };
     // Walk outward from the anchor on both sides, accumulating the

@@ -15,6 +15,7 @@
 //! the existence checks (no equilibrium ⇒ an error naming the law, the
 //! interval and the value). Does not own: grids, sampling or files.
 
+pub mod axis;
 pub mod existence;
 pub mod integrate;
 mod laws;
@@ -158,6 +159,9 @@ pub struct Solved {
     rotation_sq: Option<Program>,
     rotation: Option<Program>,
     integral: Option<(Integrated, Cumulative, f64)>,
+    /// The axis or centre the grid contains, with the limit of Φ there, for
+    /// a potential that is 0/0 at the point itself.
+    axis_potential: Option<(f64, f64)>,
 }
 
 impl Solved {
@@ -221,7 +225,17 @@ impl Background for Solved {
             density,
             pressure,
             rotation,
-            potential: self.potential.eval(&[s]),
+            potential: match self.axis_potential {
+                Some((axis, limit)) if s <= axis => {
+                    let v = self.potential.eval(&[s]);
+                    if v.is_finite() {
+                        v
+                    } else {
+                        limit
+                    }
+                }
+                _ => self.potential.eval(&[s]),
+            },
         }
     }
 }
@@ -266,6 +280,7 @@ pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, Closur
         rotation_sq: opt(&laws.rotation_sq, "rotation")?,
         rotation: opt(&laws.rotation, "rotation")?,
         integral: None,
+        axis_potential: None,
     };
     if let Some(integrand) = &laws.integrand {
         let anchor = model.anchor.ok_or_else(|| {
@@ -298,21 +313,108 @@ pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, Closur
         knots.extend([lo, hi, anchor.at]);
         knots.extend(domain.switches(model).iter().map(|w| w.at));
         let program = compile(integrand, "integrand")?;
+        let careful = careful_near_axis(model, domain, integrand, &program);
         solved.integral = Some((
             kind,
-            Cumulative::new(program, knots, anchor.at),
+            Cumulative::new(program, careful, knots, anchor.at),
             anchor.value,
         ));
     }
-    let s = model.coordinate();
-    if domain.axis_at_lo && !solved.potential.eval(&[domain.lo]).is_finite() {
-        return Err(ClosureError::NoEquilibrium(format!(
-            "the potential is singular at {s} = {}, which the grid contains: soften the point \
-             mass (gravity.softening) or keep {s} = {} off the grid",
-            domain.lo, domain.lo
-        )));
+    match axis_approach(model, domain) {
+        Some(axis::Approach::Singular) => return Err(singular_potential(model, domain)),
+        // An integral through an unbounded force cannot be verified to the
+        // balance tolerance (the quadrature rules stop short of the point).
+        Some(axis::Approach::SingularGradient { .. }) if laws.integrand.is_some() => {
+            let (s, place) = (model.coordinate(), axis_word(model));
+            return Err(ClosureError::NoEquilibrium(format!(
+                "the gravity dPhi/d{s} of {} is unbounded at {s} = {}, which the grid contains \
+                 (the potential itself is finite there), and solving for {} integrates through \
+                 it: start the grid off the {place}",
+                model.potential.origin,
+                show(domain.lo),
+                model.unknown.key()
+            )));
+        }
+        Some(axis::Approach::Regular { value } | axis::Approach::SingularGradient { value }) => {
+            solved.axis_potential = Some((domain.lo, value));
+        }
+        None => {}
     }
     Ok(solved)
+}
+
+/// A 256-bit evaluation of the integrand next to the axis or centre the grid
+/// contains, where its compiled form loses digits (see
+/// [`axis::unreliable_within`]); None where double precision is fine.
+pub fn careful_near_axis(
+    model: &Model,
+    domain: &Domain,
+    integrand: &crate::formula::Expr,
+    program: &Program,
+) -> Option<integrate::Careful> {
+    if !domain.axis_at_lo {
+        return None;
+    }
+    let s = model.coordinate();
+    let point = (domain.lo, domain.hi - domain.lo);
+    let within = axis::unreliable_within(integrand, program, s, point, &|n| model.lookup(n))?;
+    let mut names = model.parameters.clone();
+    names.extend(Model::builtin_names(model.units));
+    let (expr, var) = (integrand.clone(), s.to_string());
+    Some(integrate::Careful {
+        near: domain.lo,
+        within,
+        eval: Box::new(move |x| {
+            let look = |n: &str| {
+                if n == var {
+                    Some(x)
+                } else {
+                    names.iter().find(|(k, _)| k == n).map(|(_, v)| *v)
+                }
+            };
+            expr.eval_extended(&look).unwrap_or(f64::NAN)
+        }),
+    })
+}
+
+/// How the potential behaves at the axis or centre, when the grid contains
+/// it (see [`axis`]).
+pub fn axis_approach(model: &Model, domain: &Domain) -> Option<axis::Approach> {
+    domain.axis_at_lo.then(|| {
+        axis::approach(
+            &model.potential.expr,
+            model.coordinate(),
+            domain.lo,
+            domain.hi - domain.lo,
+            &|n| model.lookup(n),
+        )
+    })
+}
+
+/// "axis" for a disk, "centre" for a sphere.
+pub fn axis_word(model: &Model) -> &'static str {
+    if model.shape == Shape::Spherical {
+        "centre"
+    } else {
+        "axis"
+    }
+}
+
+/// The error for a potential with no finite limit at the axis or centre
+/// the grid contains, with advice that fits the gravity given.
+fn singular_potential(model: &Model, domain: &Domain) -> ClosureError {
+    let (s, at, place) = (model.coordinate(), show(domain.lo), axis_word(model));
+    let advice = if model.potential.origin == "gravity.point_mass" {
+        format!("soften the point mass (gravity.softening) or start the grid off the {place}")
+    } else {
+        format!(
+            "start the grid off the {place}, or give a potential ({}) that is finite there",
+            model.potential.origin
+        )
+    };
+    ClosureError::NoEquilibrium(format!(
+        "the potential is singular at {s} = {at}, which the grid contains: {advice}"
+    ))
 }
 
 /// The survey of ρ, P, c² and v_φ² of a solved state over the scan points
