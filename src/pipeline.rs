@@ -183,54 +183,13 @@ pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
     })
 }
 
-/// Plain-language cautions: instability of the equilibrium and an anchor
-/// outside the grid.
+/// Plain-language cautions: instability of the equilibrium (see
+/// [`crate::stability`]), an unbounded force at the axis, single precision,
+/// and an anchor outside the grid.
 pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<String> {
     let m = &loaded.model;
     let s = m.coordinate();
-    let mut out = Vec::new();
-    let pts = domain.scan_points();
-    let states: Vec<_> = pts.iter().map(|&x| bg.at(x)).collect();
-    if m.shape == Shape::DiskMidplane {
-        // Rayleigh (1917): axisymmetric rotation is stable where the
-        // specific angular momentum (R v_φ)² grows outward.
-        if let Some(x) = pts.windows(2).zip(states.windows(2)).find_map(|(p, st)| {
-            let j0 = (p[0] * st[0].rotation).powi(2);
-            let j1 = (p[1] * st[1].rotation).powi(2);
-            (j1 < j0 * (1.0 - 1e-12)).then_some(p[0])
-        }) {
-            out.push(format!(
-                "the rotation law violates the Rayleigh criterion near {s} = {x:.6}: (R v_phi)^2 \
-                 decreases outward, so this equilibrium is dynamically unstable"
-            ));
-        }
-    } else {
-        // Schwarzschild criterion: convectively stable where the entropy
-        // ln P − γ ln ρ increases against gravity (towards higher Φ). An
-        // isentropic layer is neutral: its entropy change is the difference
-        // of two large terms, so only a fall beyond rounding of those terms
-        // (relative 1e-9) counts.
-        if let Some(x) = pts.windows(2).zip(states.windows(2)).find_map(|(p, st)| {
-            let dlp = st[1].pressure.ln() - st[0].pressure.ln();
-            let dlr = st[1].density.ln() - st[0].density.ln();
-            let ds = dlp - m.gamma * dlr;
-            let dphi = st[1].potential - st[0].potential;
-            let against = if dphi > 0.0 {
-                ds
-            } else if dphi < 0.0 {
-                -ds
-            } else {
-                return None;
-            };
-            (against < -1e-9 * (dlp.abs() + m.gamma * dlr.abs())).then_some(p[0])
-        }) {
-            out.push(format!(
-                "the stratification is convectively unstable near {s} = {x:.6} (Schwarzschild \
-                 criterion with gamma = {}): the entropy falls against gravity",
-                m.gamma
-            ));
-        }
-    }
+    let mut out = crate::stability::cautions(m, bg, domain);
     if let Some(crate::closure::axis::Approach::SingularGradient { .. }) =
         closure::axis_approach(m, domain)
     {

@@ -481,3 +481,112 @@ fn issue5_halo_potential_from_the_centre_is_regular() {
     assert!(pipeline::cautions(&l, &bg, &domain).is_empty());
     assert!(matches!(verdict(&l), Verdict::ZeroToTolerance { max, .. } if max < 1e-13));
 }
+
+/// The buoyancy frequency of a layer of linear temperature T(z) in uniform
+/// gravity g, for an ideal gas with c_p = γ/(γ − 1) k_B/(μ m_u):
+/// N² = (g/T)(dT/dz + g/c_p) (the dry-adiabatic form of N² = (g/θ) dθ/dz;
+/// e.g. Holton & Hakim 2013, An Introduction to Dynamic Meteorology, 5th
+/// ed., §2.7, and Vallis 2017, Atmospheric and Oceanic Fluid Dynamics, 2nd
+/// ed., §2.10; from memory). With c² = (k_B/(μ m_u)) T it reads
+/// N² = (g/c²)(dc²/dz + g(γ − 1)/γ). Returns it at z for c² = a + b z.
+fn linear_layer_n2(g: f64, gamma: f64, a: f64, b: f64, z: f64) -> f64 {
+    g / (a + b * z) * (b + g * (gamma - 1.0) / gamma)
+}
+
+/// U.S. Standard Atmosphere, 1976 (NOAA-S/T 76-1562): every layer is stable
+/// (its steepest lapse rate, 6.5 K/km, is below g/c_p = 9.76 K/km), so no
+/// caution; and N² in each layer is the closed form of `linear_layer_n2`
+/// with the layer's lapse rate (the layer table of
+/// `tests/data/us-standard-atmosphere-1976.json`, from that document).
+#[test]
+fn issue5_standard_atmosphere_1976_is_stable_and_n2_is_exact() {
+    let l = load(include_str!("data/us-standard-atmosphere-1976.json"), &[]);
+    let (bg, domain) = pipeline::solve(&l).unwrap();
+    assert_eq!(pipeline::cautions(&l, &bg, &domain), Vec::<String>::new());
+    let (g, gas) = (9.80665, 8314.32 / 28.9644);
+    // (base altitude, base temperature, lapse dT/dz) of the seven layers.
+    let layers = [
+        (0.0, 288.15, -0.0065),
+        (11_000.0, 216.65, 0.0),
+        (20_000.0, 216.65, 0.001),
+        (32_000.0, 228.65, 0.0028),
+        (47_000.0, 270.65, 0.0),
+        (51_000.0, 270.65, -0.0028),
+        (71_000.0, 214.65, -0.002),
+    ];
+    let mut pts = Vec::new();
+    let mut want = Vec::new();
+    for (i, (z0, t0, lapse)) in layers.iter().enumerate() {
+        let top = layers.get(i + 1).map_or(84_852.0, |l| l.0);
+        for f in [0.1, 0.5, 0.9] {
+            let z = z0 + f * (top - z0);
+            pts.push(z);
+            want.push(linear_layer_n2(
+                g,
+                1.4,
+                gas * (t0 - lapse * z0),
+                gas * lapse,
+                z,
+            ));
+        }
+    }
+    let got = stillpoint::stability::buoyancy_sq(&l.model, &bg, &pts).unwrap();
+    for ((z, (n2, _)), w) in pts.iter().zip(&got).zip(&want) {
+        assert!(
+            *w > 0.0 && rel(*n2, *w) < 1e-10,
+            "z = {z}: N^2 = {n2} vs {w}"
+        );
+    }
+}
+
+/// A code-units slab with c² = 1 + b z under g = 1, solved for density.
+fn linear_slab(gamma: &str, b: f64, top: f64) -> Loaded {
+    let text = format!(
+        r#"{{
+      "name": "t", "units": "code",
+      "parameters": {{ "g0": 1.0, "b": {b} }},
+      "gravity": {{ "uniform": "g0" }},
+      "gas": {{ "gamma": {gamma}, "sound_speed_sq": "1 + b*z" }},
+      "balance": {{ "shape": "slab", "solve_for": "density", "anchor": {{ "at": 0, "value": 1 }} }},
+      "grid": {{ "z": {{ "from": 0, "to": {top}, "cells": 64 }} }}
+    }}"#
+    );
+    load(&text, &[])
+}
+
+/// The slab c² = 1 + 0.1 z (γ = 1.4) is stable: N² = (1/c²)(0.1 + 0.4/1.4)
+/// is positive, and there is no caution. The layer c² = 1 − 0.5 z (γ = 5/3)
+/// is superadiabatic: N² = (1/c²)(−0.5 + 0.4) = −0.1/c² is negative, and the
+/// caution names the layer. N² matches the closed form of `linear_layer_n2`
+/// in both.
+#[test]
+fn issue5_superadiabatic_layer_is_cautioned_and_n2_matches_closed_form() {
+    for (gamma, b, top, unstable) in [
+        ("1.4", 0.1, 30.0, false),
+        ("1.6666666666666667", -0.5, 1.0, true),
+    ] {
+        let l = linear_slab(gamma, b, top);
+        let (bg, domain) = pipeline::solve(&l).unwrap();
+        let c = pipeline::cautions(&l, &bg, &domain);
+        if unstable {
+            assert_eq!(c.len(), 1, "{c:?}");
+            assert!(
+                c[0].contains("convectively unstable between z = 0 and z = 1"),
+                "{}",
+                c[0]
+            );
+        } else {
+            assert!(c.is_empty(), "{c:?}");
+        }
+        let pts: Vec<f64> = (0..=20).map(|i| top * f64::from(i) / 20.0).collect();
+        let got = stillpoint::stability::buoyancy_sq(&l.model, &bg, &pts).unwrap();
+        for (z, (n2, _)) in pts.iter().zip(&got) {
+            let want = linear_layer_n2(1.0, l.model.gamma, 1.0, b, *z);
+            assert_eq!(want < 0.0, unstable);
+            if unstable {
+                assert!((want + 0.1 / (1.0 - 0.5 * z)).abs() < 1e-15);
+            }
+            assert!(rel(*n2, want) < 1e-13, "z = {z}: {n2} vs {want}");
+        }
+    }
+}

@@ -40,8 +40,23 @@ pub struct Laws {
     /// differentiated piece by piece. A law that is not differentiated may
     /// jump (a contact: ρ and c² jump with P continuous).
     pub watched: Vec<(String, Expr)>,
+    /// Slabs and spheres: the logarithmic gradients of P and ρ.
+    pub gradients: Option<Gradients>,
     /// Everything derived, for printing.
     pub derived: Vec<DerivedLaw>,
+}
+
+/// The logarithmic gradients of a slab or sphere, from exact derivatives,
+/// for its buoyancy frequency: d ln P/ds and d ln ρ/ds.
+#[derive(Clone, Debug)]
+pub struct Gradients {
+    /// d ln P/ds; or dP/ds when `per_pressure` (an integrated pressure,
+    /// whose gradient alone is a formula), to be divided by the state's P.
+    pub pressure: Expr,
+    /// `pressure` is dP/ds rather than d ln P/ds.
+    pub per_pressure: bool,
+    /// d ln ρ/ds.
+    pub density: Expr,
 }
 
 /// A formula the solver derived or differentiated, for printing.
@@ -130,6 +145,7 @@ impl Laws {
             integrand: None,
             integrand_terms: Vec::new(),
             watched: Vec::new(),
+            gradients: None,
             derived: Vec::new(),
         };
         let disk = m.shape == Shape::DiskMidplane;
@@ -199,8 +215,14 @@ impl Laws {
             (false, Unknown::Density) => {
                 let c2 = need(&m.sound_speed_sq, SOUND_SPEED, &why)?;
                 refuse(&m.density, "density", &why)?;
-                let f = (-(phi_s.clone() / c2)).simplify();
+                let f = (-(phi_s.clone() / c2.clone())).simplify();
                 let terms = vec![f.clone()];
+                // d ln ρ = d ln P − d ln c² (ρ = P/c²).
+                laws.gradients = Some(Gradients {
+                    pressure: f.clone(),
+                    per_pressure: false,
+                    density: (f.clone() - c2.diff(s) / c2).simplify(),
+                });
                 let name = format!("d ln(P)/d{s}");
                 integrand(&mut laws, &mut derived, name, (f, terms), "; rho = P/c^2");
             }
@@ -209,6 +231,11 @@ impl Laws {
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let f = (-(rho.clone() * phi_s.clone())).simplify();
                 let terms = vec![f.clone()];
+                laws.gradients = Some(Gradients {
+                    pressure: f.clone(),
+                    per_pressure: true,
+                    density: (rho.diff(s) / rho.clone()).simplify(),
+                });
                 laws.density = Some(rho);
                 integrand(&mut laws, &mut derived, format!("dP/d{s}"), (f, terms), "");
             }
@@ -228,6 +255,12 @@ impl Laws {
                 if disk {
                     let v = need(&m.rotation, "balance.rotation", "auditing a disk")?;
                     laws.rotation_sq = Some((v.clone() * v).simplify());
+                } else {
+                    laws.gradients = Some(Gradients {
+                        pressure: p.diff(s),
+                        per_pressure: true,
+                        density: (rho.diff(s) / rho.clone()).simplify(),
+                    });
                 }
                 laws.watched.push(("pressure".into(), p.clone()));
                 laws.density = Some(rho);

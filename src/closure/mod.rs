@@ -21,7 +21,7 @@ pub mod integrate;
 mod laws;
 pub mod switches;
 
-pub use laws::{derived_laws, DerivedLaw, Laws};
+pub use laws::{derived_laws, DerivedLaw, Gradients, Laws};
 
 use crate::background::{Background, PointState, Shape};
 use crate::formula::{FormulaError, Program};
