@@ -174,6 +174,7 @@ pub fn build(loaded: &Loaded, command_line: &str) -> Result<Built, Error> {
             ("balance".into(), balance_description(&loaded.model).into()),
             ("solved_for".into(), loaded.model.unknown.key().into()),
             ("gamma".into(), format!("{}", loaded.model.gamma)),
+            ("gas_law".into(), gas_law(loaded.model.gamma).into()),
         ],
     };
     Ok(Built {
@@ -215,6 +216,16 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
         }
     }
     out
+}
+
+/// The equation of state in a word, as files record it: `isothermal` for
+/// γ = 1 (P = ρc², no energy field), else `ideal` (energy P/(γ − 1) + ½ρ|v|²).
+pub fn gas_law(gamma: f64) -> &'static str {
+    if crate::physics::is_isothermal(gamma) {
+        "isothermal"
+    } else {
+        "ideal"
+    }
 }
 
 /// The balance in words, as `derive` prints it and files record it:

@@ -779,3 +779,50 @@ fn issue5_halo_potential_builds_from_the_centre() {
         "{t}"
     );
 }
+
+/// γ = 1, the isothermal gas of everyday disk simulations: the profile and
+/// the sampler accept it, no energy field is written (there is no energy
+/// equation), the file says `gas_law = isothermal`, and the convective
+/// caution does not apply (even to a layer with dc²/dz = −0.45 g, steeper
+/// than the adiabatic −g(γ − 1)/γ = −0.4 g of γ = 5/3, which with γ = 5/3 is
+/// cautioned). γ < 1 is refused by name.
+#[test]
+fn issue5_isothermal_gas_builds() {
+    let iso = GOOD.replace("\"gamma\": 1.4", "\"gamma\": 1");
+    assert_ne!(iso, GOOD, "rewrite failed");
+    let (d, code, t) = run_on(&iso, &["build", "-o", "iso.h5"]);
+    assert_eq!(code, Some(0), "{t}");
+    assert!(!t.contains("caution"), "{t}");
+    let f = hdf5::File::open(d.path().join("iso.h5")).unwrap();
+    let names = f.group("state").unwrap().member_names().unwrap();
+    assert!(
+        !names.iter().any(|n| n == "energy") && names.iter().any(|n| n == "pressure"),
+        "{names:?}"
+    );
+    let law: hdf5::types::VarLenUnicode = f.attr("gas_law").unwrap().read_scalar().unwrap();
+    assert_eq!(law.as_str(), "isothermal");
+    let (_d, code, t) = run_on(&iso, &["check"]);
+    assert_eq!(code, Some(0), "{t}");
+
+    let steep = GOOD.replace(
+        "\"sound_speed_sq\": \"cs2\"",
+        "\"sound_speed_sq\": \"cs2*(4 - 0.45*z)\"",
+    );
+    let (_d, _, t) = run_on(
+        &steep.replace("\"gamma\": 1.4", "\"gamma\": 1.6666666666666667"),
+        &["check"],
+    );
+    assert!(t.contains("convectively unstable"), "{t}");
+    let (_d, code, t) = run_on(
+        &steep.replace("\"gamma\": 1.4", "\"gamma\": 1"),
+        &["build", "-o", "s.h5"],
+    );
+    assert_eq!(code, Some(0), "{t}");
+    assert!(!t.contains("convectively"), "{t}");
+
+    let t = bad_build(&GOOD.replace("\"gamma\": 1.4", "\"gamma\": 0.9"), &[]);
+    assert!(
+        t.contains("gas.gamma: must be at least 1 (1 is an isothermal gas), found 0.9"),
+        "{t}"
+    );
+}

@@ -307,11 +307,11 @@ pub fn from_text(
         Some(g) => g.node().value(&consts, &lookup)?,
         None => 5.0 / 3.0,
     };
-    if gamma <= 1.0 {
+    if gamma < 1.0 {
         return Err(ProfileError::at(
             label,
             "gas.gamma",
-            format!("must exceed 1, found {gamma}"),
+            format!("must be at least 1 (1 is an isothermal gas), found {gamma}"),
         ));
     }
     let molecular_weight = match gas.child("molecular_weight") {
