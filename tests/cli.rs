@@ -826,3 +826,50 @@ fn issue5_isothermal_gas_builds() {
         "{t}"
     );
 }
+
+/// The unit record of our own: `/scales` names the system and G, and holds
+/// for each base dimension its symbol and its value in cgs and SI; the old
+/// root attributes are gone. Files in every unit system are read back with
+/// h5py and compared with astropy's units and constants
+/// (tests/h5_scales_check.py: IAU 2012 B2 au, IAU 2015 B3 solar mass,
+/// Julian year, CODATA 2018 G).
+#[test]
+fn issue5_unit_record_of_our_own() {
+    let d = tmp();
+    let ring = include_str!("../profiles/ring-disk.json")
+        .replace("\"cells\": 240", "\"cells\": 16")
+        .replace("\"cells\": 256", "\"cells\": 4");
+    let layered = include_str!("../profiles/layered-atmosphere.json");
+    let cases = [
+        ("astro", ring),
+        ("si", layered.to_string()),
+        (
+            "cgs",
+            layered.replace("\"units\": \"si\"", "\"units\": \"cgs\""),
+        ),
+        ("code", GOOD.to_string()),
+    ];
+    let mut files = Vec::new();
+    for (units, p) in cases {
+        assert!(p.contains(&format!("\"units\": \"{units}\"")), "{units}");
+        let name = format!("{units}.json");
+        std::fs::write(d.path().join(&name), p).unwrap();
+        let out = format!("{units}.h5");
+        let o = stillpoint(d.path(), &["build", &name, "-o", &out]);
+        assert!(o.status.success(), "{units}: {}", text(&o));
+        files.push(d.path().join(out));
+    }
+    let f = hdf5::File::open(&files[0]).unwrap();
+    assert!(f.attr("unit_system").is_err() && f.attr("unit_length").is_err());
+    let length = f.group("scales/length").unwrap();
+    let symbol: hdf5::types::VarLenUnicode = length.attr("symbol").unwrap().read_scalar().unwrap();
+    assert_eq!(symbol.as_str(), "au");
+    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/h5_scales_check.py");
+    let o = Command::new("python3")
+        .arg(script)
+        .args(&files)
+        .output()
+        .expect("python3 with h5py and astropy is needed (.ci/run installs them with pip)");
+    assert!(o.status.success(), "{}", text(&o));
+    assert!(text(&o).contains("all checks passed"), "{}", text(&o));
+}
