@@ -115,7 +115,7 @@ pub(super) fn closed_form(
 
 /// Random points for the identity test: 24 spread over the domain, and, for
 /// a piecewise residual, at least two inside every piece between its
-/// breakpoints. A residual that is analytic on each piece and vanishes at
+/// switch points. A residual that is analytic on each piece and vanishes at
 /// random points of every piece is zero; one that is piecewise may vanish on
 /// most of the domain and not on a sliver that 24 points over the whole
 /// domain would miss.

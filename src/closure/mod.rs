@@ -11,9 +11,11 @@
 //! | slab, sphere | P | ρ, P at anchor | ∂P/∂s = −ρΦ_s |
 //! | any | — | every law | audit only (`check` reports the imbalance) |
 //!
-//! Owns: building the derived formulas and integrands, the backgrounds, and
-//! the existence checks (no equilibrium ⇒ an error naming the law, the
-//! interval and the value). Does not own: grids, sampling or files.
+//! Owns: building the derived formulas and integrands (`laws`), the
+//! backgrounds, the switch points of piecewise laws (`switches`), the
+//! existence survey (no equilibrium ⇒ the quantity, the interval and the
+//! value; `existence`) and what the potential does at an axis or centre the
+//! grid contains (`axis`). Does not own: grids, sampling, files or verdicts.
 
 pub mod axis;
 pub mod existence;
@@ -63,7 +65,8 @@ pub struct Domain {
 
 impl Domain {
     /// Points to scan for positivity and existence: the knots plus a uniform
-    /// set of 4001 points.
+    /// set of 4001 points (see [`Domain::scan_points_with`] for the points a
+    /// piecewise law adds).
     pub fn scan_points(&self) -> Vec<f64> {
         let n = 4000;
         let lo = if self.axis_at_lo {
@@ -170,7 +173,7 @@ impl Solved {
     /// derivative written u^n n u′/u — although its limit is finite; there
     /// the flow of a regular axisymmetric state does not rotate, so a NaN on
     /// the axis is the limit v_φ² = 0. (A potential singular on the axis is
-    /// refused before this matters, see `verify_existence`.)
+    /// refused before this matters, see `solve_unverified`.)
     fn rotation_sq_at(&self, s: f64) -> Option<f64> {
         let v2 = self.rotation_sq.as_ref()?.eval(&[s]);
         let on_axis = self.shape == Shape::DiskMidplane && s == 0.0;
