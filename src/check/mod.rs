@@ -150,7 +150,8 @@ pub fn run(
 }
 
 /// The jumps of the quantities the balance differentiates at the switch
-/// points inside the domain, each marked intended when one of the laws that
+/// points inside the domain (and on the way to an anchor outside it, which
+/// an integral crosses), each marked intended when one of the laws that
 /// switch there is listed in `balance.intended_jumps`.
 fn find_jumps(
     model: &Model,
@@ -173,7 +174,8 @@ fn find_jumps(
         .zip(&evals)
         .map(|((name, _), f)| (*name, f as &dyn Fn(f64) -> f64))
         .collect();
-    let mut jumps = jumps::find(&quantities, switches, (domain.lo, domain.hi), tolerance);
+    let range = domain.range_with_anchor(model);
+    let mut jumps = jumps::find(&quantities, switches, range, tolerance);
     for j in &mut jumps {
         j.intended = j.laws.iter().any(|l| model.intended_jumps.contains(l));
     }
