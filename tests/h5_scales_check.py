@@ -4,7 +4,7 @@
 Usage: h5_scales_check.py FILE...
 
 Each file's /scales group (read with h5py) names its `system` and holds one
-group per base dimension with `symbol`, `in_cgs` and `in_si`. Each value is
+group per base dimension with `symbol`, `cgs` and `si`. Each value is
 compared with astropy.units / astropy.constants (Astropy Collaboration 2022,
 ApJ 935, 167): the au is the IAU 2012 B2 value, the solar mass the IAU 2015
 B3 nominal (GM)sun over CODATA 2018 G, the year the Julian year. `G` on
@@ -54,7 +54,7 @@ def check(path, failures):
             base[dim] = unit
             want_cgs = (1 * unit).to(CGS[dim]).value
             want_si = (1 * unit).to(SI[dim]).value
-            for name, got, want in (("in_cgs", g.attrs["in_cgs"], want_cgs), ("in_si", g.attrs["in_si"], want_si)):
+            for name, got, want in (("cgs", g.attrs["cgs"], want_cgs), ("si", g.attrs["si"], want_si)):
                 ok = close(float(got), want)
                 print(f"{path}: {system} {dim} [{symbol}] {name} {float(got):.16e} astropy {want:.16e} {'ok' if ok else 'DIFFERS'}")
                 if not ok:

@@ -13,7 +13,7 @@
 //! `cgs` or `astro`) and `G` (the gravitational constant in the file's
 //! units); in a physical system it holds one group per base dimension,
 //! `/scales/length`, `/scales/mass`, `/scales/time`, `/scales/temperature`,
-//! each with `symbol` (`au`), `in_cgs` (its value in cm, g, s, K) and `in_si`
+//! each with `symbol` (`au`), `cgs` (its value in cm, g, s, K) and `si`
 //! (in m, kg, s, K).
 //!
 //! Grid coordinates are always written in double precision; only the fields
@@ -112,8 +112,8 @@ fn write_scales(file: &File, units: crate::units::UnitSystem) -> H5Result {
     for base in units.base_units().into_iter().flatten() {
         let g = scales.create_group(base.dimension)?;
         string_attr(&g, "symbol", base.symbol)?;
-        number_attr(&g, "in_cgs", base.cgs)?;
-        number_attr(&g, "in_si", base.si)?;
+        number_attr(&g, "cgs", base.cgs)?;
+        number_attr(&g, "si", base.si)?;
     }
     Ok(())
 }
@@ -238,8 +238,8 @@ mod tests {
         assert!(read(&file, "cautions").contains("single precision"));
         assert_eq!(read(&file, "generator"), "stillpoint 0.1.0");
         let mass = file.group("scales/mass").unwrap();
-        let cgs: f64 = mass.attr("in_cgs").unwrap().read_scalar().unwrap();
-        let si: f64 = mass.attr("in_si").unwrap().read_scalar().unwrap();
+        let cgs: f64 = mass.attr("cgs").unwrap().read_scalar().unwrap();
+        let si: f64 = mass.attr("si").unwrap().read_scalar().unwrap();
         assert!((cgs - 1.0).abs() < 1e-15 && (si - 1e-3).abs() < 1e-18);
         let g: f64 = scales.attr("G").unwrap().read_scalar().unwrap();
         assert!(
