@@ -111,10 +111,11 @@ pub fn epicyclic_sq(model: &Model, pts: &[f64]) -> Result<Vec<Valued>, ClosureEr
     Ok(pts.iter().map(|&x| k2(x)).collect())
 }
 
-/// The first interval where the criterion is negative beyond [`THRESHOLD`]
-/// of its terms, found on the sorted `pts` and its ends refined between
-/// them, with its minimum and where: (from, to, min, at).
-fn negative(pts: &[f64], criterion: &dyn Fn(f64) -> Valued) -> Option<(f64, f64, f64, f64)> {
+/// Where the criterion is negative beyond [`THRESHOLD`] of its terms, found
+/// on the sorted `pts` with the interval ends refined between them, in
+/// words: the first interval, how many more, and the minimum over all with
+/// where, the coordinate named `s` and the criterion `name`.
+fn negative(pts: &[f64], criterion: &dyn Fn(f64) -> Valued, s: &str, name: &str) -> Option<String> {
     // Below the threshold the value itself, else never below zero: the
     // failing set of this function is the unstable one.
     let clipped = |x: f64| {
@@ -129,7 +130,18 @@ fn negative(pts: &[f64], criterion: &dyn Fn(f64) -> Valued) -> Option<(f64, f64,
     };
     let e = extent("criterion", false, &clipped, pts);
     let &(a, b) = e.failing.first()?;
-    Some((a, b, e.min, e.at))
+    let more = match e.failing.len() {
+        1 => String::new(),
+        2 => " and in 1 more interval".to_string(),
+        n => format!(" and in {} more intervals", n - 1),
+    };
+    Some(format!(
+        "between {s} = {} and {s} = {}{more} ({name} reaches {:.3e} at {s} = {})",
+        show(a),
+        show(b),
+        e.min,
+        show(e.at)
+    ))
 }
 
 /// Cautions for an unstable equilibrium: Schwarzschild (slabs and spheres,
@@ -151,14 +163,10 @@ pub fn cautions(model: &Model, bg: &dyn Background, domain: &Domain) -> Vec<Stri
         let Ok(k2) = epicyclic(model) else {
             return out;
         };
-        if let Some((a, b, min, at)) = negative(&pts, &k2) {
+        if let Some(place) = negative(&pts, &k2, s, "kappa^2") {
             out.push(format!(
-                "the rotation law violates the Rayleigh criterion between {s} = {} and {s} = {}: \
-                 (R v_phi)^2 decreases outward (kappa^2 = {min:.3e} at {s} = {}), so this \
-                 equilibrium is dynamically unstable",
-                show(a),
-                show(b),
-                show(at)
+                "the rotation law violates the Rayleigh criterion {place}: (R v_phi)^2 \
+                 decreases outward, so this equilibrium is dynamically unstable"
             ));
         }
         let l2 = |r: f64| r * r * bg.at(r).rotation.powi(2);
@@ -181,14 +189,10 @@ pub fn cautions(model: &Model, bg: &dyn Background, domain: &Domain) -> Vec<Stri
         return out;
     };
     let gamma = model.gamma;
-    if let Some((a, b, min, at)) = negative(&pts, &n2) {
+    if let Some(place) = negative(&pts, &n2, s, "N^2") {
         out.push(format!(
-            "the stratification is convectively unstable between {s} = {} and {s} = {} \
-             (Schwarzschild criterion with gamma = {gamma}: N^2 = {min:.3e} at {s} = {}): the \
-             entropy falls against gravity",
-            show(a),
-            show(b),
-            show(at)
+            "the stratification is convectively unstable by the Schwarzschild criterion \
+             (gamma = {gamma}) {place}: the entropy falls against gravity"
         ));
     }
     let entropy = |x: f64| {

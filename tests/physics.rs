@@ -571,7 +571,7 @@ fn issue5_superadiabatic_layer_is_cautioned_and_n2_matches_closed_form() {
         if unstable {
             assert_eq!(c.len(), 1, "{c:?}");
             assert!(
-                c[0].contains("convectively unstable between z = 0 and z = 1"),
+                c[0].contains("convectively unstable by the Schwarzschild criterion (gamma = 1.6666666666666667) between z = 0 and z = 1 (N^2 reaches -2.000e-1 at z = 1)"),
                 "{}",
                 c[0]
             );
