@@ -2,13 +2,19 @@
 //!
 //! Owns: the layout of the file — `/grid/<axis>_centers` and
 //! `/grid/<axis>_edges`, `/background/<field>` and `/state/<field>` shaped like
-//! the grid (C order, axes in the grid's order) — and its attributes: on the
-//! root `profile`, `command_line`, `generator`, `unit_system`,
-//! `unit_<name>_cgs` and `unit_<name>` for each base unit (physical systems
-//! only), `sampling`, `cautions` (lines joined by newlines), `created` (UTC,
-//! ISO 8601) and the metadata's extra pairs; on every dataset `units` and
-//! (fields) `sampling`. Does not own the all-or-nothing placement of the file
-//! (see [`super::commit`]) nor any physics.
+//! the grid (C order, axes in the grid's order), and the unit record
+//! `/scales` — and its attributes: on the root `profile`, `command_line`,
+//! `generator`, `sampling`, `cautions` (lines joined by newlines), `created`
+//! (UTC, ISO 8601) and the metadata's extra pairs; on every dataset `units`
+//! and (fields) `sampling`. Does not own the all-or-nothing placement of the
+//! file (see [`super::commit`]) nor any physics.
+//!
+//! The unit record: the group `/scales` carries `system` (`code`, `si`,
+//! `cgs` or `astro`) and `G` (the gravitational constant in the file's
+//! units); in a physical system it holds one group per base dimension,
+//! `/scales/length`, `/scales/mass`, `/scales/time`, `/scales/temperature`,
+//! each with `symbol` (`au`), `cgs` (its value in cm, g, s, K) and `si`
+//! (in m, kg, s, K).
 //!
 //! Grid coordinates are always written in double precision; only the fields
 //! follow [`Precision`].
@@ -27,11 +33,10 @@ use crate::keys::Keyed;
 type H5Result = Result<(), Box<dyn Error>>;
 
 /// Root attribute names the writer sets itself; `extra` may not reuse them.
-const RESERVED: [&str; 7] = [
+const RESERVED: [&str; 6] = [
     "profile",
     "command_line",
     "generator",
-    "unit_system",
     "sampling",
     "cautions",
     "created",
@@ -44,7 +49,7 @@ const RESERVED: [&str; 7] = [
 pub fn write_hdf5(doc: &Document, path: &Path, precision: Precision) -> Result<(), OutputError> {
     doc.check(path)?;
     for (name, _) in &doc.metadata.extra {
-        if RESERVED.contains(&name.as_str()) || name.starts_with("unit_") {
+        if RESERVED.contains(&name.as_str()) {
             return Err(OutputError::Inconsistent {
                 path: path.to_path_buf(),
                 message: format!("extra attribute `{name}` collides with a reserved name"),
@@ -64,15 +69,7 @@ fn write(doc: &Document, path: &Path, precision: Precision) -> H5Result {
     string_attr(&file, "profile", &meta.profile_json)?;
     string_attr(&file, "command_line", &meta.command_line)?;
     string_attr(&file, "generator", &meta.generator)?;
-    string_attr(&file, "unit_system", units.key())?;
-    if let Some(base) = units.base_units() {
-        for (name, symbol, cgs) in base {
-            file.new_attr::<f64>()
-                .create(format!("unit_{name}_cgs").as_str())?
-                .write_scalar(&cgs)?;
-            string_attr(&file, &format!("unit_{name}"), symbol)?;
-        }
-    }
+    write_scales(&file, units)?;
     string_attr(&file, "sampling", &doc.state.sampling)?;
     let mut cautions = meta.cautions.clone();
     if precision == Precision::Single && !cautions.iter().any(|c| c == SINGLE_PRECISION_CAUTION) {
@@ -104,6 +101,26 @@ fn write(doc: &Document, path: &Path, precision: Precision) -> H5Result {
     )?;
     write_fields(&file.create_group("state")?, doc.state, doc, precision)?;
     file.flush()?;
+    Ok(())
+}
+
+/// The unit record `/scales` (see the module documentation).
+fn write_scales(file: &File, units: crate::units::UnitSystem) -> H5Result {
+    let scales = file.create_group("scales")?;
+    string_attr(&scales, "system", units.key())?;
+    number_attr(&scales, "G", units.constants().g)?;
+    for base in units.base_units().into_iter().flatten() {
+        let g = scales.create_group(base.dimension)?;
+        string_attr(&g, "symbol", base.symbol)?;
+        number_attr(&g, "cgs", base.cgs)?;
+        number_attr(&g, "si", base.si)?;
+    }
+    Ok(())
+}
+
+/// A scalar double attribute.
+fn number_attr(loc: &Location, name: &str, value: f64) -> H5Result {
+    loc.new_attr::<f64>().create(name)?.write_scalar(&value)?;
     Ok(())
 }
 
@@ -215,11 +232,21 @@ mod tests {
                 .to_string()
         };
         assert_eq!(read(&rho, "units"), "g cm^-3");
-        assert_eq!(read(&file, "unit_length"), "cm");
+        let scales = file.group("scales").unwrap();
+        assert_eq!(read(&scales, "system"), "cgs");
+        assert_eq!(read(&file.group("scales/length").unwrap(), "symbol"), "cm");
         assert!(read(&file, "cautions").contains("single precision"));
         assert_eq!(read(&file, "generator"), "stillpoint 0.1.0");
-        let cgs: f64 = file.attr("unit_mass_cgs").unwrap().read_scalar().unwrap();
-        assert!((cgs - 1.0).abs() < 1e-15);
+        let mass = file.group("scales/mass").unwrap();
+        let cgs: f64 = mass.attr("cgs").unwrap().read_scalar().unwrap();
+        let si: f64 = mass.attr("si").unwrap().read_scalar().unwrap();
+        assert!((cgs - 1.0).abs() < 1e-15 && (si - 1e-3).abs() < 1e-18);
+        let g: f64 = scales.attr("G").unwrap().read_scalar().unwrap();
+        assert!(
+            (g / 6.674_30e-8 - 1.0).abs() < 1e-15,
+            "CODATA 2018 G in cgs"
+        );
+        assert!(file.attr("unit_system").is_err());
         assert!(read(&file, "created").ends_with('Z'));
     }
 

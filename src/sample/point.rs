@@ -65,8 +65,12 @@ impl PointSampler<'_> {
         out[POT] = st.potential;
         out[CS] = c2.sqrt();
         out[TEMP] = self.gas.temperature_per_c2.map_or(0.0, |k| k * c2);
-        out[ENERGY] =
-            st.pressure / (self.gas.gamma - 1.0) + 0.5 * st.density * st.rotation * st.rotation;
+        // An isothermal gas has no energy field (see `assemble`).
+        out[ENERGY] = if crate::physics::is_isothermal(self.gas.gamma) {
+            0.0
+        } else {
+            st.pressure / (self.gas.gamma - 1.0) + 0.5 * st.density * st.rotation * st.rotation
+        };
         for c in 0..self.ncomp {
             let v = st.rotation * e_phi[c];
             out[VEL + c] = v;
@@ -125,7 +129,9 @@ pub(super) fn assemble(grid: &Grid, gas: &GasConstants, mut columns: Vec<Vec<f64
             take(MOM + c),
         ));
     }
-    fields.push(field("energy".into(), pressure, take(ENERGY)));
+    if !crate::physics::is_isothermal(gas.gamma) {
+        fields.push(field("energy".into(), pressure, take(ENERGY)));
+    }
     fields.push(field("sound_speed".into(), Dim::VELOCITY, take(CS)));
     if gas.temperature_per_c2.is_some() {
         fields.push(field("temperature".into(), Dim::TEMPERATURE, take(TEMP)));
