@@ -187,7 +187,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
         }
         Command::Check { common, tolerance } => {
             let loaded = common.load()?;
-            let (bg, domain) = pipeline::solve(&loaded)?;
+            let (bg, domain) = pipeline::solve_unverified(&loaded)?;
             let centres = pipeline::centres_for(&loaded.grid);
             let report = check::run(&loaded.model, &bg, &domain, &centres, tolerance)
                 .map_err(|e| Error::closure(&loaded, e))?;
@@ -209,7 +209,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             csv,
         } => {
             let loaded = common.load()?;
-            let (bg, domain) = pipeline::solve(&loaded)?;
+            let (bg, domain) = pipeline::solve_unverified(&loaded)?;
             let xs = match at {
                 Some(list) => parse_list(&loaded, &list)?,
                 None => {

@@ -19,6 +19,7 @@
 //!   background into arrays of numbers ([`fields`]).
 //! * [`output`] — writers (HDF5, CSV); a writer never computes physics.
 //! * [`check`], [`table`] — the symbolic balance check and rotation tables.
+//! * [`stability`] — Schwarzschild and Rayleigh criteria from exact derivatives.
 //! * [`profile`] — the JSON profile schema with exact error paths.
 //! * [`cli`] — the command line (the binary is a thin shell around it).
 #![deny(clippy::float_cmp)]
@@ -37,5 +38,6 @@ pub mod physics;
 pub mod pipeline;
 pub mod profile;
 pub mod sample;
+pub mod stability;
 pub mod table;
 pub mod units;

@@ -95,6 +95,10 @@ pub struct Model {
     /// Disk fields are vertically integrated (Σ and ∫P dz) rather than
     /// midplane values.
     pub vertically_integrated: bool,
+    /// Profile keys of laws whose jumps at their switch points are intended
+    /// (`balance.intended_jumps`): `build` writes such a state with a
+    /// caution instead of refusing it.
+    pub intended_jumps: Vec<String>,
 }
 
 impl Model {
@@ -127,6 +131,22 @@ impl Model {
                     .find(|(n, _)| n == name)
                     .map(|(_, v)| v)
             })
+    }
+
+    /// The profile keys of the laws the model gives, potential last
+    /// (`balance.density`, `gas.temperature`, `gravity.point_mass`, …).
+    pub fn law_keys(&self) -> Vec<&str> {
+        [
+            &self.density,
+            &self.sound_speed_sq,
+            &self.rotation,
+            &self.pressure,
+        ]
+        .into_iter()
+        .flatten()
+        .chain(std::iter::once(&self.potential))
+        .map(|l| l.origin.as_str())
+        .collect()
     }
 
     /// The name of the background coordinate (`R`, `z` or `r`).

@@ -40,6 +40,12 @@ pub fn sound_speed_sq_from_temperature(t: Expr, mu: Expr) -> Expr {
     (Expr::name("k_B") * t / (mu * Expr::name("m_u"))).simplify()
 }
 
+/// Whether an adiabatic index means an isothermal gas: γ = 1 (to a few
+/// units in the last place), P = ρc² with no energy equation of its own.
+pub fn is_isothermal(gamma: f64) -> bool {
+    (gamma - 1.0).abs() <= 4.0 * f64::EPSILON
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -5,10 +5,10 @@
 //! and sampler, the stability cautions, and assembling the metadata. Does
 //! not own: command-line parsing or file formats.
 
-use crate::background::{Background, Shape};
-use crate::closure::{self, ClosureError, Domain, Solved};
 use std::path::Path;
 
+use crate::background::{Background, Shape};
+use crate::closure::{self, show, ClosureError, Domain, Solved};
 use crate::fields::{slab_ranges, FieldSet, Slab};
 use crate::grid::{Coord, Grid, Layout};
 use crate::keys::Keyed;
@@ -95,10 +95,21 @@ pub fn centres_for(grid: &Grid) -> Vec<f64> {
     }
 }
 
-/// Solve the profile's closure over its grid.
+/// Solve the profile's closure over its grid, refusing a state that is no
+/// equilibrium somewhere (for `build`).
 pub fn solve(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
     let domain = domain_for(&loaded.grid);
     let bg = closure::solve(&loaded.model, &domain).map_err(|e| Error::closure(loaded, e))?;
+    Ok((bg, domain))
+}
+
+/// Solve the profile's closure over its grid without refusing a state that
+/// is no equilibrium somewhere, so that `check` can report where and `table`
+/// can print the rows that exist.
+pub fn solve_unverified(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
+    let domain = domain_for(&loaded.grid);
+    let bg =
+        closure::solve_unverified(&loaded.model, &domain).map_err(|e| Error::closure(loaded, e))?;
     Ok((bg, domain))
 }
 
@@ -132,27 +143,42 @@ pub struct Built<'a> {
     pub metadata: Metadata,
 }
 
-/// Solve and describe; sampling happens as the output is written.
+/// Solve, verify and describe; sampling happens as the output is written.
+/// The verification is the check `stillpoint check` runs (jumps, the
+/// closed- or integral-form balance) at the default tolerance; a state that
+/// fails it is refused, except an audit (`solve_for: nothing`), which is
+/// written with a caution, and jumps the profile declares intended.
 pub fn build<'a>(
     loaded: &'a Loaded,
     command_line: &str,
     reproducible: bool,
 ) -> Result<Built<'a>, Error> {
     let (bg, domain) = solve(loaded)?;
+    let centres = centres_for(&loaded.grid);
+    let report = crate::check::run(
+        &loaded.model,
+        &bg,
+        &domain,
+        &centres,
+        crate::check::DEFAULT_TOLERANCE,
+    )
+    .map_err(|e| Error::closure(loaded, e))?;
+    let verified = verdict_cautions(loaded, &report)?;
     let metadata = Metadata {
         profile_json: loaded.json_text.clone(),
         command_line: command_line.to_string(),
         generator: format!("stillpoint {}", env!("CARGO_PKG_VERSION")),
         units: loaded.model.units,
         cautions: {
-            let mut c = cautions(loaded, &bg, &domain);
-            c.extend(audit_caution(loaded, &bg, &domain));
+            let mut c = verified;
+            c.extend(cautions(loaded, &bg, &domain));
             c
         },
         extra: vec![
             ("balance".into(), balance_description(&loaded.model).into()),
             ("solved_for".into(), loaded.model.unknown.key().into()),
             ("gamma".into(), format!("{}", loaded.model.gamma)),
+            ("gas_law".into(), gas_law(loaded.model.gamma).into()),
         ],
         reproducible,
     };
@@ -262,53 +288,24 @@ impl crate::output::AtPath for Error {
     }
 }
 
-/// Plain-language cautions: instability of the equilibrium and an anchor
-/// outside the grid.
+/// Plain-language cautions: instability of the equilibrium (see
+/// [`crate::stability`]), an unbounded force at the axis, single precision,
+/// and an anchor outside the grid.
 pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<String> {
     let m = &loaded.model;
     let s = m.coordinate();
-    let mut out = Vec::new();
-    let pts = domain.scan_points();
-    let states: Vec<_> = pts.iter().map(|&x| bg.on_line(x)).collect();
-    if m.shape == Shape::DiskMidplane {
-        // Rayleigh (1917): axisymmetric rotation is stable where the
-        // specific angular momentum (R v_φ)² grows outward.
-        if let Some(x) = pts.windows(2).zip(states.windows(2)).find_map(|(p, st)| {
-            let j0 = (p[0] * st[0].rotation()).powi(2);
-            let j1 = (p[1] * st[1].rotation()).powi(2);
-            (j1 < j0 * (1.0 - 1e-12)).then_some(p[0])
-        }) {
-            out.push(format!(
-                "the rotation law violates the Rayleigh criterion near {s} = {x:.6}: (R v_phi)^2 \
-                 decreases outward, so this equilibrium is dynamically unstable"
-            ));
-        }
-    } else {
-        // Schwarzschild criterion: convectively stable where the entropy
-        // ln P − γ ln ρ increases against gravity (towards higher Φ). An
-        // isentropic layer is neutral: its entropy change is the difference
-        // of two large terms, so only a fall beyond rounding of those terms
-        // (relative 1e-9) counts.
-        if let Some(x) = pts.windows(2).zip(states.windows(2)).find_map(|(p, st)| {
-            let dlp = st[1].pressure.ln() - st[0].pressure.ln();
-            let dlr = st[1].density.ln() - st[0].density.ln();
-            let ds = dlp - m.gamma * dlr;
-            let dphi = st[1].potential - st[0].potential;
-            let against = if dphi > 0.0 {
-                ds
-            } else if dphi < 0.0 {
-                -ds
-            } else {
-                return None;
-            };
-            (against < -1e-9 * (dlp.abs() + m.gamma * dlr.abs())).then_some(p[0])
-        }) {
-            out.push(format!(
-                "the stratification is convectively unstable near {s} = {x:.6} (Schwarzschild \
-                 criterion with gamma = {}): the entropy falls against gravity",
-                m.gamma
-            ));
-        }
+    let mut out = crate::stability::cautions(m, bg, domain);
+    if let Some(crate::closure::axis::Approach::SingularGradient { .. }) =
+        closure::axis_approach(m, domain)
+    {
+        out.push(format!(
+            "the gravity dPhi/d{s} grows without bound towards {s} = {} (the potential itself is \
+             finite there): the cells next to the {} feel an unbounded force; start the grid off \
+             the {} to avoid it",
+            domain.lo,
+            closure::axis_word(m),
+            closure::axis_word(m)
+        ));
     }
     if loaded.output.precision == crate::output::Precision::Single {
         out.push(crate::output::SINGLE_PRECISION_CAUTION.to_string());
@@ -325,6 +322,16 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
     out
 }
 
+/// The equation of state in a word, as files record it: `isothermal` for
+/// γ = 1 (P = ρc², no energy field), else `ideal` (energy P/(γ − 1) + ½ρ|v|²).
+pub fn gas_law(gamma: f64) -> &'static str {
+    if crate::physics::is_isothermal(gamma) {
+        "isothermal"
+    } else {
+        "ideal"
+    }
+}
+
 /// The balance in words, as `derive` prints it and files record it:
 /// `slab`, `sphere`, `disk midplane` or `vertically integrated disk` (where
 /// the density is a surface density and the pressure is integrated in z).
@@ -336,24 +343,55 @@ pub fn balance_description(m: &crate::model::Model) -> &'static str {
     }
 }
 
-/// For an audit (`solve_for: nothing`) whose laws do not balance, the caution
-/// a built file must carry: nothing was solved, so nothing else says that
-/// the state will move. `check` reports the same imbalance as its verdict.
-fn audit_caution(loaded: &Loaded, bg: &Solved, domain: &Domain) -> Option<String> {
+/// What the verification means for a build: an error for a jump that is
+/// not intended and for a solved state that misses the tolerance; cautions
+/// for intended jumps and for an audit (`solve_for: nothing`) whose laws do
+/// not balance — nothing was solved, so nothing else says that the state
+/// will move. `check` reports the same as its verdict.
+fn verdict_cautions(loaded: &Loaded, report: &crate::check::Report) -> Result<Vec<String>, Error> {
     let m = &loaded.model;
-    if m.unknown != crate::model::Unknown::Nothing {
-        return None;
+    let s = m.coordinate();
+    let refuse =
+        |message: String| Err(Error::closure(loaded, ClosureError::NoEquilibrium(message)));
+    let unintended: Vec<_> = report.jumps.iter().filter(|j| !j.intended).collect();
+    if let Some(j) = unintended.first() {
+        let more = match unintended.len() {
+            1 => String::new(),
+            n => format!(" (and {} more: `stillpoint check` lists them)", n - 1),
+        };
+        return refuse(format!(
+            "{}{more}, and the balance differentiates it. Make the switch smooth over a few \
+             cells (a step from A to B as A + (B - A)*0.5*(1 + tanh(({s} - {})/w)) with w about \
+             two cells) or, if the jump is intended, list the law in balance.intended_jumps",
+            j.describe(s),
+            show(j.at)
+        ));
     }
-    let centres = centres_for(&loaded.grid);
-    let report =
-        crate::check::run(m, bg, domain, &centres, crate::check::DEFAULT_TOLERANCE).ok()?;
-    match report.verdict {
-        crate::check::Verdict::NotEquilibrium { max, at } => Some(format!(
+    let mut out: Vec<String> = report
+        .jumps
+        .iter()
+        .map(|j| {
+            format!(
+                "{}, intended by balance.intended_jumps: the state is not an equilibrium there \
+                 and will move from the first step",
+                j.describe(s)
+            )
+        })
+        .collect();
+    if let crate::check::Verdict::NotEquilibrium { max, at } = report.verdict {
+        if m.unknown != crate::model::Unknown::Nothing {
+            return refuse(format!(
+                "the solved state misses the balance: the largest relative residual is {max:.3e} \
+                 at {s} = {} (tolerance {:.1e}); nothing was written",
+                show(at),
+                report.tolerance
+            ));
+        }
+        out.push(format!(
             "the given laws are not an equilibrium (balance.solve_for is nothing): the largest \
-             relative residual is {max:.3e} at {} = {at:.6}; the state will move from the first \
-             step (run `stillpoint check` for details)",
-            m.coordinate()
-        )),
-        _ => None,
+             relative residual is {max:.3e} at {s} = {at:.6}; the state will move from the first \
+             step (run `stillpoint check` for details)"
+        ));
     }
+    Ok(out)
 }

@@ -1,8 +1,12 @@
 //! Tables of a background along its coordinate: rotation curves for disks
 //! (v_φ, Ω, v_K, v_φ/v_K, 1 − v_φ/v_K, H/R) and stratification for slabs.
 //!
-//! Owns: the columns, their units and the text and CSV renderings. Does not
-//! own: solving (it reads a [`Background`]).
+//! Rows where the state is no equilibrium (v_φ² < 0, a density or pressure
+//! that is not positive) are printed with what can be computed and marked
+//! in a last `note` column, present only when some row needs it.
+//!
+//! Owns: the columns, their units, the marks and the text and CSV
+//! renderings. Does not own: solving (it reads a [`Background`]).
 
 use crate::background::{Background, Shape};
 use crate::closure::ClosureError;
@@ -18,6 +22,8 @@ pub struct Table {
     pub units: Vec<String>,
     /// Rows of values.
     pub rows: Vec<Vec<f64>>,
+    /// For each row, why the state is no equilibrium there, if it is not.
+    pub notes: Vec<Option<String>>,
 }
 
 /// Tabulate the background at the points `at` (background coordinate).
@@ -55,10 +61,31 @@ pub fn tabulate(model: &Model, bg: &dyn Background, at: &[f64]) -> Result<Table,
             ("H/R", Dim::NONE),
         ]);
     }
+    let v2 = match &model.rotation {
+        // A given rotation law: v_φ² = v_φ·v_φ is never negative.
+        Some(_) => None,
+        None if disk => crate::closure::Laws::build(model)?
+            .rotation_sq
+            .map(|e| crate::closure::compile(model, &e, "rotation"))
+            .transpose()?,
+        None => None,
+    };
     let mut rows = Vec::with_capacity(at.len());
+    let mut notes = Vec::with_capacity(at.len());
     for &x in at {
         let st = bg.on_line(x);
         let c2 = st.sound_speed_sq();
+        let fails = |v: f64| crate::closure::existence::Extent::fails(true, v);
+        let v2x = v2.as_ref().map_or(0.0, |p| p.eval(&[x]));
+        notes.push(if fails(st.density) {
+            Some(format!("no equilibrium: density {:e}", st.density))
+        } else if fails(st.pressure) {
+            Some(format!("no equilibrium: pressure {:e}", st.pressure))
+        } else if v2x < 0.0 {
+            Some(format!("no equilibrium: v_phi^2 = {v2x:.3e} < 0"))
+        } else {
+            None
+        });
         let mut row = vec![x, st.density, st.pressure, c2];
         if let Some(t) = tfac {
             row.push(t * c2);
@@ -82,6 +109,7 @@ pub fn tabulate(model: &Model, bg: &dyn Background, at: &[f64]) -> Result<Table,
         names: cols.iter().map(|(n, _)| n.to_string()).collect(),
         units: cols.iter().map(|(_, d)| u(*d)).collect(),
         rows,
+        notes,
     })
 }
 
@@ -89,18 +117,31 @@ impl Table {
     /// Aligned text with a header of names and a line of units; values that
     /// are not finite (v_φ/v_K without gravity, Ω on the axis) print as `-`.
     pub fn to_text(&self) -> String {
+        let noted = self.notes.iter().any(Option::is_some);
         let cells: Vec<Vec<String>> = self
             .rows
             .iter()
-            .map(|r| r.iter().map(|v| number(*v)).collect())
+            .zip(&self.notes)
+            .map(|(r, n)| {
+                let mut c: Vec<String> = r.iter().map(|v| number(*v)).collect();
+                if noted {
+                    c.push(n.clone().unwrap_or_default());
+                }
+                c
+            })
             .collect();
-        let units: Vec<String> = self.units.iter().map(|u| format!("[{u}]")).collect();
-        let width: Vec<usize> = (0..self.names.len())
+        let mut names = self.names.clone();
+        let mut units: Vec<String> = self.units.iter().map(|u| format!("[{u}]")).collect();
+        if noted {
+            names.push("note".into());
+            units.push(String::new());
+        }
+        let width: Vec<usize> = (0..names.len())
             .map(|j| {
                 cells
                     .iter()
                     .map(|r| r[j].len())
-                    .chain([self.names[j].len(), units[j].len()])
+                    .chain([names[j].len(), units[j].len()])
                     .max()
                     .unwrap_or(0)
             })
@@ -109,30 +150,44 @@ impl Table {
             items
                 .iter()
                 .zip(&width)
-                .map(|(c, w)| format!("{c:>w$}"))
+                .enumerate()
+                .map(|(j, (c, w))| {
+                    if j == self.names.len() {
+                        format!("{c:<w$}")
+                    } else {
+                        format!("{c:>w$}")
+                    }
+                })
                 .collect::<Vec<_>>()
                 .join("  ")
+                .trim_end()
+                .to_string()
         };
-        let mut out = vec![line(&self.names), line(&units)];
+        let mut out = vec![line(&names), line(&units)];
         out.extend(cells.iter().map(|r| line(r)));
         out.join("\n") + "\n"
     }
 
-    /// CSV with a header of `name [units]` and full-precision numbers.
+    /// CSV with a header of `name [units]` and full-precision numbers (and
+    /// a last `note` column when some row is marked).
     pub fn to_csv(&self) -> String {
-        let head: Vec<String> = self
+        let noted = self.notes.iter().any(Option::is_some);
+        let mut head: Vec<String> = self
             .names
             .iter()
             .zip(&self.units)
             .map(|(n, u)| format!("{n} [{u}]"))
             .collect();
+        if noted {
+            head.push("note".into());
+        }
         let mut out = head.join(",") + "\n";
-        for r in &self.rows {
-            out += &r
-                .iter()
-                .map(|v| format!("{v:e}"))
-                .collect::<Vec<_>>()
-                .join(",");
+        for (r, n) in self.rows.iter().zip(&self.notes) {
+            let mut cells: Vec<String> = r.iter().map(|v| format!("{v:e}")).collect();
+            if noted {
+                cells.push(n.clone().unwrap_or_default());
+            }
+            out += &cells.join(",");
             out.push('\n');
         }
         out

@@ -96,6 +96,20 @@ pub enum UnitSystem {
     Astro,
 }
 
+/// One base unit of a physical unit system: what it measures, its symbol,
+/// and what it is worth in cgs and in SI units of the same dimension.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct BaseUnit {
+    /// `length`, `mass`, `time` or `temperature`.
+    pub dimension: &'static str,
+    /// The unit's symbol (`au`, `M_sun`, `yr`, `K`).
+    pub symbol: &'static str,
+    /// Its value in cm, g, s or K.
+    pub cgs: f64,
+    /// Its value in m, kg, s or K.
+    pub si: f64,
+}
+
 /// The constants of one unit system.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Constants {
@@ -114,9 +128,9 @@ impl UnitSystem {
         self != UnitSystem::Code
     }
 
-    /// The base units as (name, symbol, value in cgs) for length, mass, time
-    /// and temperature; None in code units.
-    pub fn base_units(self) -> Option<[(&'static str, &'static str, f64); 4]> {
+    /// The base units of length, mass, time and temperature, in that order;
+    /// None in code units.
+    pub fn base_units(self) -> Option<[BaseUnit; 4]> {
         let (l, m, t) = match self {
             UnitSystem::Code => return None,
             UnitSystem::Si => (
@@ -135,7 +149,20 @@ impl UnitSystem {
                 ("time", "yr", YEAR_SI),
             ),
         };
-        Some([l, m, t, ("temperature", "K", 1.0)])
+        // cgs and SI differ by 100 in length and 1000 in mass.
+        let unit =
+            |(dimension, symbol, cgs): (&'static str, &'static str, f64), per_si: f64| BaseUnit {
+                dimension,
+                symbol,
+                cgs,
+                si: cgs / per_si,
+            };
+        Some([
+            unit(l, 100.0),
+            unit(m, 1000.0),
+            unit(t, 1.0),
+            unit(("temperature", "K", 1.0), 1.0),
+        ])
     }
 
     /// The constants in this system.
@@ -172,7 +199,12 @@ impl UnitSystem {
             return "code".to_string();
         };
         let powers = [dim.mass, dim.length, dim.time, dim.temperature];
-        let symbols = [base[1].1, base[0].1, base[2].1, base[3].1];
+        let symbols = [
+            base[1].symbol,
+            base[0].symbol,
+            base[2].symbol,
+            base[3].symbol,
+        ];
         let mut parts = Vec::new();
         for (p, s) in powers.iter().zip(symbols) {
             match p {

@@ -549,3 +549,369 @@ fn issue5_reserved_words_are_not_parameter_names() {
         );
     }
 }
+
+/// Run `verb` on `profile` written into a fresh folder; returns the folder
+/// (so files can be inspected), the exit code and the combined output.
+fn run_on(profile: &str, args: &[&str]) -> (tempfile::TempDir, Option<i32>, String) {
+    let d = tmp();
+    std::fs::write(d.path().join("p.json"), profile).unwrap();
+    let mut all = vec![args[0], "p.json"];
+    all.extend(&args[1..]);
+    let o = stillpoint(d.path(), &all);
+    (d, o.status.code(), text(&o))
+}
+
+/// `check` exits 1 naming the law, the place and the size of the jump, and
+/// `build` refuses (exit 2, no file) with the same facts and the advice.
+fn assert_jump_refused(profile: &str, facts: &[&str]) {
+    let (_d, code, t) = run_on(profile, &["check"]);
+    assert_eq!(code, Some(1), "{t}");
+    assert!(t.contains("NOT AN EQUILIBRIUM"), "{t}");
+    for f in facts {
+        assert!(t.contains(f), "check output lacks `{f}`: {t}");
+    }
+    let t = bad_build(profile, &[]);
+    for f in facts.iter().chain(&["tanh", "balance.intended_jumps"]) {
+        assert!(t.contains(f), "build error lacks `{f}`: {t}");
+    }
+}
+
+/// Σ ∝ R^−p with a cavity Σ × 1e-3 inside R_cav = 0.8 and derived rotation:
+/// P = Σc² jumps by 1000 and the balance differentiates P. Used to pass as
+/// identically zero. The relative jump is 1 − 1e-3.
+#[test]
+fn issue5_cavity_disk_jump_is_not_an_equilibrium() {
+    let p = DISK
+        .replace(
+            "\"sigma0*(R/R0)^(-p)\"",
+            "\"sigma0*R^(-p)*(floor if R < R_cav else 1)\"",
+        )
+        .replace(
+            "\"h0\": 0.05,",
+            "\"h0\": 0.05, \"R_cav\": 0.8, \"floor\": 1e-3,",
+        )
+        .replace("\"cells\": 384", "\"cells\": 8");
+    assert!(p.contains("R_cav"), "rewrite failed");
+    assert_jump_refused(
+        &p,
+        &[
+            "balance.density",
+            "jumps at R = 0.8",
+            "relative jump 9.990e-1",
+        ],
+    );
+    // Declared intended: the build writes the file with a caution, and check
+    // passes with the jump listed.
+    let intended = p.replace(
+        "\"vertically_integrated\": true",
+        "\"vertically_integrated\": true, \"intended_jumps\": [\"balance.density\"]",
+    );
+    let (d, code, t) = run_on(&intended, &["build", "-o", "cav.h5"]);
+    assert_eq!(code, Some(0), "{t}");
+    let f = hdf5::File::open(d.path().join("cav.h5")).unwrap();
+    let c: hdf5::types::VarLenUnicode = f.attr("cautions").unwrap().read_scalar().unwrap();
+    assert!(
+        c.as_str().contains("intended by balance.intended_jumps"),
+        "{}",
+        c.as_str()
+    );
+    let (_d, code, t) = run_on(&intended, &["check"]);
+    assert_eq!(code, Some(0), "{t}");
+    assert!(t.contains("intended (balance.intended_jumps)"), "{t}");
+    // A key that is not a law of the profile is refused by name.
+    let typo = intended.replace("[\"balance.density\"]", "[\"balance.densty\"]");
+    let t = bad_build(&typo, &[]);
+    assert!(
+        t.contains("balance.intended_jumps[0]") && t.contains("did you mean `balance.density`"),
+        "{t}"
+    );
+}
+
+/// c² = 0.01 inside R = 1, 0.02 outside, with Σ given and rotation derived:
+/// P = Σc² doubles at R = 1 (relative jump 1/2).
+#[test]
+fn issue5_two_level_sound_speed_jump_is_not_an_equilibrium() {
+    let p = DISK
+        .replace("\"cs2_0*(R/R0)^(-q)\"", "\"0.01 if R < 1 else 0.02\"")
+        .replace("\"cells\": 384", "\"cells\": 8");
+    assert!(p.contains("0.02"), "rewrite failed");
+    assert_jump_refused(
+        &p,
+        &[
+            "gas.sound_speed_sq",
+            "jumps at R = 1 ",
+            "relative jump 5.000e-1",
+        ],
+    );
+}
+
+/// An audit of a slab whose pressure (and density) halve at z = 1: each
+/// side balances (P = ρ = e^(−z) times a constant, g = c² = 1), but P jumps
+/// by 1/2 where the balance differentiates it.
+#[test]
+fn issue5_halving_slab_audit_jump_is_not_an_equilibrium() {
+    let p = r#"{ "name": "halving", "units": "code",
+      "parameters": { "g0": 1.0 },
+      "gravity": { "uniform": "g0" },
+      "gas": { "gamma": 1.4 },
+      "balance": { "shape": "slab", "solve_for": "nothing",
+         "density": "exp(-z)*(1 if z < 1 else 0.5)", "pressure": "exp(-z)*(1 if z < 1 else 0.5)" },
+      "grid": { "z": { "from": 0, "to": 3, "cells": 64 } } }"#;
+    assert_jump_refused(
+        p,
+        &[
+            "balance.pressure",
+            "jumps at z = 1 ",
+            "relative jump 5.000e-1",
+        ],
+    );
+}
+
+/// Contacts are equilibria: a slab solved for density with c² doubling at
+/// z = 1 (ρ halves, P continuous: ∂ln P/∂z = −g/c² holds no derivative of
+/// c²), and a slab solved for pressure whose density halves at z = 1 (the
+/// pressure integral only sees ρ). Both check PASS and build without caution.
+#[test]
+fn issue5_contact_discontinuities_pass() {
+    let contact = GOOD.replace(
+        "\"sound_speed_sq\": \"cs2\"",
+        "\"sound_speed_sq\": \"cs2 if z < 1 else 2*cs2\"",
+    );
+    let density_step = GOOD
+        .replace(
+            "\"gamma\": 1.4, \"sound_speed_sq\": \"cs2\"",
+            "\"gamma\": 1.4",
+        )
+        .replace(
+            "\"solve_for\": \"density\"",
+            "\"solve_for\": \"pressure\", \"density\": \"exp(-z)*(1 if z < 1 else 0.5)\"",
+        );
+    for p in [contact, density_step] {
+        assert_ne!(p, GOOD, "rewrite failed");
+        let (_d, code, t) = run_on(&p, &["check"]);
+        assert_eq!(code, Some(0), "{t}");
+        assert!(t.contains("PASS") && !t.contains("jump"), "{t}");
+        let (_d, code, t) = run_on(&p, &["build", "-o", "c.h5"]);
+        assert_eq!(code, Some(0), "{t}");
+        assert!(!t.contains("caution"), "{t}");
+    }
+}
+
+/// A disk whose pressure gradient outgrows gravity (h0 = 0.9): the derived
+/// v_φ² = GM/R − (p + q)c² (Takeuchi & Lin 2002, ApJ 581, 1344, eq. 7 in
+/// its vertically integrated form) with c² = h0² GM R^(−q) is negative for
+/// R > (1/((p + q) h0²))^(1/(1 − q)) = 0.677404 and reaches
+/// 0.4 − 1.5·0.81/√2.5 = −0.368434 at R = 2.5. `check` reports that as a
+/// failed check (exit 1) with the interval and the minimum; `table` prints
+/// every row and marks the impossible ones; `build` refuses (exit 2).
+#[test]
+fn issue5_check_reports_negative_rotation_as_a_failed_check() {
+    let d = tmp();
+    let o = stillpoint(d.path(), &["check", "powerlaw-disk", "--set", "h0=0.9"]);
+    let t = text(&o);
+    assert_eq!(o.status.code(), Some(1), "{t}");
+    let r0 = (1.0f64 / (1.5 * 0.81)).powf(2.0);
+    assert!((r0 - 0.677404).abs() < 5e-7, "{r0}");
+    for want in [
+        "v_phi^2      min -3.684335e-1 at R = 2.500000  FAILS",
+        "v_phi^2 < 0 between R = 0.677404 and R = 2.5",
+        "result         FAIL",
+    ] {
+        assert!(t.contains(want), "`{want}` in {t}");
+    }
+    let o = stillpoint(
+        d.path(),
+        &["table", "powerlaw-disk", "--set", "h0=0.9", "--points", "5"],
+    );
+    let t = text(&o);
+    assert_eq!(o.status.code(), Some(0), "{t}");
+    let rows: Vec<&str> = t.lines().skip(2).collect();
+    assert_eq!(rows.len(), 5, "{t}");
+    assert!(
+        !rows[0].contains("no equilibrium") && !rows[1].contains("no equilibrium"),
+        "{t}"
+    );
+    assert!(
+        rows[2..]
+            .iter()
+            .all(|r| r.contains("no equilibrium: v_phi^2 =")),
+        "{t}"
+    );
+    assert!(rows[4].contains("-3.684e-1"), "{t}");
+    let t = bad_build(&DISK.replace("\"h0\": 0.05", "\"h0\": 0.9"), &[]);
+    assert!(t.contains("v_phi^2 < 0 between R = 0.677404"), "{t}");
+    // Σ = 1 − R: no equilibrium from R = 1 outward; check names the cause.
+    let (_d, code, t) = run_on(
+        &DISK.replace("\"sigma0*(R/R0)^(-p)\"", "\"1 - R\""),
+        &["check"],
+    );
+    assert_eq!(code, Some(1), "{t}");
+    assert!(
+        t.contains("no equilibrium: density ≤ 0 at R = 1 through R = 2.5 (minimum -1.500000e0"),
+        "{t}"
+    );
+}
+
+/// The singularity test reads the potential law itself: a halo potential
+/// −GM ln(1 + r/r_s)/r is finite at r = 0 (its limit is −GM/r_s) and builds
+/// from the centre; a potential law −GM/r is singular there and is refused
+/// with advice for a law (start off the centre), not for a point mass; an
+/// unsoftened point mass gets the softening advice; Φ = √r is finite but its
+/// force is not, which the file's cautions say.
+#[test]
+fn issue5_halo_potential_builds_from_the_centre() {
+    let halo = r#"{ "name": "halo", "units": "code",
+      "parameters": { "M": 1.0, "r_s": 1.0, "cs2": 0.3 },
+      "gravity": { "potential": "-G*M*log(1 + r/r_s)/r" },
+      "gas": { "gamma": 1.4, "sound_speed_sq": "cs2" },
+      "balance": { "shape": "sphere", "solve_for": "density", "anchor": { "at": 1, "value": 1 } },
+      "grid": { "r": { "from": 0, "to": 10, "cells": 64 } } }"#;
+    let (d, code, t) = run_on(halo, &["build", "-o", "halo.h5"]);
+    assert_eq!(code, Some(0), "{t}");
+    assert!(!t.contains("singular") && !t.contains("caution"), "{t}");
+    let f = hdf5::File::open(d.path().join("halo.h5")).unwrap();
+    let phi: Vec<f64> = f.dataset("state/potential").unwrap().read_raw().unwrap();
+    let r: Vec<f64> = f.dataset("grid/r_centers").unwrap().read_raw().unwrap();
+    assert!(
+        (phi[0] + r[0].ln_1p() / r[0]).abs() < 1e-15,
+        "{} at r = {}",
+        phi[0],
+        r[0]
+    );
+    let (_d, code, t) = run_on(halo, &["check"]);
+    assert_eq!(code, Some(0), "{t}");
+
+    let law = halo.replace("-G*M*log(1 + r/r_s)/r", "-G*M/r");
+    let t = bad_build(&law, &[]);
+    assert!(t.contains("the potential is singular at r = 0"), "{t}");
+    assert!(
+        t.contains("start the grid off the centre") && t.contains("gravity.potential"),
+        "{t}"
+    );
+    assert!(!t.contains("soften"), "{t}");
+    let point = halo.replace(
+        r#""potential": "-G*M*log(1 + r/r_s)/r""#,
+        r#""point_mass": "M""#,
+    );
+    let t = bad_build(&point, &[]);
+    assert!(
+        t.contains("soften the point mass (gravity.softening)"),
+        "{t}"
+    );
+
+    // Φ = √R: finite on the axis, unbounded force. With a closed-form
+    // closure (rotation derived, v_φ² = R Φ_R → 0) the file is written with
+    // a caution; an integrated one cannot be verified through it and is
+    // refused with the same advice.
+    let disk = r#"{ "name": "cusp", "units": "code",
+      "parameters": { "cs2": 0.01 },
+      "gravity": { "potential": "sqrt(R)" },
+      "gas": { "sound_speed_sq": "cs2" },
+      "balance": { "shape": "disk", "solve_for": "rotation", "density": "1" },
+      "grid": { "R": { "from": 0, "to": 2, "cells": 32 } } }"#;
+    let (_d, code, t) = run_on(disk, &["build", "-o", "cusp.h5"]);
+    assert_eq!(code, Some(0), "{t}");
+    assert!(
+        t.contains("caution: the gravity dPhi/dR grows without bound towards R = 0"),
+        "{t}"
+    );
+    let t = bad_build(&halo.replace("-G*M*log(1 + r/r_s)/r", "sqrt(r)"), &[]);
+    assert!(
+        t.contains("unbounded at r = 0") && t.contains("start the grid off the centre"),
+        "{t}"
+    );
+}
+
+/// γ = 1, the isothermal gas of everyday disk simulations: the profile and
+/// the sampler accept it, no energy field is written (there is no energy
+/// equation), the file says `gas_law = isothermal`, and the convective
+/// caution does not apply (even to a layer with dc²/dz = −0.45 g, steeper
+/// than the adiabatic −g(γ − 1)/γ = −0.4 g of γ = 5/3, which with γ = 5/3 is
+/// cautioned). γ < 1 is refused by name.
+#[test]
+fn issue5_isothermal_gas_builds() {
+    let iso = GOOD.replace("\"gamma\": 1.4", "\"gamma\": 1");
+    assert_ne!(iso, GOOD, "rewrite failed");
+    let (d, code, t) = run_on(&iso, &["build", "-o", "iso.h5"]);
+    assert_eq!(code, Some(0), "{t}");
+    assert!(!t.contains("caution"), "{t}");
+    let f = hdf5::File::open(d.path().join("iso.h5")).unwrap();
+    let names = f.group("state").unwrap().member_names().unwrap();
+    assert!(
+        !names.iter().any(|n| n == "energy") && names.iter().any(|n| n == "pressure"),
+        "{names:?}"
+    );
+    let law: hdf5::types::VarLenUnicode = f.attr("gas_law").unwrap().read_scalar().unwrap();
+    assert_eq!(law.as_str(), "isothermal");
+    let (_d, code, t) = run_on(&iso, &["check"]);
+    assert_eq!(code, Some(0), "{t}");
+
+    let steep = GOOD.replace(
+        "\"sound_speed_sq\": \"cs2\"",
+        "\"sound_speed_sq\": \"cs2*(4 - 0.45*z)\"",
+    );
+    let (_d, _, t) = run_on(
+        &steep.replace("\"gamma\": 1.4", "\"gamma\": 1.6666666666666667"),
+        &["check"],
+    );
+    assert!(t.contains("convectively unstable"), "{t}");
+    let (_d, code, t) = run_on(
+        &steep.replace("\"gamma\": 1.4", "\"gamma\": 1"),
+        &["build", "-o", "s.h5"],
+    );
+    assert_eq!(code, Some(0), "{t}");
+    assert!(!t.contains("convectively"), "{t}");
+
+    let t = bad_build(&GOOD.replace("\"gamma\": 1.4", "\"gamma\": 0.9"), &[]);
+    assert!(
+        t.contains("gas.gamma: must be at least 1 (1 is an isothermal gas), found 0.9"),
+        "{t}"
+    );
+}
+
+/// The unit record of our own: `/scales` names the system and G, and holds
+/// for each base dimension its symbol and its value in cgs and SI; the old
+/// root attributes are gone. Files in every unit system are read back with
+/// h5py and compared with astropy's units and constants
+/// (tests/h5_scales_check.py: IAU 2012 B2 au, IAU 2015 B3 solar mass,
+/// Julian year, CODATA 2018 G).
+#[test]
+fn issue5_unit_record_of_our_own() {
+    let d = tmp();
+    let ring = include_str!("../profiles/ring-disk.json")
+        .replace("\"cells\": 240", "\"cells\": 16")
+        .replace("\"cells\": 256", "\"cells\": 4");
+    let layered = include_str!("../profiles/layered-atmosphere.json");
+    let cases = [
+        ("astro", ring),
+        ("si", layered.to_string()),
+        (
+            "cgs",
+            layered.replace("\"units\": \"si\"", "\"units\": \"cgs\""),
+        ),
+        ("code", GOOD.to_string()),
+    ];
+    let mut files = Vec::new();
+    for (units, p) in cases {
+        assert!(p.contains(&format!("\"units\": \"{units}\"")), "{units}");
+        let name = format!("{units}.json");
+        std::fs::write(d.path().join(&name), p).unwrap();
+        let out = format!("{units}.h5");
+        let o = stillpoint(d.path(), &["build", &name, "-o", &out]);
+        assert!(o.status.success(), "{units}: {}", text(&o));
+        files.push(d.path().join(out));
+    }
+    let f = hdf5::File::open(&files[0]).unwrap();
+    assert!(f.attr("unit_system").is_err() && f.attr("unit_length").is_err());
+    let length = f.group("scales/length").unwrap();
+    let symbol: hdf5::types::VarLenUnicode = length.attr("symbol").unwrap().read_scalar().unwrap();
+    assert_eq!(symbol.as_str(), "au");
+    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/h5_scales_check.py");
+    let o = Command::new("python3")
+        .arg(script)
+        .args(&files)
+        .output()
+        .expect("python3 with h5py and astropy is needed (.ci/run installs them with pip)");
+    assert!(o.status.success(), "{}", text(&o));
+    assert!(text(&o).contains("all checks passed"), "{}", text(&o));
+}

@@ -4,8 +4,8 @@
 Usage: h5_balance_check.py FILE...
 
 For each file: the root attributes (profile, command_line, generator,
-unit_system, sampling, cautions, created) and the per-dataset attributes
-(units, sampling) must exist; momentum must equal density × velocity; and the
+sampling, cautions, created), the unit record /scales with its `system`
+attribute, and the per-dataset attributes (units, sampling) must exist; momentum must equal density × velocity; and the
 discrete residual of the balance, with numpy second-order central differences
 on interior cells, is reported relative to the largest term:
 
@@ -22,7 +22,7 @@ from collections import defaultdict
 import h5py
 import numpy as np
 
-ROOT_ATTRS = ["profile", "command_line", "generator", "unit_system", "sampling", "cautions", "created"]
+ROOT_ATTRS = ["profile", "command_line", "generator", "sampling", "cautions", "created"]
 MIN_RATIO = 3.5
 
 
@@ -43,6 +43,8 @@ def check_file(path, failures):
         for name in ROOT_ATTRS:
             if name not in h5.attrs:
                 failures.append(f"{path}: root attribute `{name}` missing")
+        if "scales" not in h5 or "system" not in h5["scales"].attrs:
+            failures.append(f"{path}: the unit record /scales (with `system`) is missing")
         if not text(h5.attrs.get("generator", "")).startswith("stillpoint"):
             failures.append(f"{path}: generator attribute does not name stillpoint")
         for group in ("background", "state"):

@@ -377,3 +377,219 @@ fn issue2_retrograde_rotation_keeps_its_sign() {
         assert!(rel(b.pressure, a.pressure) < 1e-15);
     }
 }
+
+/// A hot window 4e-4 wide on a slab 30 long (c² = 4 inside |z − z0| < w,
+/// 1 outside, g = 1): the window lies between grid edges and is far
+/// narrower than any uniform scan, yet its switch points z0 ± w must be
+/// found from the condition itself. The closed form is the hydrostatic
+/// integral ln P(z) = ln P(z_a) − g ∫ dz/c², piecewise linear in z (same
+/// textbook isothermal relation as `isothermal_slab_matches_exponential_closed_form`).
+#[test]
+fn issue5_narrow_window_is_found_and_integrated_exactly() {
+    let text = r#"{
+      "name": "t", "units": "code",
+      "parameters": { "g0": 1.0, "z0": 12.3456, "w": 2e-4, "c_in": 4.0, "c_out": 1.0 },
+      "gravity": { "uniform": "g0" },
+      "gas": { "sound_speed_sq": "c_in if abs(z - z0) < w else c_out" },
+      "balance": { "shape": "slab", "solve_for": "density", "anchor": { "at": 0.01, "value": 1 } },
+      "grid": { "z": { "from": 0.01, "to": 30, "cells": 100 } }
+    }"#;
+    let l = load(text, &[]);
+    let (bg, domain) = pipeline::solve(&l).unwrap();
+    let (z0, w) = (12.3456, 2e-4);
+    let switches: Vec<f64> = domain.switches(&l.model).iter().map(|s| s.at).collect();
+    assert_eq!(
+        switches.len(),
+        3,
+        "z0 - w, z0 (the kink of abs) and z0 + w: {switches:?}"
+    );
+    assert!((switches[0] - (z0 - w)).abs() < 1e-14 && (switches[2] - (z0 + w)).abs() < 1e-14);
+    let exact = |z: f64| {
+        let inside = (z.min(z0 + w) - (z0 - w)).max(0.0);
+        -((z - 0.01 - inside) / 1.0 + inside / 4.0)
+    };
+    let mut worst = 0.0f64;
+    let probes = (0..=300).map(|i| 0.01 + 0.0999 * i as f64);
+    let near = [-1.5, -1.0, -0.999, -0.5, 0.0, 0.5, 0.999, 1.0, 1.5].map(|t| z0 + t * w);
+    for z in probes.chain(near) {
+        let err = (bg.on_line(z).pressure.ln() - exact(z)).abs() / exact(z).abs().max(1.0);
+        worst = worst.max(err);
+    }
+    assert!(worst < 1e-13, "worst relative error of ln P {worst:e}");
+    let across = bg.on_line(z0 + w).pressure.ln() - bg.on_line(z0 - w).pressure.ln();
+    // Across the window itself: Δ ln P = −2w/c_in = −1e-4, to the rounding
+    // of ln P ≈ −12.3 (ulp 1.8e-15).
+    assert!((across + 2.0 * w / 4.0).abs() < 1e-14, "{across}");
+    assert!(matches!(verdict(&l), Verdict::ZeroToTolerance { max, .. } if max < 1e-13));
+}
+
+/// An exactly Keplerian, isothermal disk solved for density: with
+/// v_φ² = GM/R = R ∂Φ/∂R and ∂c²/∂R = 0 the radial balance gives
+/// ∂ln ρ/∂R = 0, so ρ ≡ ρ(anchor) (Kepler's law for a point mass). The
+/// integrand v_φ²/R − Φ_R cancels to rounding, so the residual must be
+/// measured against the size of its terms, not of their net sum.
+#[test]
+fn issue5_keplerian_isothermal_disk_solved_for_density_passes_at_round_off() {
+    let text = r#"{
+      "name": "t", "units": "code",
+      "parameters": { "M": 1.0, "cs2": 0.0025 },
+      "gravity": { "point_mass": "M" },
+      "gas": { "sound_speed_sq": "cs2" },
+      "balance": { "shape": "disk", "solve_for": "density", "rotation": "sqrt(G*M/R)",
+                   "anchor": { "at": 1, "value": 1 } },
+      "grid": { "R": { "from": 0.4, "to": 2.5, "cells": 64, "spacing": "log" } }
+    }"#;
+    let l = load(text, &[]);
+    let (bg, _) = pipeline::solve(&l).unwrap();
+    for i in 0..=42 {
+        let r = 0.4 + 0.05 * i as f64;
+        assert!((bg.on_line(r).density - 1.0).abs() < 1e-13, "R = {r}");
+    }
+    match verdict(&l) {
+        Verdict::ZeroToTolerance { max, .. } => assert!(max < 1e-15, "{max:e}"),
+        v => panic!("expected zero to tolerance at round-off, got {v:?}"),
+    }
+}
+
+/// Isothermal gas in a halo potential Φ = −GM ln(1 + r/r_s)/r on a grid
+/// that starts at the centre: Φ → −GM/r_s there (ln(1 + x) = x − …), so
+/// nothing is singular and the profile must build. Hydrostatic isothermal
+/// gas has P = P_a exp(−(Φ − Φ_a)/c²) in any potential (the isothermal gas
+/// of Makino, Sasaki & Suto 1998, ApJ 497, 555, in an NFW-type halo). The
+/// integrand is 0/0 at r = 0 and loses every digit in double precision
+/// next to it, so this also pins the careful evaluation there.
+#[test]
+fn issue5_halo_potential_from_the_centre_is_regular() {
+    let text = r#"{
+      "name": "t", "units": "code",
+      "parameters": { "M": 1.0, "r_s": 1.0, "cs2": 0.3 },
+      "gravity": { "potential": "-G*M*log(1 + r/r_s)/r" },
+      "gas": { "sound_speed_sq": "cs2" },
+      "balance": { "shape": "sphere", "solve_for": "density", "anchor": { "at": 1, "value": 1 } },
+      "grid": { "r": { "from": 0, "to": 10, "cells": 64 } }
+    }"#;
+    let l = load(text, &[]);
+    let (bg, domain) = pipeline::solve(&l).unwrap();
+    let phi = |r: f64| -(r.ln_1p()) / r;
+    for r in [1e-9, 1e-6, 1e-3, 0.05, 0.3, 1.0, 2.7, 10.0] {
+        let want = (-(phi(r) - phi(1.0)) / 0.3).exp();
+        assert!(
+            rel(bg.on_line(r).pressure, want) < 1e-13,
+            "r = {r}: {} vs {want}",
+            bg.on_line(r).pressure
+        );
+    }
+    // The potential at the centre itself is its limit −GM/r_s.
+    assert!((bg.on_line(0.0).potential + 1.0).abs() < 1e-15);
+    assert!(pipeline::cautions(&l, &bg, &domain).is_empty());
+    assert!(matches!(verdict(&l), Verdict::ZeroToTolerance { max, .. } if max < 1e-13));
+}
+
+/// The buoyancy frequency of a layer of linear temperature T(z) in uniform
+/// gravity g, for an ideal gas with c_p = γ/(γ − 1) k_B/(μ m_u):
+/// N² = (g/T)(dT/dz + g/c_p) (the dry-adiabatic form of N² = (g/θ) dθ/dz;
+/// e.g. Holton & Hakim 2013, An Introduction to Dynamic Meteorology, 5th
+/// ed., §2.7, and Vallis 2017, Atmospheric and Oceanic Fluid Dynamics, 2nd
+/// ed., §2.10; from memory). With c² = (k_B/(μ m_u)) T it reads
+/// N² = (g/c²)(dc²/dz + g(γ − 1)/γ). Returns it at z for c² = a + b z.
+fn linear_layer_n2(g: f64, gamma: f64, a: f64, b: f64, z: f64) -> f64 {
+    g / (a + b * z) * (b + g * (gamma - 1.0) / gamma)
+}
+
+/// U.S. Standard Atmosphere, 1976 (NOAA-S/T 76-1562): every layer is stable
+/// (its steepest lapse rate, 6.5 K/km, is below g/c_p = 9.76 K/km), so no
+/// caution; and N² in each layer is the closed form of `linear_layer_n2`
+/// with the layer's lapse rate (the layer table of
+/// `tests/data/us-standard-atmosphere-1976.json`, from that document).
+#[test]
+fn issue5_standard_atmosphere_1976_is_stable_and_n2_is_exact() {
+    let l = load(include_str!("data/us-standard-atmosphere-1976.json"), &[]);
+    let (bg, domain) = pipeline::solve(&l).unwrap();
+    assert_eq!(pipeline::cautions(&l, &bg, &domain), Vec::<String>::new());
+    let (g, gas) = (9.80665, 8314.32 / 28.9644);
+    // (base altitude, base temperature, lapse dT/dz) of the seven layers.
+    let layers = [
+        (0.0, 288.15, -0.0065),
+        (11_000.0, 216.65, 0.0),
+        (20_000.0, 216.65, 0.001),
+        (32_000.0, 228.65, 0.0028),
+        (47_000.0, 270.65, 0.0),
+        (51_000.0, 270.65, -0.0028),
+        (71_000.0, 214.65, -0.002),
+    ];
+    let mut pts = Vec::new();
+    let mut want = Vec::new();
+    for (i, (z0, t0, lapse)) in layers.iter().enumerate() {
+        let top = layers.get(i + 1).map_or(84_852.0, |l| l.0);
+        for f in [0.1, 0.5, 0.9] {
+            let z = z0 + f * (top - z0);
+            pts.push(z);
+            want.push(linear_layer_n2(
+                g,
+                1.4,
+                gas * (t0 - lapse * z0),
+                gas * lapse,
+                z,
+            ));
+        }
+    }
+    let got = stillpoint::stability::buoyancy_sq(&l.model, &bg, &pts).unwrap();
+    for ((z, (n2, _)), w) in pts.iter().zip(&got).zip(&want) {
+        assert!(
+            *w > 0.0 && rel(*n2, *w) < 1e-10,
+            "z = {z}: N^2 = {n2} vs {w}"
+        );
+    }
+}
+
+/// A code-units slab with c² = 1 + b z under g = 1, solved for density.
+fn linear_slab(gamma: &str, b: f64, top: f64) -> Loaded {
+    let text = format!(
+        r#"{{
+      "name": "t", "units": "code",
+      "parameters": {{ "g0": 1.0, "b": {b} }},
+      "gravity": {{ "uniform": "g0" }},
+      "gas": {{ "gamma": {gamma}, "sound_speed_sq": "1 + b*z" }},
+      "balance": {{ "shape": "slab", "solve_for": "density", "anchor": {{ "at": 0, "value": 1 }} }},
+      "grid": {{ "z": {{ "from": 0, "to": {top}, "cells": 64 }} }}
+    }}"#
+    );
+    load(&text, &[])
+}
+
+/// The slab c² = 1 + 0.1 z (γ = 1.4) is stable: N² = (1/c²)(0.1 + 0.4/1.4)
+/// is positive, and there is no caution. The layer c² = 1 − 0.5 z (γ = 5/3)
+/// is superadiabatic: N² = (1/c²)(−0.5 + 0.4) = −0.1/c² is negative, and the
+/// caution names the layer. N² matches the closed form of `linear_layer_n2`
+/// in both.
+#[test]
+fn issue5_superadiabatic_layer_is_cautioned_and_n2_matches_closed_form() {
+    for (gamma, b, top, unstable) in [
+        ("1.4", 0.1, 30.0, false),
+        ("1.6666666666666667", -0.5, 1.0, true),
+    ] {
+        let l = linear_slab(gamma, b, top);
+        let (bg, domain) = pipeline::solve(&l).unwrap();
+        let c = pipeline::cautions(&l, &bg, &domain);
+        if unstable {
+            assert_eq!(c.len(), 1, "{c:?}");
+            assert!(
+                c[0].contains("convectively unstable by the Schwarzschild criterion (gamma = 1.6666666666666667) between z = 0 and z = 1 (N^2 reaches -2.000e-1 at z = 1)"),
+                "{}",
+                c[0]
+            );
+        } else {
+            assert!(c.is_empty(), "{c:?}");
+        }
+        let pts: Vec<f64> = (0..=20).map(|i| top * f64::from(i) / 20.0).collect();
+        let got = stillpoint::stability::buoyancy_sq(&l.model, &bg, &pts).unwrap();
+        for (z, (n2, _)) in pts.iter().zip(&got) {
+            let want = linear_layer_n2(1.0, l.model.gamma, 1.0, b, *z);
+            assert_eq!(want < 0.0, unstable);
+            if unstable {
+                assert!((want + 0.1 / (1.0 - 0.5 * z)).abs() < 1e-15);
+            }
+            assert!(rel(*n2, want) < 1e-13, "z = {z}: {n2} vs {want}");
+        }
+    }
+}

@@ -2,13 +2,12 @@
 //!
 //! Owns: the double-exponential segment rule (Takahasi & Mori 1974, Publ.
 //! RIMS 9, 721, through the `quadrature` crate), the compensated cumulative
-//! sum from an anchor, evaluation at any point from the nearest knot, and the
-//! search for breakpoints (kinks of `if`, `abs`, `min`, `max`) that must
-//! become knots so that each segment is smooth. Does not own: physics.
+//! sum from an anchor, and evaluation at any point from the nearest knot.
+//! The knots a caller passes include the switch points of piecewise laws
+//! (see [`super::switches`]), so that each segment is smooth. Does not own:
+//! physics, or finding the switch points.
 
-use std::collections::BTreeSet;
-
-use crate::formula::{Cond, Expr, Func, Program, Visit};
+use crate::formula::Program;
 
 /// Accuracy requested from each double-exponential segment, relative to the
 /// segment's scale |b − a| max|f|. Measured with the `quadrature` crate's
@@ -60,18 +59,50 @@ pub fn segment(f: &dyn Fn(f64) -> f64, a: f64, b: f64) -> f64 {
     }
 }
 
+/// An evaluation of the integrand to use next to one point instead of the
+/// compiled program: laws that are 0/0 at an axis (a halo potential's
+/// ln(1 + r/r_s)/r² − …) lose every digit in double precision next to it,
+/// where the double-exponential rule puts many of its nodes.
+pub struct Careful {
+    /// The point (an axis or centre).
+    pub near: f64,
+    /// Within this distance of it, `eval` is used.
+    pub within: f64,
+    /// The careful evaluation (in 256-bit arithmetic, say).
+    pub eval: Box<dyn Fn(f64) -> f64 + Send + Sync>,
+}
+
+impl Careful {
+    /// The careful value at x, or None when x is not close to the point.
+    pub fn at(&self, x: f64) -> Option<f64> {
+        self.at_point(x).then(|| (self.eval)(x))
+    }
+
+    /// Whether x is close enough to the point to be evaluated carefully.
+    pub fn at_point(&self, x: f64) -> bool {
+        (x - self.near).abs() < self.within
+    }
+}
+
 /// An integrand with its running integral tabulated at knots, measured from
 /// an anchor knot where the integral is zero.
 pub struct Cumulative {
     integrand: Program,
+    careful: Option<Careful>,
     knots: Vec<f64>,
     values: Vec<f64>,
 }
 
 impl Cumulative {
     /// Tabulate ∫_anchor^knot f for every knot. `knots` need not be sorted
-    /// and may repeat; the anchor is added to them.
-    pub fn new(integrand: Program, mut knots: Vec<f64>, anchor: f64) -> Cumulative {
+    /// and may repeat; the anchor is added to them. `careful` evaluates the
+    /// integrand next to one point, where the program is not accurate.
+    pub fn new(
+        integrand: Program,
+        careful: Option<Careful>,
+        mut knots: Vec<f64>,
+        anchor: f64,
+    ) -> Cumulative {
         knots.push(anchor);
         knots.retain(|k| k.is_finite());
         knots.sort_by(|a, b| a.total_cmp(b));
@@ -83,7 +114,20 @@ impl Cumulative {
             .map(|(i, _)| i)
             .unwrap_or(0);
         knots[ia] = anchor;
-        let f = |x: f64| integrand.eval(&[x]);
+        let mut cum = Cumulative {
+            integrand,
+            careful,
+            knots,
+            values: Vec::new(),
+        };
+        cum.values = cum.tabulate(ia);
+        cum
+    }
+
+    /// The running integral at every knot from the knot `ia` (the anchor).
+    fn tabulate(&self, ia: usize) -> Vec<f64> {
+        let knots = &self.knots;
+        let f = |x: f64| self.integrand(x);
         let mut values = vec![0.0; knots.len()];
         // Neumaier-compensated running sums outward from the anchor.
         let mut run = |range: &mut dyn Iterator<Item = (usize, usize)>| {
@@ -102,14 +146,13 @@ impl Cumulative {
         };
         run(&mut (ia..knots.len() - 1).map(|i| (i, i + 1)));
         run(&mut (1..=ia).rev().map(|i| (i, i - 1)));
-        Cumulative {
-            integrand,
-            knots,
-            values,
-        }
+        values
     }
 
-    /// ∫_anchor^x f, from the nearest knot.
+    /// ∫_anchor^x f, from the nearest knot — or from the knot on the other
+    /// side of x when the nearest one is the careful point of [`Careful`]
+    /// and x is not (the rule's nodes crowd at both ends of a segment, and
+    /// careful evaluation is slow).
     pub fn at(&self, x: f64) -> f64 {
         if !x.is_finite() || self.knots.is_empty() {
             return f64::NAN;
@@ -121,77 +164,28 @@ impl Cumulative {
             i if (x - self.knots[i - 1]) <= (self.knots[i] - x) => i - 1,
             i => i,
         };
-        let f = |s: f64| self.integrand.eval(&[s]);
+        let careful = |y: f64| self.careful.as_ref().is_some_and(|c| c.at_point(y));
+        let k = if careful(self.knots[k]) && !careful(x) && k + 1 < self.knots.len() && i > k {
+            k + 1
+        } else {
+            k
+        };
+        let f = |s: f64| self.integrand(s);
         self.values[k] + segment(&f, self.knots[k], x)
     }
 
-    /// The integrand at x.
+    /// The integrand at x (carefully next to the point of [`Careful`]).
     pub fn integrand(&self, x: f64) -> f64 {
-        self.integrand.eval(&[x])
+        self.careful
+            .as_ref()
+            .and_then(|c| c.at(x))
+            .unwrap_or_else(|| self.integrand.eval(&[x]))
     }
 
     /// The knots, sorted.
     pub fn knots(&self) -> &[f64] {
         &self.knots
     }
-}
-
-/// The places in [lo, hi] where a formula may have a kink or jump in `var`:
-/// roots of a − b for each comparison inside `if`, of the argument of `abs`,
-/// and of a − b for `min(a, b)`/`max(a, b)`. Found by scanning `scan` points
-/// for sign changes and refining with Brent's method (Brent 1973,
-/// "Algorithms for Minimization without Derivatives", through `roots`).
-pub fn breakpoints(
-    expr: &Expr,
-    var: &str,
-    lo: f64,
-    hi: f64,
-    constants: &dyn Fn(&str) -> Option<f64>,
-) -> Vec<f64> {
-    let mut switches = Vec::new();
-    collect_switches(expr, &mut switches);
-    let mut out = BTreeSet::new();
-    let scan = 4000;
-    for g in switches {
-        let Ok(p) = Program::compile(&g, &[var], constants) else {
-            continue;
-        };
-        let f = |x: f64| p.eval(&[x]);
-        let xs: Vec<f64> = (0..=scan)
-            .map(|i| lo + (hi - lo) * i as f64 / scan as f64)
-            .collect();
-        for w in xs.windows(2) {
-            let (fa, fb) = (f(w[0]), f(w[1]));
-            if fa == 0.0 {
-                out.insert(w[0].to_bits());
-            } else if fa.is_finite() && fb.is_finite() && fa * fb < 0.0 {
-                let mut conv = roots::SimpleConvergency {
-                    eps: 1e-15,
-                    max_iter: 200,
-                };
-                if let Ok(r) = roots::find_root_brent(w[0], w[1], &f, &mut conv) {
-                    out.insert(r.to_bits());
-                }
-            }
-        }
-    }
-    out.into_iter()
-        .map(f64::from_bits)
-        .filter(|x| *x > lo && *x < hi)
-        .collect()
-}
-
-/// The differences whose sign switches a piecewise formula: the argument of
-/// `abs`, a − b of `min(a, b)` and `max(a, b)`, and a − b of each comparison.
-fn collect_switches(e: &Expr, out: &mut Vec<Expr>) {
-    e.walk(&mut |v| match v {
-        Visit::Expr(Expr::Call(Func::Abs, a)) if a.len() == 1 => out.push(a[0].clone()),
-        Visit::Expr(Expr::Call(Func::Min | Func::Max, a)) if a.len() == 2 => {
-            out.push(a[0].clone() - a[1].clone())
-        }
-        Visit::Cond(Cond::Cmp(_, a, b)) => out.push(a.clone() - b.clone()),
-        _ => {}
-    });
 }
 
 #[cfg(test)]

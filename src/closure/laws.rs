@@ -29,8 +29,34 @@ pub struct Laws {
     pub rotation: Option<Expr>,
     /// The integrand of integrated closures (d ln ρ/ds, dP/ds or d ln P/ds).
     pub integrand: Option<Expr>,
+    /// The terms whose sum is the integrand (v_φ²/(R c²), Φ_R/c², … ): the
+    /// scale of the integral-form residual is the integral of the largest of
+    /// them, never of their sum, which is rounding noise where they cancel.
+    pub integrand_terms: Vec<Expr>,
+    /// The quantities whose derivative enters the balance (Φ always; P = ρc²
+    /// where P is derived in closed form; c² where the integrand holds
+    /// ∂c²/∂R; a given P in audits), by name. At a switch point each must be
+    /// continuous: the derivative of a jump is lost when a piecewise law is
+    /// differentiated piece by piece. A law that is not differentiated may
+    /// jump (a contact: ρ and c² jump with P continuous).
+    pub watched: Vec<(String, Expr)>,
+    /// Slabs and spheres: the logarithmic gradients of P and ρ.
+    pub gradients: Option<Gradients>,
     /// Everything derived, for printing.
     pub derived: Vec<DerivedLaw>,
+}
+
+/// The logarithmic gradients of a slab or sphere, from exact derivatives,
+/// for its buoyancy frequency: d ln P/ds and d ln ρ/ds.
+#[derive(Clone, Debug)]
+pub struct Gradients {
+    /// d ln P/ds; or dP/ds when `per_pressure` (an integrated pressure,
+    /// whose gradient alone is a formula), to be divided by the state's P.
+    pub pressure: Expr,
+    /// `pressure` is dP/ds rather than d ln P/ds.
+    pub per_pressure: bool,
+    /// d ln ρ/ds.
+    pub density: Expr,
 }
 
 /// A formula the solver derived or differentiated, for printing.
@@ -54,11 +80,27 @@ impl DerivedLaw {
     }
 }
 
-/// Record the integrand of an integrated closure and list it for `derive`.
-fn integrand(laws: &mut Laws, derived: &mut Vec<DerivedLaw>, name: String, f: Expr, note: &str) {
+/// Record the integrand of an integrated closure, the terms it sums, and
+/// list it for `derive`.
+fn integrand(
+    laws: &mut Laws,
+    derived: &mut Vec<DerivedLaw>,
+    name: String,
+    (f, terms): (Expr, Vec<Expr>),
+    note: &str,
+) {
     let note = format!("integrated from the anchor (double-exponential rule){note}");
     derived.push(DerivedLaw::new(name, f.clone(), note));
     laws.integrand = Some(f);
+    laws.integrand_terms = terms;
+}
+
+/// Each term times `factor`, simplified.
+fn scaled(terms: &[&Expr], factor: &Expr) -> Vec<Expr> {
+    terms
+        .iter()
+        .map(|t| ((*t).clone() * factor.clone()).simplify())
+        .collect()
 }
 
 /// The law `key` (a full profile path such as `balance.density`) or an error
@@ -101,6 +143,9 @@ impl Laws {
             rotation_sq: None,
             rotation: m.rotation.as_ref().map(|l| l.expr.clone()),
             integrand: None,
+            integrand_terms: Vec::new(),
+            watched: Vec::new(),
+            gradients: None,
             derived: Vec::new(),
         };
         let disk = m.shape == Shape::DiskMidplane;
@@ -130,6 +175,7 @@ impl Laws {
                     v2.clone(),
                     format!("v_phi^2 = {s} (dPhi/d{s} + (1/rho) dP/d{s})"),
                 ));
+                laws.watched.push(("pressure".into(), p.clone()));
                 laws.density = Some(rho);
                 laws.pressure = Some(p);
                 laws.rotation_sq = Some(v2);
@@ -140,44 +186,58 @@ impl Laws {
                 refuse(&m.density, "density", &why)?;
                 let v2 = (v.clone() * v).simplify();
                 let c2_r = c2.diff(s);
-                let f = (v2.clone() / r.clone() - phi_s.clone() - c2_r.clone())
-                    .distribute(&(Expr::num(1.0) / c2));
+                let per_c2 = Expr::num(1.0) / c2.clone();
+                let cen = v2.clone() / r.clone();
+                let f = (cen.clone() - phi_s.clone() - c2_r.clone()).distribute(&per_c2);
+                let terms = scaled(&[&cen, &phi_s, &c2_r], &per_c2);
+                laws.watched.push(("c^2".into(), c2.clone()));
                 derived.push(DerivedLaw::new(
                     format!("dc^2/d{s}"),
                     c2_r,
                     "exact derivative",
                 ));
                 laws.rotation_sq = Some(v2);
-                integrand(&mut laws, &mut derived, format!("d ln(rho)/d{s}"), f, "");
+                let name = format!("d ln(rho)/d{s}");
+                integrand(&mut laws, &mut derived, name, (f, terms), "");
             }
             (true, Unknown::Pressure) => {
                 let v = need(&m.rotation, "balance.rotation", &why)?;
                 let rho = need(&m.density, "balance.density", &why)?;
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let v2 = (v.clone() * v).simplify();
-                let f = (v2.clone() / r.clone() - phi_s.clone()).distribute(&rho);
+                let cen = v2.clone() / r.clone();
+                let f = (cen.clone() - phi_s.clone()).distribute(&rho);
+                let terms = scaled(&[&cen, &phi_s], &rho);
                 laws.density = Some(rho);
                 laws.rotation_sq = Some(v2);
-                integrand(&mut laws, &mut derived, format!("dP/d{s}"), f, "");
+                integrand(&mut laws, &mut derived, format!("dP/d{s}"), (f, terms), "");
             }
             (false, Unknown::Density) => {
                 let c2 = need(&m.sound_speed_sq, SOUND_SPEED, &why)?;
                 refuse(&m.density, "density", &why)?;
-                let f = (-(phi_s.clone() / c2)).simplify();
-                integrand(
-                    &mut laws,
-                    &mut derived,
-                    format!("d ln(P)/d{s}"),
-                    f,
-                    "; rho = P/c^2",
-                );
+                let f = (-(phi_s.clone() / c2.clone())).simplify();
+                let terms = vec![f.clone()];
+                // d ln ρ = d ln P − d ln c² (ρ = P/c²).
+                laws.gradients = Some(Gradients {
+                    pressure: f.clone(),
+                    per_pressure: false,
+                    density: (f.clone() - c2.diff(s) / c2).simplify(),
+                });
+                let name = format!("d ln(P)/d{s}");
+                integrand(&mut laws, &mut derived, name, (f, terms), "; rho = P/c^2");
             }
             (false, Unknown::Pressure) => {
                 let rho = need(&m.density, "balance.density", &why)?;
                 refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
                 let f = (-(rho.clone() * phi_s.clone())).simplify();
+                let terms = vec![f.clone()];
+                laws.gradients = Some(Gradients {
+                    pressure: f.clone(),
+                    per_pressure: true,
+                    density: (rho.diff(s) / rho.clone()).simplify(),
+                });
                 laws.density = Some(rho);
-                integrand(&mut laws, &mut derived, format!("dP/d{s}"), f, "");
+                integrand(&mut laws, &mut derived, format!("dP/d{s}"), (f, terms), "");
             }
             (_, Unknown::Nothing) => {
                 let rho = need(&m.density, "balance.density", "auditing a set of laws")?;
@@ -195,7 +255,14 @@ impl Laws {
                 if disk {
                     let v = need(&m.rotation, "balance.rotation", "auditing a disk")?;
                     laws.rotation_sq = Some((v.clone() * v).simplify());
+                } else {
+                    laws.gradients = Some(Gradients {
+                        pressure: p.diff(s),
+                        per_pressure: true,
+                        density: (rho.diff(s) / rho.clone()).simplify(),
+                    });
                 }
+                laws.watched.push(("pressure".into(), p.clone()));
                 laws.density = Some(rho);
                 laws.pressure = Some(p);
             }
@@ -205,6 +272,8 @@ impl Laws {
                 ))
             }
         }
+        laws.watched
+            .push(("potential".into(), laws.potential.clone()));
         laws.derived = derived;
         Ok(laws)
     }

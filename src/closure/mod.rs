@@ -11,20 +11,28 @@
 //! | slab, sphere | P | ρ, P at anchor | ∂P/∂s = −ρΦ_s |
 //! | any | — | every law | audit only (`check` reports the imbalance) |
 //!
-//! Owns: building the derived formulas and integrands, the backgrounds, and
-//! the existence checks (no equilibrium ⇒ an error naming the law, the
-//! interval and the value). Does not own: grids, sampling or files.
+//! Owns: building the derived formulas and integrands (`laws`), the
+//! backgrounds, the switch points of piecewise laws (`switches`), the
+//! existence survey (no equilibrium ⇒ the quantity, the interval and the
+//! value; `existence`) and what the potential does at an axis or centre the
+//! grid contains (`axis`). Does not own: grids, sampling, files or verdicts.
 
+pub mod axis;
+mod domain;
+pub mod existence;
 pub mod integrate;
 mod laws;
 mod solved;
+pub mod switches;
 pub mod tabulate;
 
-pub use laws::{derived_laws, DerivedLaw, Laws};
+pub use domain::Domain;
+pub use laws::{derived_laws, DerivedLaw, Gradients, Laws};
 
-use crate::background::{Background, Shape};
-use crate::formula::Kernel;
-use crate::formula::{FormulaError, Program};
+pub use solved::Solved;
+
+use crate::background::Shape;
+use crate::formula::{FormulaError, Kernel, Program};
 use crate::keys::Keyed;
 use crate::model::{Model, Unknown};
 use tabulate::Table;
@@ -45,47 +53,6 @@ pub enum ClosureError {
     Formula { origin: String, error: FormulaError },
 }
 
-/// The coordinate range the background must cover and the knots (grid edges
-/// and other sample points) where integrated closures tabulate their integral.
-#[derive(Clone, Debug, PartialEq)]
-pub struct Domain {
-    /// Lowest coordinate.
-    pub lo: f64,
-    /// Highest coordinate.
-    pub hi: f64,
-    /// Points where an integral is tabulated (for example the cell edges).
-    pub knots: Vec<f64>,
-    /// `lo` is the axis or centre (R = 0 or r = 0) of a grid that contains
-    /// it but never samples it (cell centres and Gauss points lie off it), so
-    /// scans start just off it: many laws are finite there only as a limit.
-    pub axis_at_lo: bool,
-}
-
-impl Domain {
-    /// Points to scan for positivity and existence: the knots plus a uniform
-    /// set of 4001 points.
-    pub fn scan_points(&self) -> Vec<f64> {
-        let n = 4000;
-        let lo = if self.axis_at_lo {
-            self.lo + 1e-9 * (self.hi - self.lo)
-        } else {
-            self.lo
-        };
-        let mut pts: Vec<f64> = (0..=n)
-            .map(|i| lo + (self.hi - lo) * i as f64 / n as f64)
-            .collect();
-        pts.extend(
-            self.knots
-                .iter()
-                .copied()
-                .filter(|k| *k >= lo && *k <= self.hi),
-        );
-        pts.sort_by(|a, b| a.total_cmp(b));
-        pts.dedup_by(|a, b| a.to_bits() == b.to_bits());
-        pts
-    }
-}
-
 /// Which quantity a background integrates.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub(crate) enum Integrated {
@@ -96,8 +63,6 @@ pub(crate) enum Integrated {
     /// ln P (slab, found pressure and density from c²).
     LogPressure,
 }
-
-pub use solved::Solved;
 
 /// Compile a formula of the model, an error naming where it came from.
 pub fn compile(
@@ -111,8 +76,20 @@ pub fn compile(
     })
 }
 
-/// Solve the model's closure over the domain.
+/// Solve the model's closure over the domain and refuse a state that is no
+/// equilibrium somewhere in it (see [`existence`]), naming where.
 pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
+    let solved = solve_unverified(model, domain)?;
+    verify_existence(model, &solved, domain)?;
+    Ok(solved)
+}
+
+/// Solve the model's closure over the domain without refusing a state that
+/// is no equilibrium somewhere (a negative v_φ², a density that is not
+/// positive): `check` reports where, and `table` marks the rows. Input
+/// errors (a missing law, an anchor value that is not positive, a
+/// potential singular on the grid) are still errors.
+pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
     let laws = Laws::build(model)?;
     let mut integral = None;
     if let Some(integrand) = &laws.integrand {
@@ -141,17 +118,12 @@ pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
                 anchor.value
             )));
         }
-        let lo = domain.lo.min(anchor.at);
-        let hi = domain.hi.max(anchor.at);
+        let (lo, hi) = domain.range_with_anchor(model);
         let mut knots = domain.knots.clone();
-        knots.extend(integrate::breakpoints(
-            integrand,
-            model.coordinate(),
-            lo,
-            hi,
-            &|n| model.lookup(n),
-        ));
-        knots.extend([lo, hi]);
+        knots.extend([lo, hi, anchor.at]);
+        knots.extend(domain.switches(model).iter().map(|w| w.at));
+        let program = compile(model, integrand, "integrand")?;
+        let careful = careful_near_axis(model, domain, integrand, &program);
         let one = |name: &str, e: &crate::formula::Expr| {
             Kernel::compile(&[(name, e)], &[model.coordinate()], &|n| model.lookup(n)).map_err(
                 |error| ClosureError::Formula {
@@ -163,14 +135,126 @@ pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
         let table = Table::new(
             one("f", integrand)?,
             one("m", &magnitude(integrand))?,
+            careful,
             knots,
             anchor.at,
         );
         integral = Some((kind, table, anchor.value));
     }
-    let solved = Solved::new(model, &laws, integral)?;
-    verify_existence(model, &solved, domain)?;
-    Ok(solved)
+    let mut axis_potential = None;
+    match axis_approach(model, domain) {
+        Some(axis::Approach::Singular) => return Err(singular_potential(model, domain)),
+        // An integral through an unbounded force cannot be verified to the
+        // balance tolerance (the quadrature rules stop short of the point).
+        Some(axis::Approach::SingularGradient { .. }) if laws.integrand.is_some() => {
+            let (s, place) = (model.coordinate(), axis_word(model));
+            return Err(ClosureError::NoEquilibrium(format!(
+                "the gravity dPhi/d{s} of {} is unbounded at {s} = {}, which the grid contains \
+                 (the potential itself is finite there), and solving for {} integrates through \
+                 it: start the grid off the {place}",
+                model.potential.origin,
+                show(domain.lo),
+                model.unknown.key()
+            )));
+        }
+        Some(axis::Approach::Regular { value } | axis::Approach::SingularGradient { value }) => {
+            axis_potential = Some((domain.lo, value));
+        }
+        None => {}
+    }
+    Solved::new(model, &laws, integral, axis_potential)
+}
+
+/// A 256-bit evaluation of the integrand next to the axis or centre the grid
+/// contains, where its compiled form loses digits (see
+/// [`axis::unreliable_within`]); None where double precision is fine.
+pub fn careful_near_axis(
+    model: &Model,
+    domain: &Domain,
+    integrand: &crate::formula::Expr,
+    program: &Program,
+) -> Option<integrate::Careful> {
+    if !domain.axis_at_lo {
+        return None;
+    }
+    let s = model.coordinate();
+    let point = (domain.lo, domain.hi - domain.lo);
+    let within = axis::unreliable_within(integrand, program, s, point, &|n| model.lookup(n))?;
+    let mut names = model.parameters.clone();
+    names.extend(Model::builtin_names(model.units));
+    let (expr, var) = (integrand.clone(), s.to_string());
+    Some(integrate::Careful {
+        near: domain.lo,
+        within,
+        eval: Box::new(move |x| {
+            let look = |n: &str| {
+                if n == var {
+                    Some(x)
+                } else {
+                    names.iter().find(|(k, _)| k == n).map(|(_, v)| *v)
+                }
+            };
+            expr.eval_extended(&look).unwrap_or(f64::NAN)
+        }),
+    })
+}
+
+/// How the potential behaves at the axis or centre, when the grid contains
+/// it (see [`axis`]).
+pub fn axis_approach(model: &Model, domain: &Domain) -> Option<axis::Approach> {
+    domain.axis_at_lo.then(|| {
+        axis::approach(
+            &model.potential.expr,
+            model.coordinate(),
+            domain.lo,
+            domain.hi - domain.lo,
+            &|n| model.lookup(n),
+        )
+    })
+}
+
+/// "axis" for a disk, "centre" for a sphere.
+pub fn axis_word(model: &Model) -> &'static str {
+    if model.shape == Shape::Spherical {
+        "centre"
+    } else {
+        "axis"
+    }
+}
+
+/// The error for a potential with no finite limit at the axis or centre
+/// the grid contains, with advice that fits the gravity given.
+fn singular_potential(model: &Model, domain: &Domain) -> ClosureError {
+    let (s, at, place) = (model.coordinate(), show(domain.lo), axis_word(model));
+    let advice = if model.potential.origin == "gravity.point_mass" {
+        format!("soften the point mass (gravity.softening) or start the grid off the {place}")
+    } else {
+        format!(
+            "start the grid off the {place}, or give a potential ({}) that is finite there",
+            model.potential.origin
+        )
+    };
+    ClosureError::NoEquilibrium(format!(
+        "the potential is singular at {s} = {at}, which the grid contains: {advice}"
+    ))
+}
+
+/// The survey of ρ, P, c² and v_φ² of a solved state over the scan points
+/// of the domain (see [`existence::survey`]).
+pub fn survey(model: &Model, bg: &Solved, domain: &Domain) -> Vec<existence::Extent> {
+    let pts = domain.scan_points_for(model);
+    let v2 = |x: f64| bg.rotation_sq_at(x).unwrap_or(0.0);
+    let rotation: Option<&dyn Fn(f64) -> f64> = bg.rotation_sq_at(domain.lo).map(|_| &v2 as _);
+    existence::survey(bg, rotation, &pts)
+}
+
+/// What gives v_φ², for messages.
+pub fn rotation_law_name(model: &Model) -> &'static str {
+    if model.unknown == Unknown::Rotation {
+        "the derived rotation law"
+    } else {
+        "the rotation law"
+    }
 }
 
 /// The size of the terms of a sum, Σ|tᵢ| (|e| for anything else): the
@@ -185,101 +269,37 @@ fn magnitude(e: &crate::formula::Expr) -> crate::formula::Expr {
 }
 
 /// Stop with a clear error where the solved state is not an equilibrium:
-/// v_φ² < 0 (an interval), density, pressure or c² not positive or not finite.
+/// density, pressure or c² not positive or not finite (first: they are the
+/// cause), v_φ² < 0 (an interval), a potential that is not finite.
 fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), ClosureError> {
     let s = model.coordinate();
-    if domain.axis_at_lo && !bg.on_line(domain.lo).potential.is_finite() {
-        return Err(ClosureError::NoEquilibrium(format!(
-            "the potential is singular at {s} = {}, which the grid contains: soften the point \
-             mass (gravity.softening) or keep {s} = {} off the grid",
-            domain.lo, domain.lo
-        )));
+    let survey = survey(model, bg, domain);
+    let failures = existence::failures(&survey, s, rotation_law_name(model));
+    if let Some(message) = failures.into_iter().next() {
+        return Err(ClosureError::NoEquilibrium(message));
     }
-    let pts = domain.scan_points();
-    // The given laws first: a density, pressure or c² that is not positive
-    // is the cause, and a derived rotation law only its symptom.
-    verify_positive(s, bg, &pts)?;
-    if bg.rotation_sq_at(domain.lo).is_some() {
-        let law = if model.unknown == Unknown::Rotation {
-            "the derived rotation law"
-        } else {
-            "the rotation law"
-        };
-        let mut bad: Option<(f64, f64, f64, f64)> = None; // from, to, min value, where
-        for &x in &pts {
-            let v = bg.rotation_sq_at(x).unwrap_or(0.0);
-            if v < 0.0 || v.is_nan() {
-                let b = bad.get_or_insert((x, x, v, x));
-                b.1 = x;
-                if v < b.2 || v.is_nan() {
-                    b.2 = v;
-                    b.3 = x;
-                }
-            } else if bad.is_some() {
-                break;
-            }
-        }
-        if let Some((a, b, v, at)) = bad {
-            if v.is_nan() {
-                return Err(ClosureError::NoEquilibrium(format!(
-                    "{law} gives v_phi^2 that is not a number at {s} = {}",
-                    show(at)
-                )));
-            }
-            return Err(ClosureError::NoEquilibrium(format!(
-                "{law} needs v_phi^2 < 0 between {s} = {} and {s} = {} (v_phi^2 = {v:.6e} at {s} = {}): \
-                 gravity cannot hold the pressure gradient there",
-                show(a),
-                show(b),
-                show(at)
-            )));
-        }
+    if let Some(x) = domain
+        .scan_points_for(model)
+        .into_iter()
+        .find(|&x| !bg.raw_potential(x).is_finite())
+    {
+        return Err(ClosureError::NoEquilibrium(format!(
+            "the potential is not finite at {s} = {}",
+            show(x)
+        )));
     }
     Ok(())
 }
 
 /// A coordinate for a message: six significant digits, so that scan points
 /// such as 0.9979750000000001 read as 0.997975.
-fn show(x: f64) -> String {
+pub(crate) fn show(x: f64) -> String {
     let rounded: f64 = format!("{x:.5e}").parse().unwrap_or(x);
     if rounded.abs() >= 1e-4 && rounded.abs() < 1e7 || rounded == 0.0 {
         rounded.to_string()
     } else {
         format!("{rounded:e}")
     }
-}
-
-/// Density, pressure and c² positive and finite, and the potential finite, at
-/// every scan point.
-fn verify_positive(s: &str, bg: &Solved, pts: &[f64]) -> Result<(), ClosureError> {
-    for &x in pts {
-        let st = bg.on_line(x);
-        let c2 = st.sound_speed_sq();
-        for (name, v) in [
-            ("density", st.density),
-            ("pressure", st.pressure),
-            ("c^2", c2),
-        ] {
-            if v.is_nan() || v <= 0.0 {
-                let what = if v.is_finite() {
-                    "≤ 0"
-                } else {
-                    "is not finite"
-                };
-                return Err(ClosureError::NoEquilibrium(format!(
-                    "{name} {what} ({v:e}) at {s} = {}",
-                    show(x)
-                )));
-            }
-        }
-        if !st.potential.is_finite() {
-            return Err(ClosureError::NoEquilibrium(format!(
-                "the potential is not finite at {s} = {}",
-                show(x)
-            )));
-        }
-    }
-    Ok(())
 }
 
 #[cfg(test)]

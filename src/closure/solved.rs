@@ -33,6 +33,9 @@ pub struct Solved {
     accel: Kernel,
     rotation_sq: Option<Program>,
     integral: Option<(Integrated, Table, f64)>,
+    /// The axis or centre the grid contains, with the limit of Φ there, for
+    /// a potential that is 0/0 at the point itself.
+    axis_potential: Option<(f64, f64)>,
 }
 
 /// Buffers of [`Workspace::buffers`]: one per law output, then the integral,
@@ -49,6 +52,7 @@ impl Solved {
         model: &Model,
         laws: &Laws,
         integral: Option<(Integrated, Table, f64)>,
+        axis_potential: Option<(f64, f64)>,
     ) -> Result<Solved, ClosureError> {
         let s = model.coordinate();
         let fail = |origin: &str| {
@@ -94,7 +98,23 @@ impl Solved {
             accel,
             rotation_sq,
             integral,
+            axis_potential,
         })
+    }
+
+    /// Φ at `s` as the law gives it, without the limit taken at the axis.
+    pub(super) fn raw_potential(&self, s: f64) -> f64 {
+        let mut o = [0.0; 5];
+        self.laws.eval(&[s], &mut o, &mut self.laws.workspace());
+        o[self.out.phi]
+    }
+
+    /// Φ where the law is 0/0 at the axis or centre: its limit there.
+    fn potential(&self, s: f64, v: f64) -> f64 {
+        match self.axis_potential {
+            Some((axis, limit)) if s <= axis && !v.is_finite() => limit,
+            _ => v,
+        }
     }
 
     /// v_φ² at `s`, or None when there is no rotation. Derivatives follow
@@ -211,7 +231,7 @@ impl Background for Solved {
         State {
             density,
             pressure,
-            potential: o[self.out.phi],
+            potential: self.potential(s, o[self.out.phi]),
             velocity: self.velocity(get(self.out.v)),
             gravity: [a[0], 0.0, 0.0],
             pressure_accel: [a[1], 0.0, 0.0],
@@ -256,7 +276,7 @@ impl Background for Solved {
             let (rho, p) = self.combine(&get, integral);
             out.density[i] = rho;
             out.pressure[i] = p;
-            out.potential[i] = b[self.out.phi][i];
+            out.potential[i] = self.potential(s[i], b[self.out.phi][i]);
             let v = self.velocity(get(self.out.v));
             for (c, v) in v.iter().enumerate() {
                 out.velocity[c][i] = *v;

@@ -22,7 +22,7 @@
 //! interval for an integrand smooth on the segment, which breakpoints make
 //! every segment).
 
-use super::integrate::segment;
+use super::integrate::{segment, Careful};
 use crate::formula::{Kernel, Workspace};
 use crate::sample::gauss::GaussLegendre;
 
@@ -50,8 +50,13 @@ const SETTLE_DEPTH: u32 = 12;
 pub struct Table {
     integrand: Kernel,
     magnitude: Kernel,
+    careful: Option<Careful>,
     knots: Vec<f64>,
     values: Vec<f64>,
+    /// Segments where the fixed rule could not be verified (an integrable
+    /// singularity at an end, say): there the double-exponential rule is
+    /// used, as it handles end-point singularities.
+    unverified: Vec<bool>,
     nodes: Vec<f64>,
     weights: Vec<f64>,
 }
@@ -63,8 +68,15 @@ impl Table {
     /// terms the integrand is made of (the sum of their absolute values):
     /// the integrand's rounding is relative to it, so the verification is
     /// too — an integrand whose terms cancel is not refined to chase its
-    /// rounding noise.
-    pub fn new(integrand: Kernel, magnitude: Kernel, mut knots: Vec<f64>, anchor: f64) -> Table {
+    /// rounding noise. `careful` evaluates the integrand next to one point
+    /// (an axis), where the compiled program loses digits.
+    pub fn new(
+        integrand: Kernel,
+        magnitude: Kernel,
+        careful: Option<Careful>,
+        mut knots: Vec<f64>,
+        anchor: f64,
+    ) -> Table {
         let rule = GaussLegendre::new(RULE_POINTS).expect("a 10-point rule exists");
         knots.push(anchor);
         knots.retain(|k| k.is_finite());
@@ -80,19 +92,25 @@ impl Table {
         let mut table = Table {
             integrand,
             magnitude,
+            careful,
             knots: Vec::new(),
             values: Vec::new(),
+            unverified: Vec::new(),
             nodes: rule.nodes,
             weights: rule.weights,
         };
         let mut ws = table.integrand.workspace();
-        let refined = table.refine(&knots, &mut ws);
+        let (refined, unverified) = table.refine(&knots, &mut ws);
+        table.unverified = unverified;
         table.values = table.cumulate(&refined, anchor, &mut ws);
         table.knots = refined;
         table
     }
 
     fn f(&self, x: f64, ws: &mut Workspace) -> f64 {
+        if let Some(v) = self.careful.as_ref().and_then(|c| c.at(x)) {
+            return v;
+        }
         let mut out = [0.0];
         self.integrand.eval(&[x], &mut out, ws);
         out[0]
@@ -138,8 +156,9 @@ impl Table {
     /// The knots with every unverified segment split, in order. Deep down
     /// (past [`SETTLE_DEPTH`] halvings) splitting also stops where the
     /// disagreement no longer shrinks by half: a floor no subdivision lowers.
-    fn refine(&self, knots: &[f64], ws: &mut Workspace) -> Vec<f64> {
+    fn refine(&self, knots: &[f64], ws: &mut Workspace) -> (Vec<f64>, Vec<bool>) {
         let mut out = vec![knots[0]];
+        let mut unverified = Vec::new();
         for w in knots.windows(2) {
             let mut stack = vec![(w[0], w[1], 0u32, f64::INFINITY)];
             while let Some((a, b, depth, parent)) = stack.pop() {
@@ -148,6 +167,7 @@ impl Table {
                 let settled = depth >= SETTLE_DEPTH && d > 0.5 * parent;
                 if d <= 1.0 || depth >= MAX_SPLITS || settled {
                     out.push(b);
+                    unverified.push(d > 1.0);
                 } else {
                     // The left half is popped first, so knots stay in order.
                     stack.push((m, b, depth + 1, d));
@@ -155,7 +175,7 @@ impl Table {
                 }
             }
         }
-        out
+        (out, unverified)
     }
 
     /// Neumaier-compensated running sums outward from the anchor (which is
@@ -172,7 +192,11 @@ impl Table {
             for (from, to) in range {
                 let (a, b) = (knots[from], knots[to]);
                 let m = 0.5 * (a + b);
-                let piece = self.fixed(a, m, ws) + self.fixed(m, b, ws);
+                let piece = if self.unverified[from.min(to)] {
+                    self.de(a, b, ws)
+                } else {
+                    self.fixed(a, m, ws) + self.fixed(m, b, ws)
+                };
                 let t = sum + piece;
                 comp += if sum.abs() >= piece.abs() {
                     (sum - t) + piece
@@ -222,6 +246,16 @@ impl Table {
         })
     }
 
+    /// Whether the piece from knot `k` to `x` lies in an unverified segment.
+    fn needs_de(&self, k: usize, x: f64) -> bool {
+        let seg = if x > self.knots[k] {
+            k
+        } else {
+            k.wrapping_sub(1)
+        };
+        self.unverified.get(seg).copied().unwrap_or(false)
+    }
+
     /// ∫_anchor^x f (the scalar path).
     pub fn at(&self, x: f64, ws: &mut Workspace) -> f64 {
         let Some(k) = self.nearest(x) else {
@@ -230,6 +264,9 @@ impl Table {
         let a = self.knots[k];
         if x.to_bits() == a.to_bits() {
             return self.values[k];
+        }
+        if self.needs_de(k, x) {
+            return self.values[k] + self.de(a, x, ws);
         }
         self.values[k] + self.fixed(a, x, ws)
     }
@@ -259,10 +296,18 @@ impl Table {
         }
         f.resize(nodes.len(), 0.0);
         self.integrand.run(&[nodes], &mut [&mut f[..]], ws);
+        if let Some(c) = &self.careful {
+            for (v, x) in f.iter_mut().zip(nodes.iter()) {
+                if let Some(careful) = c.at(*x) {
+                    *v = careful;
+                }
+            }
+        }
         for (i, (&x, o)) in xs.iter().zip(out.iter_mut()).enumerate() {
             *o = match self.nearest(x) {
                 None => f64::NAN,
                 Some(k) if x.to_bits() == self.knots[k].to_bits() => self.values[k],
+                Some(k) if self.needs_de(k, x) => self.values[k] + self.de(self.knots[k], x, ws),
                 Some(k) => {
                     let h = 0.5 * (x - self.knots[k]);
                     self.values[k] + self.sum(h, &f[i * n..(i + 1) * n])
@@ -286,7 +331,7 @@ mod tests {
         let e = parse(src).unwrap();
         let k = Kernel::compile(&[("f", &e)], &["x"], &|_| None).unwrap();
         let m = Kernel::compile(&[("m", &e)], &["x"], &|_| None).unwrap();
-        Table::new(k, m, knots, anchor)
+        Table::new(k, m, None, knots, anchor)
     }
 
     #[test]

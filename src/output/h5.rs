@@ -5,15 +5,22 @@
 //! Owns: the layout of the file — `/grid/<axis>_centers` and
 //! `/grid/<axis>_edges`, one group per field set (`/background`, `/state`,
 //! …) with `<field>` datasets shaped by each field's placement (C order, axes
-//! in the grid's order), or soft links to another group's datasets — and its
-//! attributes: on the root `profile`, `command_line`, `generator`,
-//! `unit_system`, `unit_<name>_cgs` and `unit_<name>` for each base unit
-//! (physical systems only), `sampling`, `cautions` (lines joined by
-//! newlines), `created` (UTC, ISO 8601; left out for reproducible files) and
-//! the metadata's extra pairs; on every dataset `units`, `placement` and
-//! (fields) `sampling`. Object time stamps are off, so two builds of one
-//! profile give identical datasets. Does not own the all-or-nothing
-//! placement of the file (see [`super::commit`]) nor any physics.
+//! in the grid's order), or soft links to another group's datasets, and the
+//! unit record `/scales` — and its attributes: on the root `profile`,
+//! `command_line`, `generator`, `sampling`, `cautions` (lines joined by
+//! newlines), `created` (UTC, ISO 8601; `command_line` and `created` are
+//! left out of reproducible files) and the metadata's extra pairs; on every
+//! dataset `units`, `placement` and (fields) `sampling`. Object time stamps
+//! are off, so two builds of one profile give identical datasets. Does not
+//! own the all-or-nothing placement of the file (see [`super::commit`]) nor
+//! any physics.
+//!
+//! The unit record: the group `/scales` carries `system` (`code`, `si`,
+//! `cgs` or `astro`) and `G` (the gravitational constant in the file's
+//! units); in a physical system it holds one group per base dimension,
+//! `/scales/length`, `/scales/mass`, `/scales/time`, `/scales/temperature`,
+//! each with `symbol` (`au`), `cgs` (its value in cm, g, s, K) and `si`
+//! (in m, kg, s, K).
 //!
 //! Grid coordinates are always written in double precision; only the fields
 //! follow [`Precision`], converted slab by slab.
@@ -33,11 +40,10 @@ use crate::keys::Keyed;
 type H5Result<T = ()> = Result<T, Box<dyn Error>>;
 
 /// Root attribute names the writer sets itself; `extra` may not reuse them.
-const RESERVED: [&str; 7] = [
+const RESERVED: [&str; 6] = [
     "profile",
     "command_line",
     "generator",
-    "unit_system",
     "sampling",
     "cautions",
     "created",
@@ -92,7 +98,7 @@ impl H5Stream {
         precision: Precision,
     ) -> Result<H5Stream, OutputError> {
         for (name, _) in &meta.extra {
-            if RESERVED.contains(&name.as_str()) || name.starts_with("unit_") {
+            if RESERVED.contains(&name.as_str()) {
                 return Err(OutputError::Inconsistent {
                     path: path.to_path_buf(),
                     message: format!("extra attribute `{name}` collides with a reserved name"),
@@ -205,15 +211,7 @@ fn root_attributes(
         string_attr(file, "command_line", &meta.command_line)?;
     }
     string_attr(file, "generator", &meta.generator)?;
-    string_attr(file, "unit_system", units.key())?;
-    if let Some(base) = units.base_units() {
-        for (name, symbol, cgs) in base {
-            file.new_attr::<f64>()
-                .create(format!("unit_{name}_cgs").as_str())?
-                .write_scalar(&cgs)?;
-            string_attr(file, &format!("unit_{name}"), symbol)?;
-        }
-    }
+    write_scales(file, units)?;
     string_attr(file, "sampling", sampling)?;
     let mut cautions = meta.cautions.clone();
     if precision == Precision::Single && !cautions.iter().any(|c| c == SINGLE_PRECISION_CAUTION) {
@@ -226,6 +224,26 @@ fn root_attributes(
     for (name, value) in &meta.extra {
         string_attr(file, name, value)?;
     }
+    Ok(())
+}
+
+/// The unit record `/scales` (see the module documentation).
+fn write_scales(file: &File, units: crate::units::UnitSystem) -> H5Result {
+    let scales = file.create_group("scales")?;
+    string_attr(&scales, "system", units.key())?;
+    number_attr(&scales, "G", units.constants().g)?;
+    for base in units.base_units().into_iter().flatten() {
+        let g = scales.create_group(base.dimension)?;
+        string_attr(&g, "symbol", base.symbol)?;
+        number_attr(&g, "cgs", base.cgs)?;
+        number_attr(&g, "si", base.si)?;
+    }
+    Ok(())
+}
+
+/// A scalar double attribute.
+fn number_attr(loc: &Location, name: &str, value: f64) -> H5Result {
+    loc.new_attr::<f64>().create(name)?.write_scalar(&value)?;
     Ok(())
 }
 
@@ -421,11 +439,21 @@ mod tests {
                 .to_string()
         };
         assert_eq!(read(&rho, "units"), "g cm^-3");
-        assert_eq!(read(&file, "unit_length"), "cm");
+        let scales = file.group("scales").unwrap();
+        assert_eq!(read(&scales, "system"), "cgs");
+        assert_eq!(read(&file.group("scales/length").unwrap(), "symbol"), "cm");
         assert!(read(&file, "cautions").contains("single precision"));
         assert_eq!(read(&file, "generator"), "stillpoint 0.1.0");
-        let cgs: f64 = file.attr("unit_mass_cgs").unwrap().read_scalar().unwrap();
-        assert!((cgs - 1.0).abs() < 1e-15);
+        let mass = file.group("scales/mass").unwrap();
+        let cgs: f64 = mass.attr("cgs").unwrap().read_scalar().unwrap();
+        let si: f64 = mass.attr("si").unwrap().read_scalar().unwrap();
+        assert!((cgs - 1.0).abs() < 1e-15 && (si - 1e-3).abs() < 1e-18);
+        let g: f64 = scales.attr("G").unwrap().read_scalar().unwrap();
+        assert!(
+            (g / 6.674_30e-8 - 1.0).abs() < 1e-15,
+            "CODATA 2018 G in cgs"
+        );
+        assert!(file.attr("unit_system").is_err());
         assert!(read(&file, "created").ends_with('Z'));
     }
 

@@ -256,6 +256,7 @@ pub fn from_text(
         "pressure",
         "anchor",
         "vertically_integrated",
+        "intended_jumps",
     ])?;
     let shape = balance.require("shape")?.node().choice(Shape::KEYS)?;
     let unknown = balance.require("solve_for")?.node().choice(Unknown::KEYS)?;
@@ -308,11 +309,11 @@ pub fn from_text(
         Some(g) => g.node().value(&consts, &lookup)?,
         None => 5.0 / 3.0,
     };
-    if gamma <= 1.0 {
+    if gamma < 1.0 {
         return Err(ProfileError::at(
             label,
             "gas.gamma",
-            format!("must exceed 1, found {gamma}"),
+            format!("must be at least 1 (1 is an isothermal gas), found {gamma}"),
         ));
     }
     let molecular_weight = match gas.child("molecular_weight") {
@@ -378,7 +379,7 @@ pub fn from_text(
         Some(o) => output(o.node())?,
     };
 
-    let model = Model {
+    let mut model = Model {
         name,
         about,
         units,
@@ -395,7 +396,11 @@ pub fn from_text(
         gamma,
         molecular_weight: molecular_weight.map(|(v, _)| v),
         vertically_integrated,
+        intended_jumps: Vec::new(),
     };
+    if let Some(list) = balance.child("intended_jumps") {
+        model.intended_jumps = sections::intended_jumps(list.node(), &model.law_keys())?;
+    }
     Ok(Loaded {
         source: label.to_string(),
         json_text,

@@ -187,6 +187,27 @@ pub(super) fn check_grid_matches(
     }
 }
 
+/// `balance.intended_jumps`: a list of the profile keys of given laws
+/// (`"balance.density"`) whose jumps at their switch points are intended.
+pub(super) fn intended_jumps(node: Node, laws: &[&str]) -> Result<Vec<String>, ProfileError> {
+    let mut out = Vec::new();
+    for item in node.array()? {
+        let item = item.node();
+        let key = item.str()?;
+        if !laws.contains(&key) {
+            let hint = closest(key, laws)
+                .map(|k| format!(" (did you mean `{k}`?)"))
+                .unwrap_or_default();
+            return Err(item.error(format!(
+                "`{key}` is not a law of this profile{hint}; its laws are {}",
+                laws.join(", ")
+            )));
+        }
+        out.push(key.to_string());
+    }
+    Ok(out)
+}
+
 pub(super) fn sampling(node: Node) -> Result<SamplingRule, ProfileError> {
     node.only_keys(&["rule", "points"])?;
     let avg = node

@@ -17,7 +17,9 @@
 //! * `momentum_<c>`: ⟨ρ v_c⟩, the average of the pointwise product;
 //! * `velocity_<c>`: ⟨ρ v_c⟩/⟨ρ⟩, mass weighted, so that momentum = density ×
 //!   velocity holds in the file (with point values it is v_c itself);
-//! * `energy`: ⟨P/(γ−1) + ½ρ|v|²⟩, the total energy density;
+//! * `energy`: ⟨P/(γ−1) + ½ρ|v|²⟩, the total energy density — not written
+//!   for an isothermal gas (γ = 1), which has no energy equation: P = ρc²
+//!   with c² the law's, and the file says so (`gas_law` = `isothermal`);
 //! * `sound_speed`: ⟨√(P/ρ)⟩, the isothermal sound speed (not √(γP/ρ));
 //! * `temperature`: ⟨(μ m_u/k_B) P/ρ⟩, only when a conversion is given.
 //!
@@ -71,7 +73,8 @@ impl SamplingRule {
 /// Gas constants the sampler needs beyond the background.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct GasConstants {
-    /// Adiabatic index γ for the energy (> 1).
+    /// Adiabatic index γ for the energy (≥ 1; 1 is an isothermal gas, for
+    /// which no energy field is written).
     pub gamma: f64,
     /// μ m_u / k_B, so that T = this × c²; None in code units (no
     /// temperature field is written).
@@ -120,7 +123,7 @@ pub enum SampleError {
         points: usize,
     },
     /// A bad adiabatic index.
-    #[error("the adiabatic index γ must be finite and > 1, got {gamma}")]
+    #[error("the adiabatic index γ must be finite and ≥ 1 (1 is isothermal), got {gamma}")]
     Gamma {
         /// The value given.
         gamma: f64,
@@ -182,7 +185,7 @@ fn check_inputs(
             return Err(SampleError::Points { points });
         }
     }
-    if !(gas.gamma.is_finite() && gas.gamma > 1.0) {
+    if !(gas.gamma.is_finite() && gas.gamma >= 1.0) {
         return Err(SampleError::Gamma { gamma: gas.gamma });
     }
     if let Some(value) = gas.temperature_per_c2 {
@@ -362,11 +365,15 @@ mod tests {
             sample(&Disk, &grid, &SamplingRule::Average { points: 65 }, &GAS),
             Err(SampleError::Points { points: 65 })
         );
-        let gas = GasConstants { gamma: 1.0, ..GAS };
+        let gas = GasConstants { gamma: 0.9, ..GAS };
         assert_eq!(
             sample(&Disk, &grid, &SamplingRule::Center, &gas),
-            Err(SampleError::Gamma { gamma: 1.0 })
+            Err(SampleError::Gamma { gamma: 0.9 })
         );
+        // γ = 1, an isothermal gas: every field but the energy.
+        let gas = GasConstants { gamma: 1.0, ..GAS };
+        let set = sample(&Disk, &grid, &SamplingRule::Center, &gas).unwrap();
+        assert!(set.get("energy").is_none() && set.get("pressure").is_some());
         let set = sample(&Disk, &grid, &SamplingRule::Center, &GAS).unwrap();
         let names: Vec<&str> = set.fields.iter().map(|f| f.name.as_str()).collect();
         assert_eq!(

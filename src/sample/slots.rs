@@ -54,8 +54,8 @@ pub(super) struct Entry {
 }
 
 /// The fields written for a grid and gas, in file order: density, pressure,
-/// velocity components, momentum components, energy, sound speed,
-/// temperature (with a conversion), potential.
+/// velocity components, momentum components, energy (not for an
+/// isothermal gas), sound speed, temperature (with a conversion), potential.
 pub(super) fn catalogue(grid: &Grid, gas: &GasConstants, comps: &[Coord]) -> Vec<Entry> {
     let slots = Slots { ncomp: comps.len() };
     let (density, pressure) = if gas.vertically_integrated {
@@ -90,7 +90,9 @@ pub(super) fn catalogue(grid: &Grid, gas: &GasConstants, comps: &[Coord]) -> Vec
             slots.mom() + c,
         ));
     }
-    out.push(entry("energy".into(), pressure, ENERGY));
+    if !crate::physics::is_isothermal(gas.gamma) {
+        out.push(entry("energy".into(), pressure, ENERGY));
+    }
     out.push(entry("sound_speed".into(), Dim::VELOCITY, CS));
     if gas.temperature_per_c2.is_some() {
         out.push(entry("temperature".into(), Dim::TEMPERATURE, TEMP));
@@ -129,8 +131,13 @@ pub(super) fn fill(
     out[POT] = st.potential;
     out[CS] = c2.sqrt();
     out[TEMP] = gas.temperature_per_c2.map_or(0.0, |k| k * c2);
-    let v2: f64 = st.velocity.iter().map(|v| v * v).sum();
-    out[ENERGY] = st.pressure / (gas.gamma - 1.0) + 0.5 * st.density * v2;
+    // An isothermal gas has no energy field (see `catalogue`).
+    out[ENERGY] = if crate::physics::is_isothermal(gas.gamma) {
+        0.0
+    } else {
+        let v2: f64 = st.velocity.iter().map(|v| v * v).sum();
+        st.pressure / (gas.gamma - 1.0) + 0.5 * st.density * v2
+    };
     let n = velocity.len();
     for (c, v) in velocity.iter().enumerate() {
         out[FIRST_VECTOR + n + c] = *v;
