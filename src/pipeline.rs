@@ -257,23 +257,31 @@ impl Built<'_> {
             let row_bytes = 8 * fields.len() * shape[1..].iter().product::<usize>();
             (SLAB_BYTES / row_bytes.max(1)).max(1)
         });
-        let (tx, rx) = std::sync::mpsc::sync_channel::<Result<Slab, SampleError>>(1);
-        let producer = &sampler;
-        std::thread::scope(|scope| {
-            scope.spawn(move || {
+        // This thread samples (inside the caller's thread pool, so
+        // `--threads` holds); another writes, one slab behind.
+        let out = std::thread::scope(|scope| {
+            let (tx, rx) = std::sync::mpsc::sync_channel::<Slab>(1);
+            let writer = scope.spawn(move || -> Result<H5Stream, OutputError> {
+                for slab in rx {
+                    out.write("background", &slab)?;
+                }
+                Ok(out)
+            });
+            let sampled = (|| {
                 for r in slab_ranges(shape[0], rows) {
-                    let slab = producer.slab(r);
-                    let failed = slab.is_err();
-                    if tx.send(slab).is_err() || failed {
-                        break;
+                    let slab = sampler.slab(r).map_err(|e| self.sample_error(e))?;
+                    if tx.send(slab).is_err() {
+                        break; // the writer stopped: its error is reported
                     }
                 }
-            });
-            for slab in rx {
-                let slab = slab.map_err(|e| self.sample_error(e))?;
-                out.write("background", &slab)?;
-            }
-            Ok::<(), Error>(())
+                Ok::<(), Error>(())
+            })();
+            drop(tx);
+            let written = writer
+                .join()
+                .unwrap_or_else(|p| std::panic::resume_unwind(p));
+            sampled?;
+            Ok::<H5Stream, Error>(written?)
         })?;
         out.finish()?;
         Ok(())

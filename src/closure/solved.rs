@@ -163,6 +163,26 @@ impl Solved {
     }
 }
 
+/// `out` = `from`, or NaN where the closure has no such law.
+fn copy_or_nan(out: &mut [f64], from: Option<&[f64]>) {
+    match from {
+        Some(v) => out.copy_from_slice(v),
+        None => out.fill(f64::NAN),
+    }
+}
+
+/// `out` = `a` × `b`, or NaN where the closure has no `b`.
+fn mul_or_nan(out: &mut [f64], a: &[f64], b: Option<&[f64]>) {
+    match b {
+        Some(b) => {
+            for ((o, a), b) in out.iter_mut().zip(a).zip(b) {
+                *o = a * b;
+            }
+        }
+        None => out.fill(f64::NAN),
+    }
+}
+
 /// −∂Φ/∂s and −(1/ρ) ∂P/∂s as formulas in the balance coordinate. For an
 /// integrated closure the integrand f is the derivative of the integrated
 /// quantity: ln ρ (P = ρc², so −∂P/∂s/ρ = −(c² f + ∂c²/∂s)), P (−f/ρ) or
@@ -264,23 +284,64 @@ impl Background for Solved {
             );
         }
         let b = &ws.buffers;
-        // One lane reads one element of many buffers: an index is clearest.
-        #[allow(clippy::needless_range_loop)]
-        for i in 0..n {
-            let get = |k: Option<usize>| k.map_or(f64::NAN, |k| b[k][i]);
-            let integral = if self.integral.is_some() {
-                b[INTEGRAL][i]
-            } else {
-                0.0
-            };
-            let (rho, p) = self.combine(&get, integral);
-            out.density[i] = rho;
-            out.pressure[i] = p;
-            out.potential[i] = self.potential(s[i], b[self.out.phi][i]);
-            let v = self.velocity(get(self.out.v));
-            for (c, v) in v.iter().enumerate() {
-                out.velocity[c][i] = *v;
+        let col = |k: Option<usize>| k.map(|k| &b[k][..n]);
+        let (rho, p) = (&mut out.density[..n], &mut out.pressure[..n]);
+        match &self.integral {
+            None => {
+                copy_or_nan(rho, col(self.out.rho));
+                match (col(self.out.p), col(self.out.c2)) {
+                    (Some(pv), _) => p.copy_from_slice(pv),
+                    (None, Some(c2)) => {
+                        for ((p, c), r) in p.iter_mut().zip(c2).zip(rho.iter()) {
+                            *p = c * r;
+                        }
+                    }
+                    (None, None) => p.fill(f64::NAN),
+                }
             }
+            Some((kind, _, base)) => {
+                let i = &b[INTEGRAL][..n];
+                let c2 = col(self.out.c2);
+                match kind {
+                    Integrated::LogDensity => {
+                        for (r, i) in rho.iter_mut().zip(i) {
+                            *r = base * i.exp();
+                        }
+                        mul_or_nan(p, rho, c2);
+                    }
+                    Integrated::Pressure => {
+                        copy_or_nan(rho, col(self.out.rho));
+                        for (p, i) in p.iter_mut().zip(i) {
+                            *p = base + i;
+                        }
+                    }
+                    Integrated::LogPressure => {
+                        for (p, i) in p.iter_mut().zip(i) {
+                            *p = base * i.exp();
+                        }
+                        match c2 {
+                            Some(c2) => {
+                                for ((r, p), c) in rho.iter_mut().zip(p.iter()).zip(c2) {
+                                    *r = p / c;
+                                }
+                            }
+                            None => rho.fill(f64::NAN),
+                        }
+                    }
+                }
+            }
+        }
+        for (o, (phi, s)) in out.potential[..n]
+            .iter_mut()
+            .zip(b[self.out.phi][..n].iter().zip(s))
+        {
+            *o = self.potential(*s, *phi);
+        }
+        out.velocity[0][..n].fill(0.0);
+        out.velocity[2][..n].fill(0.0);
+        match col(self.out.v) {
+            Some(v) => out.velocity[1][..n].copy_from_slice(v),
+            None => out.velocity[1][..n].fill(0.0),
         }
         if want.accelerations {
             let (g, a) = ws.buffers[ACCEL..ACCEL + 2].split_at_mut(1);

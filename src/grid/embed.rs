@@ -85,7 +85,7 @@ impl Embedding {
             Layout::Cartesian => {
                 let (x, y) = (&grid[0][..n], &grid[1][..n]);
                 for ((r, x), y) in out[0][..n].iter_mut().zip(x).zip(y) {
-                    *r = x.hypot(*y);
+                    *r = (x * x + y * y).sqrt();
                 }
             }
         }
@@ -95,20 +95,28 @@ impl Embedding {
     }
 
     /// The grid components of `n` frame vectors `v` (one slice per frame
-    /// basis vector) at points given by their grid coordinates, written into
+    /// basis vector) at points given by their grid coordinates and their
+    /// frame coordinates (from [`Embedding::to_frame`]), written into
     /// `out[c][..n]` for each component of [`Embedding::components`]. On a
     /// Cartesian grid e_R = (x, y)/R and e_φ = (−y, x)/R, both taken as zero
     /// on the axis R = 0.
-    pub fn project(&self, grid: &[&[f64]], v: &[Vec<f64>; 3], n: usize, out: &mut [Vec<f64>]) {
+    pub fn project(
+        &self,
+        grid: &[&[f64]],
+        frame: &[&[f64]],
+        v: &[Vec<f64>; 3],
+        n: usize,
+        out: &mut [Vec<f64>],
+    ) {
         match (self.layout, self.frame) {
             (Layout::Line(Coord::R) | Layout::Polar, _) => {
                 out[0][..n].copy_from_slice(&v[0][..n]);
                 out[1][..n].copy_from_slice(&v[1][..n]);
             }
             (Layout::Cartesian, _) => {
-                let (x, y) = (&grid[0][..n], &grid[1][..n]);
+                let (x, y, rr) = (&grid[0][..n], &grid[1][..n], &frame[0][..n]);
                 for i in 0..n {
-                    let r = x[i].hypot(y[i]);
+                    let r = rr[i];
                     let (c, s) = if r > 0.0 {
                         (x[i] / r, y[i] / r)
                     } else {
@@ -144,7 +152,8 @@ mod tests {
         assert!((f[0][0] - 5.0).abs() < 1e-15 && f[1][0].abs() < 1e-300);
         let v = [vec![0.0, 0.0], vec![1.0, 1.0], vec![0.0, 0.0]];
         let mut out = vec![vec![0.0; 2], vec![0.0; 2]];
-        e.project(&[&xs, &ys], &v, 2, &mut out);
+        let fr: Vec<&[f64]> = f.iter().map(|v| &v[..]).collect();
+        e.project(&[&xs, &ys], &fr, &v, 2, &mut out);
         // e_φ at (3, 4) is (−4, 3)/5; on the axis it is taken as zero.
         assert!((out[0][0] + 0.8).abs() < 1e-15 && (out[1][0] - 0.6).abs() < 1e-15);
         assert!(out[0][1].abs() < 1e-300 && out[1][1].abs() < 1e-300);

@@ -7,7 +7,7 @@
 //! own the quadrature or the loop over cells (see `stream`).
 
 use super::{GasConstants, SampleError};
-use crate::background::State;
+use crate::background::StateBlock;
 use crate::fields::{FieldSpec, Placement};
 use crate::grid::{Coord, Grid, Layout};
 use crate::units::Dim;
@@ -101,16 +101,67 @@ pub(super) fn catalogue(grid: &Grid, gas: &GasConstants, comps: &[Coord]) -> Vec
     out
 }
 
-/// Checks a state (density and pressure positive, everything finite) and
-/// writes its slot values: `velocity` holds the grid components already
-/// rotated from the frame basis.
-pub(super) fn fill(
-    st: &State,
-    velocity: &[f64],
+/// What failed at a point: the field, its value, and whether it is not
+/// positive (rather than not finite).
+pub(super) type Failure = (&'static str, f64, bool);
+
+/// Checks the states of `n` lanes (density and pressure positive, every
+/// field finite) and writes their slot values, `values[slot][lane]`:
+/// `velocity` holds the grid components already rotated from the frame
+/// basis. Lanes that fail are listed in `bad` (lane, failure), in order;
+/// their values are not meaningful.
+pub(super) fn fill_block(
+    st: &StateBlock,
+    velocity: &[Vec<f64>],
+    n: usize,
     gas: &GasConstants,
-    out: &mut [f64],
-) -> Result<(), (&'static str, f64, bool)> {
-    let check = |field: &'static str, value: f64, positive: bool| {
+    values: &mut [Vec<f64>],
+    bad: &mut Vec<(usize, Failure)>,
+) {
+    bad.clear();
+    for i in 0..n {
+        if let Err(e) = check(st, i) {
+            bad.push((i, e));
+        }
+    }
+    let (rho, p) = (&st.density[..n], &st.pressure[..n]);
+    values[RHO][..n].copy_from_slice(rho);
+    values[PRES][..n].copy_from_slice(p);
+    values[POT][..n].copy_from_slice(&st.potential[..n]);
+    for ((c, p), r) in values[CS][..n].iter_mut().zip(p).zip(rho) {
+        *c = (p / r).sqrt();
+    }
+    match gas.temperature_per_c2 {
+        Some(k) => {
+            for ((t, p), r) in values[TEMP][..n].iter_mut().zip(p).zip(rho) {
+                *t = k * (p / r);
+            }
+        }
+        None => values[TEMP][..n].fill(0.0),
+    }
+    // An isothermal gas has no energy field (see `catalogue`).
+    if crate::physics::is_isothermal(gas.gamma) {
+        values[ENERGY][..n].fill(0.0);
+    } else {
+        let [v0, v1, v2] = &st.velocity;
+        for i in 0..n {
+            let vv = v0[i] * v0[i] + v1[i] * v1[i] + v2[i] * v2[i];
+            values[ENERGY][i] = p[i] / (gas.gamma - 1.0) + 0.5 * rho[i] * vv;
+        }
+    }
+    let nc = velocity.len();
+    for (c, v) in velocity.iter().enumerate() {
+        let (mom, vel) = values[FIRST_VECTOR..].split_at_mut(nc);
+        vel[c][..n].copy_from_slice(&v[..n]);
+        for ((m, v), r) in mom[c][..n].iter_mut().zip(&v[..n]).zip(rho) {
+            *m = r * v;
+        }
+    }
+}
+
+/// The check of one lane.
+fn check(st: &StateBlock, i: usize) -> Result<(), Failure> {
+    let test = |field: &'static str, value: f64, positive: bool| {
         if !value.is_finite() {
             Err((field, value, false))
         } else if positive && value <= 0.0 {
@@ -119,36 +170,17 @@ pub(super) fn fill(
             Ok(())
         }
     };
-    check("density", st.density, true)?;
-    check("pressure", st.pressure, true)?;
+    test("density", st.density[i], true)?;
+    test("pressure", st.pressure[i], true)?;
     for v in &st.velocity {
-        check("velocity", *v, false)?;
+        test("velocity", v[i], false)?;
     }
-    check("potential", st.potential, false)?;
-    let c2 = st.pressure / st.density;
-    out[RHO] = st.density;
-    out[PRES] = st.pressure;
-    out[POT] = st.potential;
-    out[CS] = c2.sqrt();
-    out[TEMP] = gas.temperature_per_c2.map_or(0.0, |k| k * c2);
-    // An isothermal gas has no energy field (see `catalogue`).
-    out[ENERGY] = if crate::physics::is_isothermal(gas.gamma) {
-        0.0
-    } else {
-        let v2: f64 = st.velocity.iter().map(|v| v * v).sum();
-        st.pressure / (gas.gamma - 1.0) + 0.5 * st.density * v2
-    };
-    let n = velocity.len();
-    for (c, v) in velocity.iter().enumerate() {
-        out[FIRST_VECTOR + n + c] = *v;
-        out[FIRST_VECTOR + c] = st.density * v;
-    }
-    Ok(())
+    test("potential", st.potential[i], false)
 }
 
 /// The error for a failed check at a grid point.
 pub(super) fn point_error(
-    (field, value, non_positive): (&'static str, f64, bool),
+    (field, value, non_positive): Failure,
     grid: &Grid,
     point: &[f64],
 ) -> SampleError {
@@ -171,7 +203,8 @@ fn describe(grid: &Grid, point: &[f64]) -> String {
         .collect();
     if grid.layout() == Layout::Cartesian {
         let last = parts.pop().unwrap_or_default();
-        parts.push(format!("{last} (R = {})", point[0].hypot(point[1])));
+        let r = (point[0] * point[0] + point[1] * point[1]).sqrt();
+        parts.push(format!("{last} (R = {r})"));
     }
     parts.join(", ")
 }

@@ -75,7 +75,8 @@ struct ThreadBuffers {
     velocity: Vec<Vec<f64>>,
     state: StateBlock,
     bg: Workspace,
-    values: Vec<f64>,
+    values: Vec<Vec<f64>>,
+    bad: Vec<(usize, slots::Failure)>,
 }
 
 /// A background prepared for sampling on a grid under a rule. Produces the
@@ -195,7 +196,8 @@ impl<'a> Sampler<'a> {
             velocity: lanes(self.slots.ncomp),
             state: StateBlock::new(),
             bg: self.bg.workspace(),
-            values: vec![0.0; self.slots.len()],
+            values: lanes(self.slots.volume()),
+            bad: Vec::new(),
         }
     }
 
@@ -252,35 +254,53 @@ impl<'a> Sampler<'a> {
                 let frame: Vec<&[f64]> = buf.frame[..dims].iter().map(|v| &v[..n]).collect();
                 self.bg
                     .eval(&frame, Want::default(), &mut buf.state, &mut buf.bg);
-                self.embed
-                    .project(&grid_lanes, &buf.state.velocity, n, &mut buf.velocity);
-                let mut vel = [0.0; 3];
-                for i in 0..n {
-                    let k = start + i;
-                    let c = k / lane.per_cell;
-                    let st = buf.state.get(i);
-                    for (v, comp) in vel.iter_mut().zip(&buf.velocity) {
-                        *v = comp[i];
-                    }
-                    if let Err(e) =
-                        slots::fill(&st, &vel[..self.slots.ncomp], &self.gas, &mut buf.values)
-                    {
+                self.embed.project(
+                    &grid_lanes,
+                    &frame,
+                    &buf.state.velocity,
+                    n,
+                    &mut buf.velocity,
+                );
+                slots::fill_block(
+                    &buf.state,
+                    &buf.velocity,
+                    n,
+                    &self.gas,
+                    &mut buf.values,
+                    &mut buf.bad,
+                );
+                let mut skip = None;
+                if !buf.bad.is_empty() {
+                    let mut mask = vec![false; n];
+                    for &(i, e) in &buf.bad {
+                        mask[i] = true;
+                        let k = start + i;
+                        let c = k / lane.per_cell;
                         let q = qo * lane.per_cell + k % lane.per_cell;
                         if failed[c].as_ref().is_none_or(|(q0, _)| q < *q0) {
                             point[self.lane] = lane.nodes[k];
                             failed[c] = Some((q, slots::point_error(e, self.grid, &point)));
                         }
+                    }
+                    skip = Some(mask);
+                }
+                let vol = self.slots.volume();
+                for i in 0..n {
+                    if skip.as_ref().is_some_and(|m| m[i]) {
                         continue;
                     }
-                    let sums = &mut acc[c * nslots..(c + 1) * nslots];
+                    let k = start + i;
+                    let sums = &mut acc[(k / lane.per_cell) * nslots..][..nslots];
                     if self.averaged {
                         let w = weight * lane.weights[k];
-                        for (s, v) in sums.iter_mut().zip(&buf.values) {
-                            *s += w * v;
+                        for (s, v) in sums[..vol].iter_mut().zip(&buf.values) {
+                            *s += w * v[i];
                         }
-                        sums[self.slots.volume()] += w;
+                        sums[vol] += w;
                     } else {
-                        sums.copy_from_slice(&buf.values);
+                        for (s, v) in sums[..vol].iter_mut().zip(&buf.values) {
+                            *s = v[i];
+                        }
                     }
                 }
             }
