@@ -13,10 +13,10 @@
 //! the integrand (`closure::Laws`) or the tabulated integral it checks.
 
 use super::Verdict;
-use crate::background::{Background, Shape};
+use crate::background::Background;
 use crate::closure::{self, ClosureError, Domain, Laws};
 use crate::formula::Program;
-use crate::model::{Model, Unknown};
+use crate::model::Model;
 use crate::sample::gauss::GaussLegendre;
 
 /// The verdict on the integrated background `bg` of the model, whose laws
@@ -56,14 +56,12 @@ pub(super) fn integral_form(
             .map(|t| t.eval(&[x]).abs())
             .fold(0.0f64, f64::max)
     };
-    let q = |x: f64| {
-        let st = bg.on_line(x);
-        match (model.shape, model.unknown) {
-            (Shape::DiskMidplane, Unknown::Density) => st.density.ln(),
-            (_, Unknown::Pressure) => st.pressure,
-            _ => st.pressure.ln(),
-        }
+    let Some(kind) = closure::closure_for(model.shape, model.unknown)?.integrates else {
+        return Err(ClosureError::Incomplete(
+            "nothing to integrate: the closure integrates no quantity".into(),
+        ));
     };
+    let q = |x: f64| kind.of(&bg.on_line(x));
     let anchor = model.anchor.map(|a| a.at).unwrap_or(domain.lo);
     let (lo, hi) = domain.range_with_anchor(model);
     let inside = |x: &f64| *x >= domain.lo && *x <= domain.hi;

@@ -2,8 +2,11 @@
 //! solver evaluates (closed forms and integrands) and the derivatives they
 //! use, all by exact symbolic differentiation.
 //!
-//! Owns: which laws each closure requires (errors name the missing profile
-//! key) and the formulas for `stillpoint derive`. Does not own: numbers.
+//! Owns: the formulas every closure shares (the potential's derivative, the
+//! refusals that hold for all), running a closure's entry of the closure
+//! table (`table`), the residual of closed forms and the formulas for
+//! `stillpoint derive`. Does not own: which laws each closure needs (the
+//! table) or numbers.
 
 use super::ClosureError;
 use crate::background::Shape;
@@ -71,7 +74,7 @@ pub struct DerivedLaw {
 }
 
 impl DerivedLaw {
-    fn new(name: impl Into<String>, expr: Expr, note: impl Into<String>) -> DerivedLaw {
+    pub(super) fn new(name: impl Into<String>, expr: Expr, note: impl Into<String>) -> DerivedLaw {
         DerivedLaw {
             name: name.into(),
             expr,
@@ -80,9 +83,21 @@ impl DerivedLaw {
     }
 }
 
+/// What every closure's formulas start from.
+pub struct Parts<'a> {
+    /// The balance coordinate.
+    pub s: &'a str,
+    /// The coordinate as a formula.
+    pub r: &'a Expr,
+    /// ∂Φ/∂s.
+    pub phi_s: &'a Expr,
+    /// "solving a disk for rotation", for messages.
+    pub why: &'a str,
+}
+
 /// Record the integrand of an integrated closure, the terms it sums, and
 /// list it for `derive`.
-fn integrand(
+pub(super) fn integrand(
     laws: &mut Laws,
     derived: &mut Vec<DerivedLaw>,
     name: String,
@@ -96,7 +111,7 @@ fn integrand(
 }
 
 /// Each term times `factor`, simplified.
-fn scaled(terms: &[&Expr], factor: &Expr) -> Vec<Expr> {
+pub(super) fn scaled(terms: &[&Expr], factor: &Expr) -> Vec<Expr> {
     terms
         .iter()
         .map(|t| ((*t).clone() * factor.clone()).simplify())
@@ -105,13 +120,21 @@ fn scaled(terms: &[&Expr], factor: &Expr) -> Vec<Expr> {
 
 /// The law `key` (a full profile path such as `balance.density`) or an error
 /// saying that it is required and why.
-fn need(law: &Option<crate::model::Law>, key: &str, why: &str) -> Result<Expr, ClosureError> {
+pub(super) fn need(
+    law: &Option<crate::model::Law>,
+    key: &str,
+    why: &str,
+) -> Result<Expr, ClosureError> {
     law.as_ref()
         .map(|l| l.expr.clone())
         .ok_or_else(|| ClosureError::Incomplete(format!("{key} is required when {why}")))
 }
 
-fn refuse(law: &Option<crate::model::Law>, key: &str, why: &str) -> Result<(), ClosureError> {
+pub(super) fn refuse(
+    law: &Option<crate::model::Law>,
+    key: &str,
+    why: &str,
+) -> Result<(), ClosureError> {
     match law {
         Some(l) => Err(ClosureError::Incomplete(format!(
             "{}: a {key} law cannot be given when {why} (it would over-determine the balance)",
@@ -122,7 +145,7 @@ fn refuse(law: &Option<crate::model::Law>, key: &str, why: &str) -> Result<(), C
 }
 
 /// Where a profile gives the sound speed.
-const SOUND_SPEED: &str = "gas.sound_speed_sq (or gas.temperature)";
+pub(super) const SOUND_SPEED: &str = "gas.sound_speed_sq (or gas.temperature)";
 
 impl Laws {
     /// Build the formulas of the model's closure.
@@ -159,119 +182,24 @@ impl Laws {
             // pressure law would be ignored, and the file would carry another.
             refuse(&m.pressure, "pressure", &why)?;
         }
-        match (disk, m.unknown) {
-            (true, Unknown::Rotation) => {
-                let rho = need(&m.density, "balance.density", &why)?;
-                let c2 = need(&m.sound_speed_sq, SOUND_SPEED, &why)?;
-                refuse(&m.rotation, "rotation", &why)?;
-                let p = (rho.clone() * c2).simplify();
-                let p_r = p.diff(s);
-                let grad = p_r.distribute(&(Expr::num(1.0) / rho.clone()));
-                let v2 = (phi_s.clone() + grad).distribute(&r);
-                derived.push(DerivedLaw::new("P", p.clone(), "P = rho c^2"));
-                derived.push(DerivedLaw::new(format!("dP/d{s}"), p_r, "exact derivative"));
-                derived.push(DerivedLaw::new(
-                    "v_phi^2",
-                    v2.clone(),
-                    format!("v_phi^2 = {s} (dPhi/d{s} + (1/rho) dP/d{s})"),
-                ));
-                laws.watched.push(("pressure".into(), p.clone()));
-                laws.density = Some(rho);
-                laws.pressure = Some(p);
-                laws.rotation_sq = Some(v2);
-            }
-            (true, Unknown::Density) => {
-                let v = need(&m.rotation, "balance.rotation", &why)?;
-                let c2 = need(&m.sound_speed_sq, SOUND_SPEED, &why)?;
-                refuse(&m.density, "density", &why)?;
-                let v2 = (v.clone() * v).simplify();
-                let c2_r = c2.diff(s);
-                let per_c2 = Expr::num(1.0) / c2.clone();
-                let cen = v2.clone() / r.clone();
-                let f = (cen.clone() - phi_s.clone() - c2_r.clone()).distribute(&per_c2);
-                let terms = scaled(&[&cen, &phi_s, &c2_r], &per_c2);
-                laws.watched.push(("c^2".into(), c2.clone()));
-                derived.push(DerivedLaw::new(
-                    format!("dc^2/d{s}"),
-                    c2_r,
-                    "exact derivative",
-                ));
-                laws.rotation_sq = Some(v2);
-                let name = format!("d ln(rho)/d{s}");
-                integrand(&mut laws, &mut derived, name, (f, terms), "");
-            }
-            (true, Unknown::Pressure) => {
-                let v = need(&m.rotation, "balance.rotation", &why)?;
-                let rho = need(&m.density, "balance.density", &why)?;
-                refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
-                let v2 = (v.clone() * v).simplify();
-                let cen = v2.clone() / r.clone();
-                let f = (cen.clone() - phi_s.clone()).distribute(&rho);
-                let terms = scaled(&[&cen, &phi_s], &rho);
-                laws.density = Some(rho);
-                laws.rotation_sq = Some(v2);
-                integrand(&mut laws, &mut derived, format!("dP/d{s}"), (f, terms), "");
-            }
-            (false, Unknown::Density) => {
-                let c2 = need(&m.sound_speed_sq, SOUND_SPEED, &why)?;
-                refuse(&m.density, "density", &why)?;
-                let f = (-(phi_s.clone() / c2.clone())).simplify();
-                let terms = vec![f.clone()];
-                // d ln ρ = d ln P − d ln c² (ρ = P/c²).
-                laws.gradients = Some(Gradients {
-                    pressure: f.clone(),
-                    per_pressure: false,
-                    density: (f.clone() - c2.diff(s) / c2).simplify(),
-                });
-                let name = format!("d ln(P)/d{s}");
-                integrand(&mut laws, &mut derived, name, (f, terms), "; rho = P/c^2");
-            }
-            (false, Unknown::Pressure) => {
-                let rho = need(&m.density, "balance.density", &why)?;
-                refuse(&m.sound_speed_sq, "sound speed or temperature", &why)?;
-                let f = (-(rho.clone() * phi_s.clone())).simplify();
-                let terms = vec![f.clone()];
-                laws.gradients = Some(Gradients {
-                    pressure: f.clone(),
-                    per_pressure: true,
-                    density: (rho.diff(s) / rho.clone()).simplify(),
-                });
-                laws.density = Some(rho);
-                integrand(&mut laws, &mut derived, format!("dP/d{s}"), (f, terms), "");
-            }
-            (_, Unknown::Nothing) => {
-                let rho = need(&m.density, "balance.density", "auditing a set of laws")?;
-                let p = match (&m.pressure, &m.sound_speed_sq) {
-                    (Some(p), None) => p.expr.clone(),
-                    (None, Some(c2)) => (rho.clone() * c2.expr.clone()).simplify(),
-                    _ => {
-                        return Err(ClosureError::Incomplete(
-                            "auditing needs exactly one of balance.pressure and a sound speed \
-                             (gas.sound_speed_sq or gas.temperature)"
-                                .into(),
-                        ))
-                    }
-                };
-                if disk {
-                    let v = need(&m.rotation, "balance.rotation", "auditing a disk")?;
-                    laws.rotation_sq = Some((v.clone() * v).simplify());
-                } else {
-                    laws.gradients = Some(Gradients {
-                        pressure: p.diff(s),
-                        per_pressure: true,
-                        density: (rho.diff(s) / rho.clone()).simplify(),
-                    });
-                }
-                laws.watched.push(("pressure".into(), p.clone()));
-                laws.density = Some(rho);
-                laws.pressure = Some(p);
-            }
-            (false, Unknown::Rotation) => {
-                return Err(ClosureError::Incomplete(
-                    "balance.solve_for: a slab or a sphere has no rotation to solve for".into(),
-                ))
-            }
+        let closure = super::table::closure_for(m.shape, m.unknown)?;
+        for key in closure.requires {
+            key.need(m, &why)?;
         }
+        for key in closure.refuses {
+            key.refuse(m, &why)?;
+        }
+        (closure.build)(
+            m,
+            &Parts {
+                s,
+                r: &r,
+                phi_s: &phi_s,
+                why: &why,
+            },
+            &mut laws,
+            &mut derived,
+        )?;
         laws.watched
             .push(("potential".into(), laws.potential.clone()));
         laws.derived = derived;

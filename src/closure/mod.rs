@@ -24,12 +24,14 @@ pub mod integrate;
 mod laws;
 mod solved;
 pub mod switches;
+pub mod table;
 pub mod tabulate;
 
 pub use domain::Domain;
-pub use laws::{derived_laws, DerivedLaw, Gradients, Laws};
+pub use laws::{derived_laws, DerivedLaw, Gradients, Laws, Parts};
 
 pub use solved::Solved;
+pub use table::{closure_for, Closure, Integrated, LawKey, CLOSURES};
 
 use crate::background::Shape;
 use crate::formula::{FormulaError, Kernel, Program};
@@ -51,17 +53,6 @@ pub enum ClosureError {
     /// A formula failed to compile (an unknown name, say).
     #[error("{origin}: {error}")]
     Formula { origin: String, error: FormulaError },
-}
-
-/// Which quantity a background integrates.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub(crate) enum Integrated {
-    /// ln ρ (disk, found density).
-    LogDensity,
-    /// P itself (disk or slab, found pressure).
-    Pressure,
-    /// ln P (slab, found pressure and density from c²).
-    LogPressure,
 }
 
 /// Compile a formula of the model, an error naming where it came from.
@@ -101,18 +92,15 @@ pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, Closur
         })?;
         // An anchor outside the grid is allowed: the integral runs to it
         // (and `pipeline::cautions` says so).
-        let kind = match (model.shape, model.unknown) {
-            (Shape::DiskMidplane, Unknown::Density) => Integrated::LogDensity,
-            (_, Unknown::Pressure) => Integrated::Pressure,
-            _ => Integrated::LogPressure,
+        let Some(kind) = closure_for(model.shape, model.unknown)?.integrates else {
+            return Err(ClosureError::Incomplete(
+                "this closure has an integrand but integrates nothing".into(),
+            ));
         };
         // ρ or P at the anchor is a physical density or pressure, whichever
         // closure integrates from it.
         if anchor.value.is_nan() || anchor.value <= 0.0 {
-            let what = match kind {
-                Integrated::LogDensity => "density",
-                Integrated::Pressure | Integrated::LogPressure => "pressure",
-            };
+            let what = kind.anchored();
             return Err(ClosureError::NoEquilibrium(format!(
                 "balance.anchor.value: the {what} at the anchor must be positive, found {}",
                 anchor.value
@@ -134,7 +122,7 @@ pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, Closur
         };
         let table = Table::new(
             one("f", integrand)?,
-            one("m", &magnitude(integrand))?,
+            one("m", &magnitude(integrand, &laws.integrand_terms))?,
             careful,
             knots,
             anchor.at,
@@ -257,14 +245,14 @@ pub fn rotation_law_name(model: &Model) -> &'static str {
     }
 }
 
-/// The size of the terms of a sum, Σ|tᵢ| (|e| for anything else): the
-/// scale its rounding is relative to.
-fn magnitude(e: &crate::formula::Expr) -> crate::formula::Expr {
+/// The size of the terms an integrand sums, Σ|tᵢ| (|f| when none are
+/// listed): the scale its rounding is relative to.
+fn magnitude(f: &crate::formula::Expr, terms: &[crate::formula::Expr]) -> crate::formula::Expr {
     use crate::formula::{Expr, Func};
     let abs = |t: &Expr| Expr::call(Func::Abs, vec![t.clone()]);
-    match e {
-        Expr::Add(ts) => Expr::Add(ts.iter().map(abs).collect()),
-        other => abs(other),
+    match terms {
+        [] => abs(f),
+        ts => Expr::Add(ts.iter().map(abs).collect()),
     }
 }
 
