@@ -255,7 +255,10 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 m.unknown.key()
             );
             say!("given");
-            say!("  Phi = {}", show(&m.potential.expr));
+            say!("  Phi = {}", show(&m.potential_field.expr));
+            if m.potential_field.expr != m.potential.expr {
+                say!("  Phi(z = 0) = {}", show(&m.potential.expr));
+            }
             for (n, l) in [
                 ("rho", &m.density),
                 ("c^2", &m.sound_speed_sq),

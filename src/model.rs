@@ -86,6 +86,10 @@ pub struct Model {
     /// Gravitational potential Φ in the background coordinate (the midplane
     /// z = 0 for disks).
     pub potential: Law,
+    /// Φ in every coordinate of the background's frame: R and z for a disk
+    /// (the law as written, not only its midplane); for a slab or a sphere
+    /// the same law as `potential`.
+    pub potential_field: Law,
     /// Anchor of integrated closures.
     pub anchor: Option<Anchor>,
     /// Adiabatic index γ used for the energy.

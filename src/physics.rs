@@ -32,6 +32,21 @@ pub fn point_mass_potential(shape: Shape, mass: Expr, softening: Option<Expr>) -
     .simplify()
 }
 
+/// The point-mass potential in every coordinate of the balance's frame: for
+/// a disk Φ(R, z) = −G M / √(R² + z² + ε²) (Plummer-softened with ε when
+/// given); for a slab or a sphere the same law as [`point_mass_potential`].
+pub fn point_mass_field(shape: Shape, mass: Expr, softening: Option<Expr>) -> Expr {
+    if shape != Shape::DiskMidplane {
+        return point_mass_potential(shape, mass, softening);
+    }
+    let (r, z) = (Expr::name("R"), Expr::name("z"));
+    let mut r2 = r.clone() * r + z.clone() * z;
+    if let Some(eps) = softening {
+        r2 = r2 + eps.clone() * eps;
+    }
+    (-(Expr::name("G") * mass) * Expr::call(Func::Sqrt, vec![r2]).pow(Expr::num(-1.0))).simplify()
+}
+
 /// The isothermal sound speed squared of an ideal gas at temperature `t`
 /// with mean molecular weight `mu`: c² = k_B T / (μ m_u). `k_B` and `m_u`
 /// stay names (built-ins of physical unit systems) so derived laws print

@@ -299,7 +299,7 @@ pub fn from_text(
 
     // Gravity.
     let gravity_owned = top.require("gravity")?;
-    let potential = potential(gravity_owned.node(), shape, &consts)?;
+    let (potential, potential_field) = potential(gravity_owned.node(), shape, &consts)?;
 
     // Gas.
     let gas_owned = top.require("gas")?;
@@ -392,6 +392,7 @@ pub fn from_text(
         rotation,
         pressure,
         potential,
+        potential_field,
         anchor,
         gamma,
         molecular_weight: molecular_weight.map(|(v, _)| v),

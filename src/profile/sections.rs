@@ -18,7 +18,14 @@ use crate::output::Precision;
 use crate::physics;
 use crate::sample::SamplingRule;
 
-pub(super) fn potential(node: Node, shape: Shape, consts: &[&str]) -> Result<Law, ProfileError> {
+/// The potential on the balance coordinate, and in every coordinate of the
+/// background's frame (R and z for a disk; the same law for a slab or a
+/// sphere).
+pub(super) fn potential(
+    node: Node,
+    shape: Shape,
+    consts: &[&str],
+) -> Result<(Law, Law), ProfileError> {
     node.only_keys(&["uniform", "point_mass", "softening", "potential"])?;
     let coord = shape.coordinate();
     let mut names: Vec<&str> = consts.to_vec();
@@ -41,10 +48,11 @@ pub(super) fn potential(node: Node, shape: Shape, consts: &[&str]) -> Result<Law
             return Err(node.error("softening goes with point_mass only"));
         }
         let expr = physics::uniform_potential(shape, g.formula(consts)?);
-        return Ok(Law {
+        let law = Law {
             expr,
             origin: g.path(),
-        });
+        };
+        return Ok((law.clone(), law));
     }
     if let Some(m) = node.child("point_mass") {
         let m = m.node();
@@ -53,11 +61,16 @@ pub(super) fn potential(node: Node, shape: Shape, consts: &[&str]) -> Result<Law
             Some(e) => Some(e.node().formula(consts)?),
             None => None,
         };
+        let field = Law {
+            expr: physics::point_mass_field(shape, mass.clone(), softening.clone()),
+            origin: m.path(),
+        };
         let expr = physics::point_mass_potential(shape, mass, softening);
-        return Ok(Law {
+        let line = Law {
             expr,
             origin: m.path(),
-        });
+        };
+        return Ok((line, field));
     }
     let p = node.require("potential")?;
     let p = p.node();
@@ -68,15 +81,21 @@ pub(super) fn potential(node: Node, shape: Shape, consts: &[&str]) -> Result<Law
         names.push("z");
         let e = p.formula(&names)?;
         let mid = e.substitute(&[("z".to_string(), Expr::num(0.0))].into_iter().collect());
-        return Ok(Law {
+        let field = Law {
+            expr: e,
+            origin: p.path(),
+        };
+        let line = Law {
             expr: mid,
             origin: p.path(),
-        });
+        };
+        return Ok((line, field));
     }
-    Ok(Law {
+    let law = Law {
         expr: p.formula(&names)?,
         origin: p.path(),
-    })
+    };
+    Ok((law.clone(), law))
 }
 
 pub(super) fn grid(

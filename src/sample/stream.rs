@@ -176,7 +176,7 @@ impl<'a> Sampler<'a> {
                         cell[a] = red[a].start + rest % red[a].len();
                         rest /= red[a].len();
                     }
-                    self.line(&cell, &outer, buf)
+                    self.line(&cell, &outer, red[self.lane].clone(), buf)
                 },
             )
             .collect();
@@ -201,18 +201,22 @@ impl<'a> Sampler<'a> {
         }
     }
 
-    /// The slot values of every cell along the lane axis, for the cells
+    /// The slot values of the cells `cells` of the lane axis (all of them,
+    /// or the slab's rows when the lane axis is the first), for the cells
     /// `cell` of the outer axes (inactive axes at cell 0).
     fn line(
         &self,
         cell: &[usize],
         outer: &[usize],
+        cells: Range<usize>,
         buf: &mut ThreadBuffers,
     ) -> Result<Vec<f64>, SampleError> {
         let nslots = self.slots.len();
         let lane = &self.axes[self.lane];
-        let nlane = lane.nodes.len();
-        let ncells = nlane / lane.per_cell;
+        // The nodes of the cells `cells` of the lane axis.
+        let first = cells.start * lane.per_cell;
+        let ncells = cells.len();
+        let nlane = ncells * lane.per_cell;
         let mut acc = vec![0.0; ncells * nslots];
         // The first failure of each lane cell: (node index in the cell, error).
         let mut failed: Vec<Option<(usize, SampleError)>> = vec![None; ncells];
@@ -243,7 +247,7 @@ impl<'a> Sampler<'a> {
                 let n = LANES.min(nlane - start);
                 for (a, (g, p)) in buf.grid.iter_mut().zip(&point).enumerate() {
                     if a == self.lane {
-                        g[..n].copy_from_slice(&lane.nodes[start..start + n]);
+                        g[..n].copy_from_slice(&lane.nodes[first + start..first + start + n]);
                     } else {
                         g[..n].fill(*p);
                     }
@@ -278,7 +282,7 @@ impl<'a> Sampler<'a> {
                         let c = k / lane.per_cell;
                         let q = qo * lane.per_cell + k % lane.per_cell;
                         if failed[c].as_ref().is_none_or(|(q0, _)| q < *q0) {
-                            point[self.lane] = lane.nodes[k];
+                            point[self.lane] = lane.nodes[first + k];
                             failed[c] = Some((q, slots::point_error(e, self.grid, &point)));
                         }
                     }
@@ -292,7 +296,7 @@ impl<'a> Sampler<'a> {
                     let k = start + i;
                     let sums = &mut acc[(k / lane.per_cell) * nslots..][..nslots];
                     if self.averaged {
-                        let w = weight * lane.weights[k];
+                        let w = weight * lane.weights[first + k];
                         for (s, v) in sums[..vol].iter_mut().zip(&buf.values) {
                             *s += w * v[i];
                         }
