@@ -337,18 +337,26 @@ fn build(
         precision: loaded.output.precision,
         slab_rows: stream.slab_rows.map(|n| n as usize),
     };
-    output::commit(&h5, force, |tmp| built.write_hdf5(tmp, &opts))?;
+    let mut metadata = None;
+    output::commit(&h5, force, |tmp| {
+        metadata = Some(built.write_hdf5(tmp, &opts)?);
+        Ok::<(), Error>(())
+    })?;
+    let metadata = match metadata {
+        Some(m) => m,
+        None => built.verify()?,
+    };
     if let Some(c) = &csv_path {
         let set = built.sample_all()?;
         let doc = Document {
             grid: &loaded.grid,
             background: &set,
             state: &set,
-            metadata: &built.metadata,
+            metadata: &metadata,
         };
         output::commit(c, force, |tmp| output::write_csv(&doc, tmp))?;
     }
-    report_written(&loaded, &h5, csv_path.as_deref(), &built.metadata.cautions);
+    report_written(&loaded, &h5, csv_path.as_deref(), &metadata.cautions);
     Ok(Outcome::Ok)
 }
 

@@ -139,41 +139,26 @@ pub const SLAB_BYTES: usize = 8 << 20;
 pub struct Built<'a> {
     loaded: &'a Loaded,
     background: Solved,
-    /// File metadata, cautions included.
+    domain: Domain,
+    /// File metadata; the verification's cautions are added when it runs
+    /// ([`Built::verify`], which [`Built::write_hdf5`] runs).
     pub metadata: Metadata,
 }
 
-/// Solve, verify and describe; sampling happens as the output is written.
-/// The verification is the check `stillpoint check` runs (jumps, the
-/// closed- or integral-form balance) at the default tolerance; a state that
-/// fails it is refused, except an audit (`solve_for: nothing`), which is
-/// written with a caution, and jumps the profile declares intended.
+/// Solve and describe; verification and sampling happen as the output is
+/// written (see [`Built::write_hdf5`]).
 pub fn build<'a>(
     loaded: &'a Loaded,
     command_line: &str,
     reproducible: bool,
 ) -> Result<Built<'a>, Error> {
     let (bg, domain) = solve(loaded)?;
-    let centres = centres_for(&loaded.grid);
-    let report = crate::check::run(
-        &loaded.model,
-        &bg,
-        &domain,
-        &centres,
-        crate::check::DEFAULT_TOLERANCE,
-    )
-    .map_err(|e| Error::closure(loaded, e))?;
-    let verified = verdict_cautions(loaded, &report)?;
     let metadata = Metadata {
         profile_json: loaded.json_text.clone(),
         command_line: command_line.to_string(),
         generator: format!("stillpoint {}", env!("CARGO_PKG_VERSION")),
         units: loaded.model.units,
-        cautions: {
-            let mut c = verified;
-            c.extend(cautions(loaded, &bg, &domain));
-            c
-        },
+        cautions: cautions(loaded, &bg, &domain),
         extra: vec![
             ("balance".into(), balance_description(&loaded.model).into()),
             ("solved_for".into(), loaded.model.unknown.key().into()),
@@ -185,6 +170,7 @@ pub fn build<'a>(
     Ok(Built {
         loaded,
         background: bg,
+        domain,
         metadata,
     })
 }
@@ -193,6 +179,29 @@ impl Built<'_> {
     /// The background as solved.
     pub fn background(&self) -> &dyn Background {
         &self.background
+    }
+
+    /// The verification `stillpoint check` runs (jumps, the closed- or
+    /// integral-form balance) at the default tolerance: an error for a
+    /// state that fails it — except an audit (`solve_for: nothing`) and
+    /// jumps the profile declares intended, which are cautions — and the
+    /// metadata with those cautions first.
+    pub fn verify(&self) -> Result<Metadata, Error> {
+        let loaded = self.loaded;
+        let centres = centres_for(&loaded.grid);
+        let report = crate::check::run(
+            &loaded.model,
+            &self.background,
+            &self.domain,
+            &centres,
+            crate::check::DEFAULT_TOLERANCE,
+        )
+        .map_err(|e| Error::closure(loaded, e))?;
+        let mut meta = self.metadata.clone();
+        let mut cautions = verdict_cautions(loaded, &report)?;
+        cautions.append(&mut meta.cautions);
+        meta.cautions = cautions;
+        Ok(meta)
     }
 
     /// The sampler of the background on the profile's grid and rule.
@@ -224,11 +233,15 @@ impl Built<'_> {
         .map_err(|e| self.sample_error(e))
     }
 
-    /// Sample slab by slab and stream into a new HDF5 file at `path`:
-    /// `/background` holds the fields and `/state` links to them (nothing
-    /// perturbs the state yet). One thread samples the next slab while
-    /// another writes the last, so memory holds at most three slabs.
-    pub fn write_hdf5(&self, path: &Path, opts: &StreamOptions) -> Result<(), Error> {
+    /// Verify, sample slab by slab and stream into a new HDF5 file at
+    /// `path`: `/background` holds the fields and `/state` links to them
+    /// (nothing perturbs the state yet). Three things run at once: the
+    /// verification, the sampling of the next slab (on the caller's thread
+    /// pool, so `--threads` holds) and the writing of the last one; memory
+    /// holds at most three slabs. A failed verification stops the sampling
+    /// and is the error (the caller's [`crate::output::commit`] removes the
+    /// partial file). Returns the metadata written, cautions included.
+    pub fn write_hdf5(&self, path: &Path, opts: &StreamOptions) -> Result<Metadata, Error> {
         let sampler = self.sampler()?;
         let fields = sampler.fields();
         let grid = &self.loaded.grid;
@@ -244,7 +257,7 @@ impl Built<'_> {
                 link_to: Some("background".into()),
             },
         ];
-        let mut out = H5Stream::create(
+        let out = H5Stream::create(
             path,
             grid,
             &self.metadata,
@@ -257,10 +270,17 @@ impl Built<'_> {
             let row_bytes = 8 * fields.len() * shape[1..].iter().product::<usize>();
             (SLAB_BYTES / row_bytes.max(1)).max(1)
         });
-        // This thread samples (inside the caller's thread pool, so
-        // `--threads` holds); another writes, one slab behind.
-        let out = std::thread::scope(|scope| {
+        let refused = std::sync::atomic::AtomicBool::new(false);
+        let (out, meta) = std::thread::scope(|scope| {
+            let verifier = scope.spawn(|| {
+                let v = self.verify();
+                if v.is_err() {
+                    refused.store(true, std::sync::atomic::Ordering::Relaxed);
+                }
+                v
+            });
             let (tx, rx) = std::sync::mpsc::sync_channel::<Slab>(1);
+            let mut out = out;
             let writer = scope.spawn(move || -> Result<H5Stream, OutputError> {
                 for slab in rx {
                     out.write("background", &slab)?;
@@ -269,6 +289,9 @@ impl Built<'_> {
             });
             let sampled = (|| {
                 for r in slab_ranges(shape[0], rows) {
+                    if refused.load(std::sync::atomic::Ordering::Relaxed) {
+                        break; // the verifier's error is reported
+                    }
                     let slab = sampler.slab(r).map_err(|e| self.sample_error(e))?;
                     if tx.send(slab).is_err() {
                         break; // the writer stopped: its error is reported
@@ -280,11 +303,14 @@ impl Built<'_> {
             let written = writer
                 .join()
                 .unwrap_or_else(|p| std::panic::resume_unwind(p));
+            let meta = verifier
+                .join()
+                .unwrap_or_else(|p| std::panic::resume_unwind(p))?;
             sampled?;
-            Ok::<H5Stream, Error>(written?)
+            Ok::<_, Error>((written?, meta))
         })?;
-        out.finish()?;
-        Ok(())
+        out.finish(&meta)?;
+        Ok(meta)
     }
 }
 

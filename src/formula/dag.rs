@@ -10,9 +10,9 @@
 //! run of constant terms folds to one constant, `s + (-1)*r` is `s - r`,
 //! `(-1)*x` is `-x`, and every variable-free subtree is one constant.
 
-use super::expr::{minus_one, pow_f64, resolve_name, Resolved};
+use super::expr::{minus_one, pow_f64, quarter_power, resolve_name, Resolved};
 use super::lanes::{select_scalar, Bin, Bits, Un};
-use super::{Cond, Expr, FormulaError};
+use super::{Cond, Expr, FormulaError, Func};
 use std::collections::HashMap;
 
 /// A value of the graph: a run-time variable, a constant, or a node.
@@ -178,6 +178,14 @@ impl<'a> Graph<'a> {
         let c = c.get();
         if let Val::Const(k) = b {
             return Val::num(pow_f64(k.get(), c));
+        }
+        if let Some((k, roots)) = quarter_power(c) {
+            // Exactly as `pow_f64`: roots of b + 0, then an integer power.
+            let mut r = self.bin(Bin::Add, b, Val::num(0.0));
+            for _ in 0..roots {
+                r = self.un(Un::Call(Func::Sqrt), r);
+            }
+            return self.pow(r, Val::num(f64::from(k)));
         }
         if !(c.fract() == 0.0 && c.abs() <= 64.0) {
             return self.un(Un::PowF(Bits::of(c)), b);

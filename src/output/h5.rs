@@ -74,6 +74,7 @@ pub struct H5Stream {
     groups: Vec<(String, Vec<(FieldSpec, Dataset)>)>,
     n0: usize,
     precision: Precision,
+    sampling: String,
 }
 
 fn h5_error(path: &Path) -> impl Fn(Box<dyn Error>) -> OutputError + '_ {
@@ -85,10 +86,11 @@ fn h5_error(path: &Path) -> impl Fn(Box<dyn Error>) -> OutputError + '_ {
 
 impl H5Stream {
     /// Create the file at `path` (replacing any file there; use
-    /// [`super::commit`] for a safe replacement) with its attributes, the
-    /// grid, and an empty chunked dataset for every field of every group.
-    /// With [`Precision::Single`] the fields are 32-bit floats and
-    /// [`SINGLE_PRECISION_CAUTION`] is added to the cautions.
+    /// [`super::commit`] for a safe replacement) with the grid, the unit
+    /// record and an empty chunked dataset for every field of every group;
+    /// the root attributes are written by [`H5Stream::finish`], when every
+    /// caution is known. With [`Precision::Single`] the fields are 32-bit
+    /// floats and [`SINGLE_PRECISION_CAUTION`] is added to the cautions.
     pub fn create(
         path: &Path,
         grid: &Grid,
@@ -119,8 +121,8 @@ impl H5Stream {
         let file = File::with_options()
             .with_fcpl(|p| p.obj_track_times(false))
             .create(path)?;
-        root_attributes(&file, meta, sampling, precision)?;
         let units = meta.units;
+        write_scales(&file, units)?;
         let g = file.create_group("grid")?;
         for axis in grid.axes() {
             let unit = axis_units(axis, units);
@@ -160,6 +162,7 @@ impl H5Stream {
             groups: written,
             n0: cells[0],
             precision,
+            sampling: sampling.to_string(),
         })
     }
 
@@ -188,8 +191,18 @@ impl H5Stream {
         Ok(())
     }
 
-    /// Flush and close the file.
-    pub fn finish(self) -> Result<(), OutputError> {
+    /// Write the root attributes from `meta`, then flush and close the file.
+    pub fn finish(self, meta: &super::Metadata) -> Result<(), OutputError> {
+        for (name, _) in &meta.extra {
+            if RESERVED.contains(&name.as_str()) {
+                return Err(OutputError::Inconsistent {
+                    path: self.path.clone(),
+                    message: format!("extra attribute `{name}` collides with a reserved name"),
+                });
+            }
+        }
+        root_attributes(&self.file, meta, &self.sampling, self.precision)
+            .map_err(h5_error(&self.path))?;
         self.file
             .flush()
             .map_err(|e| h5_error(&self.path)(Box::new(e)))?;
@@ -205,13 +218,11 @@ fn root_attributes(
     sampling: &str,
     precision: Precision,
 ) -> H5Result {
-    let units = meta.units;
     string_attr(file, "profile", &meta.profile_json)?;
     if !meta.reproducible {
         string_attr(file, "command_line", &meta.command_line)?;
     }
     string_attr(file, "generator", &meta.generator)?;
-    write_scales(file, units)?;
     string_attr(file, "sampling", sampling)?;
     let mut cautions = meta.cautions.clone();
     if precision == Precision::Single && !cautions.iter().any(|c| c == SINGLE_PRECISION_CAUTION) {
@@ -355,7 +366,7 @@ pub fn write_hdf5(doc: &Document, path: &Path, precision: Precision) -> Result<(
     if !linked {
         out.write("state", &slab(doc.state))?;
     }
-    out.finish()
+    out.finish(doc.metadata)
 }
 
 /// A scalar variable-length UTF-8 string attribute.

@@ -77,6 +77,8 @@ struct ThreadBuffers {
     bg: Workspace,
     values: Vec<Vec<f64>>,
     bad: Vec<(usize, slots::Failure)>,
+    cell: Vec<usize>,
+    weight: Vec<f64>,
 }
 
 /// A background prepared for sampling on a grid under a rule. Produces the
@@ -164,7 +166,6 @@ impl<'a> Sampler<'a> {
             .filter(|a| self.active[*a] && *a != self.lane)
             .collect();
         let lines: usize = outer.iter().map(|a| red[*a].len()).product();
-        let per_line = self.slots.len() * red[self.lane].len();
         let computed: Vec<Result<Vec<f64>, SampleError>> = (0..lines)
             .into_par_iter()
             .map_init(
@@ -180,11 +181,11 @@ impl<'a> Sampler<'a> {
                 },
             )
             .collect();
-        let mut reduced = Vec::with_capacity(lines * per_line);
+        let mut done = Vec::with_capacity(lines);
         for r in computed {
-            reduced.extend(r?);
+            done.push(r?);
         }
-        Ok(self.expand(&reduced, rows, &red))
+        Ok(self.expand(&done, rows, &red))
     }
 
     fn buffers(&self) -> ThreadBuffers {
@@ -198,12 +199,15 @@ impl<'a> Sampler<'a> {
             bg: self.bg.workspace(),
             values: lanes(self.slots.volume()),
             bad: Vec::new(),
+            cell: vec![0; LANES],
+            weight: vec![0.0; LANES],
         }
     }
 
     /// The slot values of the cells `cells` of the lane axis (all of them,
     /// or the slab's rows when the lane axis is the first), for the cells
-    /// `cell` of the outer axes (inactive axes at cell 0).
+    /// `cell` of the outer axes (inactive axes at cell 0), slot-major: slot
+    /// s of lane cell c at `s * cells.len() + c`.
     fn line(
         &self,
         cell: &[usize],
@@ -212,17 +216,20 @@ impl<'a> Sampler<'a> {
         buf: &mut ThreadBuffers,
     ) -> Result<Vec<f64>, SampleError> {
         let nslots = self.slots.len();
+        let vol = self.slots.volume();
         let lane = &self.axes[self.lane];
         // The nodes of the cells `cells` of the lane axis.
         let first = cells.start * lane.per_cell;
         let ncells = cells.len();
         let nlane = ncells * lane.per_cell;
         let mut acc = vec![0.0; ncells * nslots];
-        // The first failure of each lane cell: (node index in the cell, error).
-        let mut failed: Vec<Option<(usize, SampleError)>> = vec![None; ncells];
+        // The first failure of a lane cell: (cell, node index in the cell,
+        // error); kept only when something fails.
+        let mut failed: Vec<(usize, usize, SampleError)> = Vec::new();
         let outer_nodes: usize = outer.iter().map(|a| self.axes[*a].per_cell).product();
         let nd = cell.len();
         let mut point = vec![0.0; nd];
+        let dims = self.embed.frame().dims();
         for qo in 0..outer_nodes {
             // Coordinates and weight of this combination of outer nodes; an
             // inactive axis sits at its first node.
@@ -254,7 +261,6 @@ impl<'a> Sampler<'a> {
                 }
                 let grid_lanes: Vec<&[f64]> = buf.grid.iter().map(|v| &v[..n]).collect();
                 self.embed.to_frame(&grid_lanes, n, &mut buf.frame);
-                let dims = self.embed.frame().dims();
                 let frame: Vec<&[f64]> = buf.frame[..dims].iter().map(|v| &v[..n]).collect();
                 self.bg
                     .eval(&frame, Want::default(), &mut buf.state, &mut buf.bg);
@@ -273,76 +279,87 @@ impl<'a> Sampler<'a> {
                     &mut buf.values,
                     &mut buf.bad,
                 );
-                let mut skip = None;
-                if !buf.bad.is_empty() {
-                    let mut mask = vec![false; n];
-                    for &(i, e) in &buf.bad {
-                        mask[i] = true;
-                        let k = start + i;
-                        let c = k / lane.per_cell;
-                        let q = qo * lane.per_cell + k % lane.per_cell;
-                        if failed[c].as_ref().is_none_or(|(q0, _)| q < *q0) {
-                            point[self.lane] = lane.nodes[first + k];
-                            failed[c] = Some((q, slots::point_error(e, self.grid, &point)));
-                        }
-                    }
-                    skip = Some(mask);
-                }
-                let vol = self.slots.volume();
+                // The lane cell and weight of every lane, counted without
+                // divisions.
+                let (mut c, mut q) = (start / lane.per_cell, start % lane.per_cell);
                 for i in 0..n {
-                    if skip.as_ref().is_some_and(|m| m[i]) {
-                        continue;
+                    buf.cell[i] = c;
+                    buf.weight[i] = weight * lane.weights[first + start + i];
+                    q += 1;
+                    if q == lane.per_cell {
+                        (c, q) = (c + 1, 0);
                     }
+                }
+                for &(i, e) in &buf.bad {
                     let k = start + i;
-                    let sums = &mut acc[(k / lane.per_cell) * nslots..][..nslots];
+                    let (c, q) = (buf.cell[i], qo * lane.per_cell + k % lane.per_cell);
+                    buf.weight[i] = 0.0;
+                    match failed.iter_mut().find(|f| f.0 == c) {
+                        Some(f) if q >= f.1 => {}
+                        found => {
+                            point[self.lane] = lane.nodes[first + k];
+                            let err = slots::point_error(e, self.grid, &point);
+                            match found {
+                                Some(f) => *f = (c, q, err),
+                                None => failed.push((c, q, err)),
+                            }
+                        }
+                    }
+                }
+                let (cells_of, w) = (&buf.cell[..n], &buf.weight[..n]);
+                for (s, v) in buf.values.iter().enumerate() {
+                    let sums = &mut acc[s * ncells..(s + 1) * ncells];
                     if self.averaged {
-                        let w = weight * lane.weights[first + k];
-                        for (s, v) in sums[..vol].iter_mut().zip(&buf.values) {
-                            *s += w * v[i];
+                        for ((c, w), v) in cells_of.iter().zip(w).zip(&v[..n]) {
+                            sums[*c] += w * v;
                         }
-                        sums[vol] += w;
                     } else {
-                        for (s, v) in sums[..vol].iter_mut().zip(&buf.values) {
-                            *s = v[i];
+                        for (c, v) in cells_of.iter().zip(&v[..n]) {
+                            sums[*c] = *v;
                         }
+                    }
+                }
+                if self.averaged {
+                    let sums = &mut acc[vol * ncells..];
+                    for (c, w) in cells_of.iter().zip(w) {
+                        sums[*c] += w;
                     }
                 }
             }
         }
-        if let Some((_, e)) = failed.into_iter().flatten().next() {
+        if let Some((_, _, e)) = failed.into_iter().min_by_key(|f| f.0) {
             return Err(e);
         }
         if self.averaged {
-            let (mom, vel, vol) = (self.slots.mom(), self.slots.vel(), self.slots.volume());
-            for sums in acc.chunks_mut(nslots) {
-                let v = sums[vol];
-                for s in &mut sums[..vol] {
+            let (head, volume) = acc.split_at_mut(vol * ncells);
+            for sums in head.chunks_mut(ncells) {
+                for (s, v) in sums.iter_mut().zip(volume.iter()) {
                     *s /= v;
                 }
-                // Mass-weighted velocity: momentum = density × velocity.
-                for c in 0..self.slots.ncomp {
-                    sums[vel + c] = sums[mom + c] / sums[RHO];
+            }
+            // Mass-weighted velocity: momentum = density × velocity.
+            let (mom, vel) = (self.slots.mom(), self.slots.vel());
+            for comp in 0..self.slots.ncomp {
+                for c in 0..ncells {
+                    acc[(vel + comp) * ncells + c] =
+                        acc[(mom + comp) * ncells + c] / acc[RHO * ncells + c];
                 }
             }
         }
         Ok(acc)
     }
 
-    /// The slab's fields from the reduced values (C order over the reduced
-    /// shape `red`), broadcast along inactive axes.
-    fn expand(&self, reduced: &[f64], rows: Range<usize>, red: &[Range<usize>]) -> Slab {
+    /// The slab's fields from the lines (each slot-major, in C order of the
+    /// outer active axes), broadcast along inactive axes. The output is
+    /// written in runs along the last axis: a copy of a line's values when
+    /// the last axis is the lane axis, one value repeated when it is
+    /// inactive.
+    fn expand(&self, lines: &[Vec<f64>], rows: Range<usize>, red: &[Range<usize>]) -> Slab {
         let shape = self.grid.shape();
         let nd = shape.len();
-        let nslots = self.slots.len();
-        // Strides of the reduced array, zero along inactive axes.
-        let mut stride = vec![0usize; nd];
-        let mut s = 1;
-        for a in (0..nd).rev() {
-            if red[a].len() > 1 || self.active[a] {
-                stride[a] = s;
-            }
-            s *= red[a].len();
-        }
+        let last = nd - 1;
+        let run = if last == 0 { rows.len() } else { shape[last] };
+        let ncells = red[self.lane].len();
         let mut out_shape = shape.clone();
         out_shape[0] = rows.len();
         let cells: usize = out_shape.iter().product();
@@ -351,18 +368,32 @@ impl<'a> Sampler<'a> {
             .iter()
             .map(|_| Vec::with_capacity(cells))
             .collect();
+        // Strides of the line index over the outer active axes.
+        let outer: Vec<usize> = (0..nd)
+            .filter(|a| self.active[*a] && *a != self.lane)
+            .collect();
         let mut idx = vec![0usize; nd];
-        for _ in 0..cells {
-            let mut r = 0;
-            for a in 0..nd {
+        for _ in 0..cells / run {
+            let (mut line, mut c) = (0usize, 0usize);
+            for &a in &outer {
                 let i = if a == 0 { rows.start + idx[0] } else { idx[a] };
-                r += (i - red[a].start.min(i)) * stride[a];
+                line = line * red[a].len() + (i - red[a].start);
             }
-            let src = &reduced[r * nslots..(r + 1) * nslots];
+            if self.lane != last {
+                let a = self.lane;
+                let i = if a == 0 { rows.start + idx[0] } else { idx[a] };
+                c = i - red[a].start;
+            }
+            let src = &lines[line];
             for (d, e) in data.iter_mut().zip(&self.entries) {
-                d.push(src[e.slot]);
+                let values = &src[e.slot * ncells..(e.slot + 1) * ncells];
+                if self.lane == last {
+                    d.extend_from_slice(values);
+                } else {
+                    d.extend(std::iter::repeat_n(values[c], run));
+                }
             }
-            for a in (0..nd).rev() {
+            for a in (0..last).rev() {
                 idx[a] += 1;
                 if idx[a] < out_shape[a] {
                     break;
