@@ -235,10 +235,11 @@ impl Built<'_> {
 
     /// Verify, sample slab by slab and stream into a new HDF5 file at
     /// `path`: `/background` holds the fields and `/state` links to them
-    /// (nothing perturbs the state yet). Three things run at once: the
-    /// verification, the sampling of the next slab (on the caller's thread
-    /// pool, so `--threads` holds) and the writing of the last one; memory
-    /// holds at most three slabs. A failed verification stops the sampling
+    /// (nothing perturbs the state yet). With more than one thread in the
+    /// caller's pool, three things run at once: the verification, the
+    /// sampling of the next slab (on the pool) and the writing of the last
+    /// one; memory holds at most three slabs. With one thread (`--threads
+    /// 1`) the three take turns on it. A failed verification stops the sampling
     /// and is the error (the caller's [`crate::output::commit`] removes the
     /// partial file). Returns the metadata written, cautions included.
     pub fn write_hdf5(&self, path: &Path, opts: &StreamOptions) -> Result<Metadata, Error> {
@@ -266,10 +267,30 @@ impl Built<'_> {
             opts.precision,
         )?;
         let shape = grid.shape();
+        // About SLAB_BYTES a slab, in whole chunk rows of the datasets, so
+        // that every chunk is written whole by one slab.
         let rows = opts.slab_rows.unwrap_or_else(|| {
             let row_bytes = 8 * fields.len() * shape[1..].iter().product::<usize>();
-            (SLAB_BYTES / row_bytes.max(1)).max(1)
+            let chunk = crate::output::chunk_shape(&shape, 8)[0];
+            let fit = SLAB_BYTES / row_bytes.max(1);
+            (fit / chunk).max(1) * chunk
         });
+        if rayon::current_num_threads() == 1 {
+            // One thread: verify (a refused state stops before any work),
+            // then sample and write in turn.
+            let meta = self.verify()?;
+            let mut out = out;
+            let mut reuse = Vec::new();
+            for r in slab_ranges(shape[0], rows) {
+                let slab = sampler
+                    .slab_into(r, reuse)
+                    .map_err(|e| self.sample_error(e))?;
+                out.write("background", &slab)?;
+                reuse = slab.data;
+            }
+            out.finish(&meta)?;
+            return Ok(meta);
+        }
         let refused = std::sync::atomic::AtomicBool::new(false);
         let (out, meta) = std::thread::scope(|scope| {
             let verifier = scope.spawn(|| {

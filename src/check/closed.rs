@@ -50,16 +50,26 @@ pub(super) fn closed_form(
         origin: "residual".into(),
         error,
     };
-    // Probabilistic identity test in 256-bit arithmetic.
+    // Probabilistic identity test in 256-bit arithmetic: the residual in
+    // 256 bits, the size of its largest term (a scale, needed to a few
+    // digits) in double precision unless that is not finite.
+    let comp = |e: &Expr| model.compile(e).map_err(fail);
+    let tps: Vec<Program> = terms
+        .iter()
+        .map(|(_, t)| comp(t))
+        .collect::<Result<_, _>>()?;
     let trials = identity_points(domain, switches);
     let mut worst = 0.0f64;
     let mut ok = true;
     for &x in &trials {
         let look = |n: &str| if n == s { Some(x) } else { model.lookup(n) };
         let r = res.eval_extended(&look).map_err(fail)?;
-        let mut scale = 0.0f64;
-        for (_, t) in terms {
-            scale = scale.max(t.eval_extended(&look).map_err(fail)?.abs());
+        let mut scale = tps.iter().map(|p| p.eval(&[x]).abs()).fold(0.0, f64::max);
+        if !scale.is_finite() {
+            scale = 0.0;
+            for (_, t) in terms {
+                scale = scale.max(t.eval_extended(&look).map_err(fail)?.abs());
+            }
         }
         if !r.is_finite() || !scale.is_finite() {
             ok = false;
@@ -89,12 +99,7 @@ pub(super) fn closed_form(
         ));
     }
     // Not zero as a formula: measure it in double precision over the domain.
-    let comp = |e: &Expr| model.compile(e).map_err(fail);
     let rp = comp(res)?;
-    let tps: Vec<Program> = terms
-        .iter()
-        .map(|(_, t)| comp(t))
-        .collect::<Result<_, _>>()?;
     let (mut max, mut at) = (0.0f64, domain.lo);
     for x in domain.scan_points_with(switches) {
         let scale = tps.iter().map(|p| p.eval(&[x]).abs()).fold(0.0, f64::max);

@@ -133,10 +133,17 @@ pub fn survey(
     rotation_sq: Option<&dyn Fn(f64) -> f64>,
     pts: &[f64],
 ) -> Vec<Extent> {
+    // Each state once per scan point; points between them (the ends of a
+    // failing interval being refined) are evaluated as they come.
+    let states: Vec<crate::background::State> = pts.iter().map(|&x| bg.on_line(x)).collect();
+    let state = |x: f64| match pts.binary_search_by(|p| p.total_cmp(&x)) {
+        Ok(i) => states[i],
+        Err(_) => bg.on_line(x),
+    };
     let mut out = vec![
-        extent("density", true, &|x| bg.on_line(x).density, pts),
-        extent("pressure", true, &|x| bg.on_line(x).pressure, pts),
-        extent("c^2", true, &|x| bg.on_line(x).sound_speed_sq(), pts),
+        extent("density", true, &|x| state(x).density, pts),
+        extent("pressure", true, &|x| state(x).pressure, pts),
+        extent("c^2", true, &|x| state(x).sound_speed_sq(), pts),
     ];
     if let Some(v2) = rotation_sq {
         out.push(extent("v_phi^2", false, v2, pts));

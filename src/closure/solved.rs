@@ -14,6 +14,13 @@ use crate::background::{Background, Frame, Shape, State, StateBlock, Want, Works
 use crate::formula::{Expr, Func, Kernel, Program};
 use crate::model::Model;
 
+thread_local! {
+    /// Registers for scalar evaluations ([`Solved::at`]): one set for the
+    /// law programs, one for the table's integrand (which may run inside).
+    static SCALAR: std::cell::RefCell<(crate::formula::Workspace, crate::formula::Workspace)> =
+        std::cell::RefCell::default();
+}
+
 /// Positions of the outputs of the law program.
 #[derive(Clone, Copy, Debug, Default)]
 struct Outputs {
@@ -105,7 +112,7 @@ impl Solved {
     /// Φ at `s` as the law gives it, without the limit taken at the axis.
     pub(super) fn raw_potential(&self, s: f64) -> f64 {
         let mut o = [0.0; 5];
-        self.laws.eval(&[s], &mut o, &mut self.laws.workspace());
+        SCALAR.with(|w| self.laws.eval(&[s], &mut o, &mut w.borrow_mut().0));
         o[self.out.phi]
     }
 

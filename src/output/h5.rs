@@ -50,7 +50,7 @@ const RESERVED: [&str; 6] = [
 ];
 
 /// Target size of one chunk of a field dataset, in bytes.
-const CHUNK_BYTES: usize = 512 * 1024;
+const CHUNK_BYTES: usize = 1 << 20;
 
 /// One group of fields in a file: written from slabs, or soft links to the
 /// same-named datasets of another group.

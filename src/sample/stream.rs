@@ -77,7 +77,6 @@ struct ThreadBuffers {
     bg: Workspace,
     values: Vec<Vec<f64>>,
     bad: Vec<(usize, slots::Failure)>,
-    cell: Vec<usize>,
     weight: Vec<f64>,
 }
 
@@ -95,6 +94,8 @@ pub struct Sampler<'a> {
     slots: Slots,
     entries: Vec<Entry>,
     sampling: String,
+    /// Reduced arrays of earlier slabs, for reuse.
+    scratch: std::sync::Mutex<Vec<Vec<f64>>>,
 }
 
 impl<'a> Sampler<'a> {
@@ -132,6 +133,7 @@ impl<'a> Sampler<'a> {
             slots,
             entries,
             sampling: rule.describe(grid),
+            scratch: std::sync::Mutex::new(Vec::new()),
         })
     }
 
@@ -148,6 +150,13 @@ impl<'a> Sampler<'a> {
     /// The fields for the cells `rows` of the first axis. Errors name the
     /// first bad point in C order of cells.
     pub fn slab(&self, rows: Range<usize>) -> Result<Slab, SampleError> {
+        self.slab_into(rows, Vec::new())
+    }
+
+    /// [`Sampler::slab`], reusing the arrays of an earlier slab (`reuse`,
+    /// the `data` of a slab that was written) so that a stream of slabs
+    /// allocates its memory once.
+    pub fn slab_into(&self, rows: Range<usize>, reuse: Vec<Vec<f64>>) -> Result<Slab, SampleError> {
         let shape = self.grid.shape();
         let nd = shape.len();
         // The reduced grid: active axes keep their cells (the first axis only
@@ -166,26 +175,40 @@ impl<'a> Sampler<'a> {
             .filter(|a| self.active[*a] && *a != self.lane)
             .collect();
         let lines: usize = outer.iter().map(|a| red[*a].len()).product();
-        let computed: Vec<Result<Vec<f64>, SampleError>> = (0..lines)
-            .into_par_iter()
+        let per_line = self.slots.len() * red[self.lane].len();
+        // One reduced array for the slab, reused from slab to slab.
+        let mut reduced = self
+            .scratch
+            .lock()
+            .ok()
+            .and_then(|mut p| p.pop())
+            .unwrap_or_default();
+        reduced.clear();
+        reduced.resize(lines * per_line, 0.0);
+        let computed: Vec<Result<(), SampleError>> = reduced
+            .par_chunks_mut(per_line.max(1))
+            .enumerate()
             .map_init(
                 || self.buffers(),
-                |buf, line| {
+                |buf, (line, acc)| {
                     let mut cell = vec![0usize; nd];
                     let mut rest = line;
                     for &a in outer.iter().rev() {
                         cell[a] = red[a].start + rest % red[a].len();
                         rest /= red[a].len();
                     }
-                    self.line(&cell, &outer, red[self.lane].clone(), buf)
+                    self.line(&cell, &outer, red[self.lane].clone(), acc, buf)
                 },
             )
             .collect();
-        let mut done = Vec::with_capacity(lines);
-        for r in computed {
-            done.push(r?);
+        let result = computed
+            .into_iter()
+            .collect::<Result<(), SampleError>>()
+            .map(|()| self.expand(&reduced, per_line, rows, &red, reuse));
+        if let Ok(mut p) = self.scratch.lock() {
+            p.push(reduced);
         }
-        Ok(self.expand(&done, rows, &red))
+        result
     }
 
     fn buffers(&self) -> ThreadBuffers {
@@ -199,7 +222,6 @@ impl<'a> Sampler<'a> {
             bg: self.bg.workspace(),
             values: lanes(self.slots.volume()),
             bad: Vec::new(),
-            cell: vec![0; LANES],
             weight: vec![0.0; LANES],
         }
     }
@@ -213,16 +235,15 @@ impl<'a> Sampler<'a> {
         cell: &[usize],
         outer: &[usize],
         cells: Range<usize>,
+        acc: &mut [f64],
         buf: &mut ThreadBuffers,
-    ) -> Result<Vec<f64>, SampleError> {
-        let nslots = self.slots.len();
+    ) -> Result<(), SampleError> {
         let vol = self.slots.volume();
         let lane = &self.axes[self.lane];
         // The nodes of the cells `cells` of the lane axis.
         let first = cells.start * lane.per_cell;
         let ncells = cells.len();
         let nlane = ncells * lane.per_cell;
-        let mut acc = vec![0.0; ncells * nslots];
         // The first failure of a lane cell: (cell, node index in the cell,
         // error); kept only when something fails.
         let mut failed: Vec<(usize, usize, SampleError)> = Vec::new();
@@ -250,8 +271,12 @@ impl<'a> Sampler<'a> {
                 };
                 point[a] = ax.nodes[k];
             }
-            for start in (0..nlane).step_by(LANES) {
-                let n = LANES.min(nlane - start);
+            // Blocks hold whole cells, so that each cell's sum is taken in one
+            // order whatever the slab (the first axis's rows may start
+            // anywhere).
+            let step = (LANES / lane.per_cell).max(1) * lane.per_cell;
+            for start in (0..nlane).step_by(step) {
+                let n = step.min(nlane - start);
                 for (a, (g, p)) in buf.grid.iter_mut().zip(&point).enumerate() {
                     if a == self.lane {
                         g[..n].copy_from_slice(&lane.nodes[first + start..first + start + n]);
@@ -279,20 +304,17 @@ impl<'a> Sampler<'a> {
                     &mut buf.values,
                     &mut buf.bad,
                 );
-                // The lane cell and weight of every lane, counted without
-                // divisions.
-                let (mut c, mut q) = (start / lane.per_cell, start % lane.per_cell);
-                for i in 0..n {
-                    buf.cell[i] = c;
-                    buf.weight[i] = weight * lane.weights[first + start + i];
-                    q += 1;
-                    if q == lane.per_cell {
-                        (c, q) = (c + 1, 0);
-                    }
+                let pc = lane.per_cell;
+                let c0 = start / pc;
+                for (w, lw) in buf.weight[..n]
+                    .iter_mut()
+                    .zip(&lane.weights[first + start..first + start + n])
+                {
+                    *w = weight * lw;
                 }
                 for &(i, e) in &buf.bad {
                     let k = start + i;
-                    let (c, q) = (buf.cell[i], qo * lane.per_cell + k % lane.per_cell);
+                    let (c, q) = (c0 + i / pc, qo * pc + k % pc);
                     buf.weight[i] = 0.0;
                     match failed.iter_mut().find(|f| f.0 == c) {
                         Some(f) if q >= f.1 => {}
@@ -306,23 +328,33 @@ impl<'a> Sampler<'a> {
                         }
                     }
                 }
-                let (cells_of, w) = (&buf.cell[..n], &buf.weight[..n]);
+                let w = &buf.weight[..n];
+                let cells = c0..c0 + n / pc;
                 for (s, v) in buf.values.iter().enumerate() {
-                    let sums = &mut acc[s * ncells..(s + 1) * ncells];
+                    let sums = &mut acc[s * ncells..(s + 1) * ncells][cells.clone()];
                     if self.averaged {
-                        for ((c, w), v) in cells_of.iter().zip(w).zip(&v[..n]) {
-                            sums[*c] += w * v;
+                        // Σ over the cell's nodes of this block, then added.
+                        for ((sum, w), v) in
+                            sums.iter_mut().zip(w.chunks(pc)).zip(v[..n].chunks(pc))
+                        {
+                            let mut t = 0.0;
+                            for (w, v) in w.iter().zip(v) {
+                                t += w * v;
+                            }
+                            *sum += t;
                         }
                     } else {
-                        for (c, v) in cells_of.iter().zip(&v[..n]) {
-                            sums[*c] = *v;
-                        }
+                        sums.copy_from_slice(&v[..n]);
                     }
                 }
                 if self.averaged {
-                    let sums = &mut acc[vol * ncells..];
-                    for (c, w) in cells_of.iter().zip(w) {
-                        sums[*c] += w;
+                    let sums = &mut acc[vol * ncells..][cells];
+                    for (sum, w) in sums.iter_mut().zip(w.chunks(pc)) {
+                        let mut t = 0.0;
+                        for w in w {
+                            t += w;
+                        }
+                        *sum += t;
                     }
                 }
             }
@@ -346,7 +378,7 @@ impl<'a> Sampler<'a> {
                 }
             }
         }
-        Ok(acc)
+        Ok(())
     }
 
     /// The slab's fields from the lines (each slot-major, in C order of the
@@ -354,7 +386,14 @@ impl<'a> Sampler<'a> {
     /// written in runs along the last axis: a copy of a line's values when
     /// the last axis is the lane axis, one value repeated when it is
     /// inactive.
-    fn expand(&self, lines: &[Vec<f64>], rows: Range<usize>, red: &[Range<usize>]) -> Slab {
+    fn expand(
+        &self,
+        reduced: &[f64],
+        per_line: usize,
+        rows: Range<usize>,
+        red: &[Range<usize>],
+        mut data: Vec<Vec<f64>>,
+    ) -> Slab {
         let shape = self.grid.shape();
         let nd = shape.len();
         let last = nd - 1;
@@ -363,17 +402,13 @@ impl<'a> Sampler<'a> {
         let mut out_shape = shape.clone();
         out_shape[0] = rows.len();
         let cells: usize = out_shape.iter().product();
-        let mut data: Vec<Vec<f64>> = self
-            .entries
-            .iter()
-            .map(|_| Vec::with_capacity(cells))
-            .collect();
-        // Strides of the line index over the outer active axes.
+        // The runs in order: (line, lane cell) of each.
         let outer: Vec<usize> = (0..nd)
             .filter(|a| self.active[*a] && *a != self.lane)
             .collect();
+        let mut runs = Vec::with_capacity(cells / run.max(1));
         let mut idx = vec![0usize; nd];
-        for _ in 0..cells / run {
+        for _ in 0..cells / run.max(1) {
             let (mut line, mut c) = (0usize, 0usize);
             for &a in &outer {
                 let i = if a == 0 { rows.start + idx[0] } else { idx[a] };
@@ -384,15 +419,7 @@ impl<'a> Sampler<'a> {
                 let i = if a == 0 { rows.start + idx[0] } else { idx[a] };
                 c = i - red[a].start;
             }
-            let src = &lines[line];
-            for (d, e) in data.iter_mut().zip(&self.entries) {
-                let values = &src[e.slot * ncells..(e.slot + 1) * ncells];
-                if self.lane == last {
-                    d.extend_from_slice(values);
-                } else {
-                    d.extend(std::iter::repeat_n(values[c], run));
-                }
-            }
+            runs.push((line, c));
             for a in (0..last).rev() {
                 idx[a] += 1;
                 if idx[a] < out_shape[a] {
@@ -401,6 +428,22 @@ impl<'a> Sampler<'a> {
                 idx[a] = 0;
             }
         }
+        data.resize_with(self.entries.len(), Vec::new);
+        data.par_iter_mut()
+            .zip(self.entries.par_iter())
+            .for_each(|(d, e)| {
+                d.clear();
+                d.reserve(cells);
+                for &(line, c) in &runs {
+                    let line = &reduced[line * per_line..(line + 1) * per_line];
+                    let values = &line[e.slot * ncells..(e.slot + 1) * ncells];
+                    if self.lane == last {
+                        d.extend_from_slice(values);
+                    } else {
+                        d.extend(std::iter::repeat_n(values[c], run));
+                    }
+                }
+            });
         Slab { rows, data }
     }
 }
