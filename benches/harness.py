@@ -74,34 +74,37 @@ class Competitor:
 
 
 @dataclass
-class Faster:
-    """Target: median wall time of `than` / median of `run` ≥ `factor`."""
+class WallRatio:
+    """Target on median wall times: median(`num`) / median(`den`) at least
+    `bound` (`at_least`) or at most `bound`. Runs of earlier cases are named
+    `case:run`. Made by [`Faster`] and [`Within`]."""
 
-    run: str
-    than: str
-    factor: float
-
-    def judge(self, results):
-        ratio, paired = time_ratio(results, self.than, self.run)
-        text = f"{self.run} ≥ {self.factor:g}× faster than {self.than} (wall)"
-        if ratio is not None and ratio < 1:
-            paired += f"; {self.run} takes {1 / ratio:.2f}× the time"
-        return text, ratio, paired, None if ratio is None else ratio >= self.factor
-
-
-@dataclass
-class Within:
-    """Target: median wall time of `run` / median of `of` ≤ `factor`
-    (`of` may name a run of another case as `case:run`)."""
-
-    run: str
-    of: str
-    factor: float
+    num: str
+    den: str
+    bound: float
+    at_least: bool
+    text: str
+    slower: str = ""  # the run to call slower when a speed-up is below 1
 
     def judge(self, results):
-        ratio, paired = time_ratio(results, self.run, self.of)
-        text = f"{self.run} ≤ {self.factor:g}× the wall time of {self.of}"
-        return text, ratio, paired, None if ratio is None else ratio <= self.factor
+        ratio, detail = time_ratio(results, self.num, self.den)
+        if ratio is None:
+            return self.text, None, None, None
+        if self.slower and ratio < 1:
+            detail += f"; {self.slower} takes {1 / ratio:.2f}× the time"
+        met = ratio >= self.bound if self.at_least else ratio <= self.bound
+        return self.text, ratio, detail, met
+
+
+def Faster(run, than, factor):
+    """Target: `run` at least `factor` times faster than `than` (wall)."""
+    text = f"{run} ≥ {factor:g}× faster than {than} (wall)"
+    return WallRatio(than, run, factor, True, text, slower=run)
+
+
+def Within(run, of, factor):
+    """Target: `run` takes at most `factor` times the wall time of `of`."""
+    return WallRatio(run, of, factor, False, f"{run} ≤ {factor:g}× the wall time of {of}")
 
 
 @dataclass
