@@ -251,13 +251,15 @@ def measure(cmds: list, reps: int, warmup: int, folder: Path, progress=print) ->
 
 
 def time_ratio(results, num: str, den: str):
-    """median(num) / median(den) and the range of the per-round ratios
-    (None when either run was not measured)."""
+    """median(num) / median(den), with the range of the per-round ratios and
+    the ratio of the fastest runs (less disturbed by other processes on a
+    shared machine) as detail; None when either run was not measured."""
     a, b = results.get(num), results.get(den)
     if a is None or b is None:
         return None, None
     paired = [x / y for x, y in zip(a.walls, b.walls)]
-    detail = f"per round {min(paired):.2f}–{max(paired):.2f}" if paired else None
+    best = min(a.walls) / min(b.walls)
+    detail = f"per round {min(paired):.2f}–{max(paired):.2f}, of minima {best:.2f}"
     return a.median / b.median, detail
 
 
