@@ -210,11 +210,16 @@ def run_case(case, binary, folder, args, earlier):
     cmds = commands(case, binary, profile, folder)
     started = time.time()
     try:
-        results = measure(cmds, args.reps, args.warmup, folder)
+        results, disturbed = measure(cmds, args.reps, args.warmup, folder)
     except RunFailed as e:
         print(f"  FAILED: {e}\n")
         return {"name": case.name, "failed": str(e)}, 2
-    print(f"  ({time.time() - started:.0f} s in all)")
+    print(
+        f"  {time.time() - started:.0f} s in all; other processes used {disturbed.others:.1f} "
+        f"of {disturbed.capacity:.0f} CPU-seconds during the rounds ({100 * disturbed.share:.1f} %)"
+    )
+    if disturbed.share > 0.05:
+        print("  note: more than 5 % of the machine was busy elsewhere: wall times are disturbed")
     # Targets see this case's runs by name, earlier cases' as "case:run".
     known = dict(earlier, **results)
     earlier.update({f"{case.name}:{k}": v for k, v in results.items()})
@@ -236,6 +241,7 @@ def run_case(case, binary, folder, args, earlier):
         for k, m in results.items()
     }
     record = {"name": case.name, "about": case.about, "runs": runs, "targets": verdicts}
+    record["other_processes_cpu_share"] = disturbed.share
     record.update(agreement=agree, agrees=ok)
     return record, status
 

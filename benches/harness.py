@@ -228,14 +228,39 @@ def run_once(cmd: Command, folder: Path):
     return wall, usage.ru_utime + usage.ru_stime, usage.ru_maxrss
 
 
-def measure(cmds: list, reps: int, warmup: int, folder: Path, progress=print) -> dict:
-    """Runs every command `warmup` times untimed, then `reps` timed rounds.
+def busy_cpu_seconds():
+    """CPU time spent by everything on the machine since boot (user, nice,
+    system, irq, softirq from /proc/stat), in seconds."""
+    with open("/proc/stat") as f:
+        fields = f.readline().split()
+    user, nice, system, _idle, _iowait, irq, softirq = map(int, fields[1:8])
+    return (user + nice + system + irq + softirq) / os.sysconf("SC_CLK_TCK")
+
+
+@dataclass
+class Disturbance:
+    """CPU time other processes used while the timed rounds ran, against
+    the machine's capacity (elapsed time × CPUs). Kernel threads count as
+    others, so the write-back of the outputs adds a little of its own."""
+
+    others: float
+    capacity: float
+
+    @property
+    def share(self):
+        return self.others / self.capacity if self.capacity > 0 else 0.0
+
+
+def measure(cmds: list, reps: int, warmup: int, folder: Path, progress=print):
+    """Runs every command `warmup` times untimed, then `reps` timed rounds;
+    the measurements per command and the disturbance during the rounds.
     Even rounds run the commands in order, odd rounds reversed (ABC, CBA,
     …), so of any two commands each runs first in alternate rounds."""
     for _ in range(warmup):
         for cmd in cmds:
             run_once(cmd, folder)
     results = {c.name: Measured(c.threads) for c in cmds}
+    start, busy, mine = time.perf_counter(), busy_cpu_seconds(), os.times()
     for r in range(reps):
         order = cmds if r % 2 == 0 else cmds[::-1]
         for cmd in order:
@@ -245,9 +270,14 @@ def measure(cmds: list, reps: int, warmup: int, folder: Path, progress=print) ->
             m.cpu.append(cpu)
             m.rss_kb.append(rss)
             progress(f"  round {r + 1}/{reps}: {cmd.name:<16} {wall:7.3f} s  {rss / 1024:7.1f} MiB")
+    now = os.times()
+    own = now.user + now.system - mine.user - mine.system
+    children = sum(sum(m.cpu) for m in results.values())
+    others = busy_cpu_seconds() - busy - own - children
+    elapsed = time.perf_counter() - start
     for cmd in cmds:
         results[cmd.name].size = cmd.output.stat().st_size
-    return results
+    return results, Disturbance(max(others, 0.0), elapsed * (os.cpu_count() or 1))
 
 
 def time_ratio(results, num: str, den: str):
