@@ -174,8 +174,8 @@ def commands(case: Case, binary: Path, profile: Path, folder: Path) -> list:
         fill = {"profile": str(profile), "output": str(out)}
         argv = [sys.executable, str(ROOT / c.script)] + [a.format(**fill) for a in c.args]
         env = dict(base)
-        # Slow paths for old OpenBLAS builds (see the machine notes): unset
-        # both together so that NumPy runs its own kernels.
+        # Some machines set these two as a work-around for old OpenBLAS
+        # builds; they slow a current NumPy, so both go together.
         env.pop("OPENBLAS_CORETYPE", None)
         env.pop("OPENBLAS_L2_SIZE", None)
         for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
