@@ -140,7 +140,7 @@ pub struct Built<'a> {
     loaded: &'a Loaded,
     background: Solved,
     domain: Domain,
-    /// File metadata; the verification's cautions are added when it runs
+    /// File metadata, without cautions: they come with the verification
     /// ([`Built::verify`], which [`Built::write_hdf5`] runs).
     pub metadata: Metadata,
 }
@@ -158,7 +158,7 @@ pub fn build<'a>(
         command_line: command_line.to_string(),
         generator: format!("stillpoint {}", env!("CARGO_PKG_VERSION")),
         units: loaded.model.units,
-        cautions: cautions(loaded, &bg, &domain),
+        cautions: Vec::new(),
         extra: vec![
             ("balance".into(), balance_description(&loaded.model).into()),
             ("solved_for".into(), loaded.model.unknown.key().into()),
@@ -185,7 +185,8 @@ impl Built<'_> {
     /// integral-form balance) at the default tolerance: an error for a
     /// state that fails it — except an audit (`solve_for: nothing`) and
     /// jumps the profile declares intended, which are cautions — and the
-    /// metadata with those cautions first.
+    /// metadata with every caution (those first, then the stability and
+    /// the other cautions of [`cautions`]).
     pub fn verify(&self) -> Result<Metadata, Error> {
         let loaded = self.loaded;
         let centres = centres_for(&loaded.grid);
@@ -198,9 +199,9 @@ impl Built<'_> {
         )
         .map_err(|e| Error::closure(loaded, e))?;
         let mut meta = self.metadata.clone();
-        let mut cautions = verdict_cautions(loaded, &report)?;
-        cautions.append(&mut meta.cautions);
-        meta.cautions = cautions;
+        meta.cautions = verdict_cautions(loaded, &report)?;
+        meta.cautions
+            .extend(cautions(loaded, &self.background, &self.domain));
         Ok(meta)
     }
 
@@ -258,14 +259,16 @@ impl Built<'_> {
                 link_to: Some("background".into()),
             },
         ];
-        let out = H5Stream::create(
-            path,
-            grid,
-            &self.metadata,
-            sampler.sampling(),
-            &groups,
-            opts.precision,
-        )?;
+        let create = || {
+            H5Stream::create(
+                path,
+                grid,
+                &self.metadata,
+                sampler.sampling(),
+                &groups,
+                opts.precision,
+            )
+        };
         let shape = grid.shape();
         // About SLAB_BYTES a slab, in whole chunk rows of the datasets, so
         // that every chunk is written whole by one slab.
@@ -279,7 +282,7 @@ impl Built<'_> {
             // One thread: verify (a refused state stops before any work),
             // then sample and write in turn.
             let meta = self.verify()?;
-            let mut out = out;
+            let mut out = create()?;
             let mut reuse = Vec::new();
             for r in slab_ranges(shape[0], rows) {
                 let slab = sampler
@@ -300,11 +303,14 @@ impl Built<'_> {
                 }
                 v
             });
+            let mut out = create()?;
             let (tx, rx) = std::sync::mpsc::sync_channel::<Slab>(1);
-            let mut out = out;
+            // Written slabs come back, so their arrays are reused.
+            let (back, spent) = std::sync::mpsc::channel::<Vec<Vec<f64>>>();
             let writer = scope.spawn(move || -> Result<H5Stream, OutputError> {
                 for slab in rx {
                     out.write("background", &slab)?;
+                    let _ = back.send(slab.data);
                 }
                 Ok(out)
             });
@@ -313,7 +319,10 @@ impl Built<'_> {
                     if refused.load(std::sync::atomic::Ordering::Relaxed) {
                         break; // the verifier's error is reported
                     }
-                    let slab = sampler.slab(r).map_err(|e| self.sample_error(e))?;
+                    let reuse = spent.try_recv().unwrap_or_default();
+                    let slab = sampler
+                        .slab_into(r, reuse)
+                        .map_err(|e| self.sample_error(e))?;
                     if tx.send(slab).is_err() {
                         break; // the writer stopped: its error is reported
                     }

@@ -246,15 +246,19 @@ impl Background for Solved {
     fn at(&self, x: &[f64]) -> State {
         let s = x[0];
         let mut o = [0.0; 5];
-        self.laws.eval(&[s], &mut o, &mut self.laws.workspace());
-        let i = match &self.integral {
-            Some((_, t, _)) => t.at(s, &mut t.workspace()),
-            None => 0.0,
-        };
+        let mut a = [0.0; 2];
+        // The registers of this thread's scalar evaluations, reused.
+        let i = SCALAR.with(|w| {
+            let (laws, table) = &mut *w.borrow_mut();
+            self.laws.eval(&[s], &mut o, laws);
+            self.accel.eval(&[s], &mut a, laws);
+            match &self.integral {
+                Some((_, t, _)) => t.at(s, table),
+                None => 0.0,
+            }
+        });
         let get = |k: Option<usize>| k.map_or(f64::NAN, |k| o[k]);
         let (density, pressure) = self.combine(&get, i);
-        let mut a = [0.0; 2];
-        self.accel.eval(&[s], &mut a, &mut self.accel.workspace());
         State {
             density,
             pressure,
