@@ -72,15 +72,18 @@
 //!
 //! | law set | kernel | hand-written Rust | ratio | stack machine | kernel, scalar path |
 //! |---|---|---|---|---|---|
-//! | disk: c2, rho, P, vphi, Phi (24 instructions, 5 registers) | 33.8 ns/point | 32.4 ns/point | 1.05 | 459 ns/point (13.6 × the kernel) | 105 ns/point |
-//! | Plummer: Phi, gR, gz (14 instructions, 4 registers) | 7.5 ns/point | 3.7 ns/point | 2.01 | — | — |
+//! | disk: c2, rho, P, vphi, Phi (26 instructions, 5 registers), by hand with half powers as square roots | 16.1 ns/point | 18.4 ns/point | 0.87 | 438 ns/point (27 × the kernel) | 106 ns/point |
+//! | the same, by hand with `powf` | 16.0 ns/point | 33.8 ns/point | 0.47 | — | — |
+//! | Plummer: Phi, gR, gz (14 instructions, 4 registers) | 7.5 ns/point | 3.9 ns/point | 1.91 | — | — |
 //!
-//! The disk set is bound by `powf` and `exp` (three library calls a point,
-//! the same in both), so the kernel's loads and stores between
-//! instructions hardly show; on arithmetic alone they do: each instruction
-//! is a pass over the block, where the hand-written loop keeps every
-//! temporary in a machine register (and shares a reciprocal the kernel may
-//! not, `1/s^3` being `1/(s*s*s)` to the bit).
+//! The disk set's half powers are square roots (see `pow_f64`) and its
+//! `exp` a library call; the kernel's lane loops vectorise the roots and
+//! divisions where the hand-written loop, with a call in the middle, does
+//! not. On arithmetic alone the kernel's loads and stores between
+//! instructions show: each instruction is a pass over the block, where the
+//! hand-written loop keeps every temporary in a machine register (and
+//! shares a reciprocal the kernel may not, `1/s^3` being `1/(s*s*s)` to the
+//! bit).
 //!
 //! The block path, the scalar path and the stack machine
 //! ([`super::StackProgram`]) agree to the bit on random formulas
