@@ -188,7 +188,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
         Command::Check { common, tolerance } => {
             let loaded = common.load()?;
             let (bg, domain) = pipeline::solve_unverified(&loaded)?;
-            let centres = pipeline::centres_for(&loaded.grid);
+            let centres = pipeline::centres_for(&loaded.grid, loaded.model.shape.frame());
             let report = check::run(&loaded.model, &bg, &domain, &centres, tolerance)
                 .map_err(|e| Error::closure(&loaded, e))?;
             say!("{} ({})", loaded.model.name, loaded.source);

@@ -7,10 +7,10 @@
 
 use std::path::Path;
 
-use crate::background::{Background, Shape};
+use crate::background::{Background, Frame, Shape};
 use crate::closure::{self, show, ClosureError, Domain, Solved};
 use crate::fields::{slab_ranges, FieldSet, Slab};
-use crate::grid::{Coord, Grid, Layout};
+use crate::grid::{Grid, Layout};
 use crate::keys::Keyed;
 use crate::output::{GroupPlan, H5Stream, Metadata, OutputError, Precision};
 use crate::profile::{Loaded, ProfileError};
@@ -53,13 +53,15 @@ impl Error {
     }
 }
 
-/// The domain the background must cover for a grid: the range of the
-/// background coordinate, with the cell edges along it as knots.
-pub fn domain_for(grid: &Grid) -> Domain {
-    let (lo, hi) = grid.background_range();
-    let knots = match grid.layout() {
-        Layout::Line(_) | Layout::Polar => grid.axes()[0].edges.clone(),
-        _ => {
+/// The domain the background must cover for a grid holding a state of
+/// `frame`: the range of the frame's line coordinate, with the cell edges
+/// along it as knots.
+pub fn domain_for(grid: &Grid, frame: Frame) -> Domain {
+    let (lo, hi) = grid.background_range(frame);
+    let along = line_axis(grid, frame);
+    let knots = match along {
+        Some(a) => grid.axes()[a].edges.clone(),
+        None => {
             let n = 2 * grid.shape().iter().copied().max().unwrap_or(1);
             (0..=n)
                 .map(|i| lo + (hi - lo) * i as f64 / n as f64)
@@ -68,11 +70,7 @@ pub fn domain_for(grid: &Grid) -> Domain {
     };
     // The axis R = 0 (or the centre r = 0) may bound or cross the grid, but
     // no cell centre or Gauss point lies on it.
-    let axis_at_lo = lo <= 0.0
-        && matches!(
-            grid.layout(),
-            Layout::Cartesian | Layout::Line(Coord::R) | Layout::Line(Coord::Sph)
-        );
+    let axis_at_lo = lo <= 0.0 && frame != Frame::Slab;
     Domain {
         lo,
         hi,
@@ -81,24 +79,37 @@ pub fn domain_for(grid: &Grid) -> Domain {
     }
 }
 
-/// Cell centres along the background coordinate (for tables and the
-/// discrete imbalance): the first axis for lines and polar grids, the
-/// positive x centres for Cartesian grids.
-pub fn centres_for(grid: &Grid) -> Vec<f64> {
-    match grid.layout() {
-        Layout::Cartesian => grid.axes()[0]
+/// The grid axis that runs along the frame's line coordinate itself, if any
+/// (the slab axis, the r axis of a spherical grid holding a sphere, the R
+/// axis of a cylindrical grid holding a disk).
+fn line_axis(grid: &Grid, frame: Frame) -> Option<usize> {
+    match (frame, grid.layout()) {
+        (Frame::Slab, _) => Some(grid.slab_axis()),
+        (_, Layout::Line(_) | Layout::Polar | Layout::Meridional | Layout::Cylindrical) => Some(0),
+        (Frame::Spherical, Layout::SphericalMeridional | Layout::Spherical) => Some(0),
+        _ => None,
+    }
+}
+
+/// Cell centres along the frame's line coordinate (for tables and the
+/// discrete imbalance): the centres of the axis that runs along it, else
+/// the positive centres of the first axis (x on a Cartesian grid, r on a
+/// spherical grid holding a disk).
+pub fn centres_for(grid: &Grid, frame: Frame) -> Vec<f64> {
+    match line_axis(grid, frame) {
+        Some(a) => grid.axes()[a].centers(),
+        None => grid.axes()[0]
             .centers()
             .into_iter()
             .filter(|x| *x > 0.0)
             .collect(),
-        _ => grid.axes()[0].centers(),
     }
 }
 
 /// Solve the profile's closure over its grid, refusing a state that is no
 /// equilibrium somewhere (for `build`).
 pub fn solve(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
-    let domain = domain_for(&loaded.grid);
+    let domain = domain_for(&loaded.grid, loaded.model.shape.frame());
     let bg = closure::solve(&loaded.model, &domain).map_err(|e| Error::closure(loaded, e))?;
     Ok((bg, domain))
 }
@@ -107,7 +118,7 @@ pub fn solve(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
 /// is no equilibrium somewhere, so that `check` can report where and `table`
 /// can print the rows that exist.
 pub fn solve_unverified(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
-    let domain = domain_for(&loaded.grid);
+    let domain = domain_for(&loaded.grid, loaded.model.shape.frame());
     let bg =
         closure::solve_unverified(&loaded.model, &domain).map_err(|e| Error::closure(loaded, e))?;
     Ok((bg, domain))
@@ -189,7 +200,7 @@ impl Built<'_> {
     /// the other cautions of [`cautions`]).
     pub fn verify(&self) -> Result<Metadata, Error> {
         let loaded = self.loaded;
-        let centres = centres_for(&loaded.grid);
+        let centres = centres_for(&loaded.grid, loaded.model.shape.frame());
         let report = crate::check::run(
             &loaded.model,
             &self.background,

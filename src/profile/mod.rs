@@ -257,6 +257,7 @@ pub fn from_text(
         "anchor",
         "vertically_integrated",
         "intended_jumps",
+        "axis",
     ])?;
     let shape = balance.require("shape")?.node().choice(Shape::KEYS)?;
     let unknown = balance.require("solve_for")?.node().choice(Unknown::KEYS)?;
@@ -364,7 +365,29 @@ pub fn from_text(
 
     // Grid, sampling, output.
     let grid_owned = top.require("grid")?;
-    let grid = grid(grid_owned.node(), dir, &consts, &lookup)?;
+    let mut grid = grid(grid_owned.node(), dir, &consts, &lookup)?;
+    if let Some(a) = balance.child("axis") {
+        let a = a.node();
+        if shape != Shape::Slab {
+            return Err(a.error("only a slab has an axis to be stratified along"));
+        }
+        let name = a.str()?;
+        let coord = crate::grid::Coord::from_name(name)
+            .filter(|c| grid.axes().iter().any(|ax| ax.coord == *c))
+            .ok_or_else(|| {
+                a.error(format!(
+                    "`{name}` is not an axis of the grid; give one of {}",
+                    grid.axes()
+                        .iter()
+                        .map(|ax| ax.coord.name())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ))
+            })?;
+        grid = grid
+            .stratified_along(coord)
+            .map_err(|e| a.error(e.to_string()))?;
+    }
     check_grid_matches(&grid, shape, label)?;
     let sampling = match top.child("sampling") {
         None => SamplingRule::Center,

@@ -106,19 +106,19 @@ pub(super) fn grid(
 ) -> Result<Grid, ProfileError> {
     let map = node.object()?;
     if map.is_empty() {
-        return Err(node.error("expected at least one axis (R, phi, x, y, z or r)"));
+        return Err(node.error("expected at least one axis (R, phi, x, y, z, r or theta)"));
     }
     let mut axes = Vec::new();
     for key in map.keys() {
         let owned = node.require(key)?;
         let ax = owned.node();
         let Some(coord) = Coord::from_name(key) else {
-            let names = ["R", "phi", "x", "y", "z", "r"];
+            let names = ["R", "phi", "x", "y", "z", "r", "theta"];
             let hint = closest(key, &names)
                 .map(|k| format!(" (did you mean `{k}`?)"))
                 .unwrap_or_default();
             return Err(ax.error(format!(
-                "unknown axis `{key}`{hint}; axes are R, phi, x, y, z, r"
+                "unknown axis `{key}`{hint}; axes are R, phi, x, y, z, r, theta"
             )));
         };
         ax.only_keys(&["from", "to", "cells", "spacing", "edges", "edges_file"])?;
@@ -181,22 +181,35 @@ pub(super) fn check_grid_matches(
     label: &str,
 ) -> Result<(), ProfileError> {
     use crate::grid::Layout;
-    let ok = matches!(
-        (grid.layout(), shape),
-        (Layout::Line(Coord::Z), Shape::Slab)
-            | (Layout::Line(Coord::Sph), Shape::Spherical)
-            | (
-                Layout::Line(Coord::R) | Layout::Polar | Layout::Cartesian,
-                Shape::DiskMidplane
-            )
-    );
+    let ok = match shape {
+        Shape::Slab => matches!(
+            grid.layout(),
+            Layout::Line(Coord::Z) | Layout::Cartesian | Layout::Section | Layout::Box
+        ),
+        Shape::Spherical => matches!(
+            grid.layout(),
+            Layout::Line(Coord::Sph)
+                | Layout::SphericalMeridional
+                | Layout::Spherical
+                | Layout::Cartesian
+                | Layout::Section
+                | Layout::Box
+        ),
+        _ => matches!(
+            grid.layout(),
+            Layout::Line(Coord::R) | Layout::Polar | Layout::Cartesian
+        ),
+    };
     if ok {
         Ok(())
     } else {
         let want = match shape {
-            Shape::Slab => "a slab needs a z axis",
-            Shape::Spherical => "a sphere needs an r axis",
-            _ => "a disk needs an R axis, R and phi, or x and y",
+            Shape::Slab => "a slab needs a z axis, or a Cartesian box [x, y], [x, z] or [x, y, z]",
+            Shape::Spherical => {
+                "a sphere needs an r axis, a spherical grid [r, theta] or [r, theta, phi], \
+                 or a Cartesian box [x, y], [x, z] or [x, y, z]"
+            }
+            _ => "a disk's midplane needs an R axis, R and phi, or x and y",
         };
         Err(ProfileError::at(
             label,
