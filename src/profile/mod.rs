@@ -305,7 +305,13 @@ pub fn from_text(
     // Gas.
     let gas_owned = top.require("gas")?;
     let gas = gas_owned.node();
-    gas.only_keys(&["gamma", "sound_speed_sq", "temperature", "molecular_weight"])?;
+    gas.only_keys(&[
+        "gamma",
+        "sound_speed_sq",
+        "temperature",
+        "molecular_weight",
+        "barotropic",
+    ])?;
     let gamma = match gas.child("gamma") {
         Some(g) => g.node().value(&consts, &lookup)?,
         None => 5.0 / 3.0,
@@ -363,6 +369,21 @@ pub fn from_text(
         (None, None) => None,
     };
 
+    let barotrope = match gas.child("barotropic") {
+        None => None,
+        Some(b) => {
+            if let Some(other) = ["sound_speed_sq", "temperature"]
+                .into_iter()
+                .find(|k| gas.child(k).is_some())
+            {
+                return Err(b.node().error(format!(
+                    "a barotropic gas fixes P = K rho^Gamma and so its sound speed: remove gas.{other}"
+                )));
+            }
+            Some(sections::barotrope(b.node(), &consts, &lookup)?)
+        }
+    };
+
     // Grid, sampling, output.
     let grid_owned = top.require("grid")?;
     let mut grid = grid(grid_owned.node(), dir, &consts, &lookup)?;
@@ -412,6 +433,7 @@ pub fn from_text(
         unknown,
         density,
         sound_speed_sq,
+        barotrope,
         rotation,
         pressure,
         potential,

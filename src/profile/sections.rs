@@ -13,7 +13,7 @@ use super::{OutputSpec, ProfileError};
 use crate::background::Shape;
 use crate::formula::Expr;
 use crate::grid::{Axis, Coord, Grid};
-use crate::model::Law;
+use crate::model::{Barotrope, Law};
 use crate::output::Precision;
 use crate::physics;
 use crate::sample::SamplingRule;
@@ -96,6 +96,37 @@ pub(super) fn potential(
         origin: p.path(),
     };
     Ok((law.clone(), law))
+}
+
+/// `gas.barotropic`: `{ "K": formula, "exponent": formula }` for P = K ρ^Γ,
+/// K > 0 and Γ > 1 (Γ = 1 is an isothermal gas: give gas.sound_speed_sq).
+pub(super) fn barotrope(
+    node: Node,
+    consts: &[&str],
+    lookup: &dyn Fn(&str) -> Option<f64>,
+) -> Result<Barotrope, ProfileError> {
+    node.only_keys(&["K", "exponent"])?;
+    let k = node.require("K")?;
+    let k = k.node();
+    let kv = k.value(consts, lookup)?;
+    if kv.is_nan() || kv <= 0.0 {
+        return Err(k.error(format!("K must be positive, found {kv}")));
+    }
+    let g = node.require("exponent")?;
+    let g = g.node();
+    let gv = g.value(consts, lookup)?;
+    if gv.is_nan() || gv <= 1.0 {
+        return Err(g.error(format!(
+            "the exponent Gamma of P = K rho^Gamma must exceed 1, found {gv} \
+             (Gamma = 1 is an isothermal gas: give gas.sound_speed_sq)"
+        )));
+    }
+    Ok(Barotrope {
+        constant: k.formula(consts)?,
+        exponent: g.formula(consts)?,
+        exponent_value: gv,
+        origin: node.path(),
+    })
 }
 
 pub(super) fn grid(
