@@ -121,9 +121,27 @@ pub enum Command {
         #[arg(long)]
         latex: bool,
     },
-    /// List the bundled profiles, a line each.
-    #[command(after_help = "Example:\n  stillpoint profiles")]
-    Profiles,
+    /// List the bundled profiles, a line each; with a NAME, print that
+    /// profile's JSON (save it, edit it, build it).
+    #[command(
+        after_help = "Examples:\n  stillpoint profiles\n  stillpoint profiles powerlaw-disk > my-disk.json"
+    )]
+    Profiles {
+        /// A bundled profile whose JSON to print.
+        name: Option<String>,
+    },
+    /// Print a shell completion script for SHELL on stdout.
+    #[command(
+        after_help = "Examples:\n  stillpoint completions bash > ~/.local/share/bash-completion/completions/stillpoint\n  stillpoint completions zsh > ~/.zfunc/_stillpoint"
+    )]
+    Completions {
+        /// The shell.
+        #[arg(value_enum)]
+        shell: clap_complete::Shell,
+    },
+    /// Print the manual page (roff) on stdout.
+    #[command(after_help = "Example:\n  stillpoint manual > stillpoint.1 && man ./stillpoint.1")]
+    Manual,
 }
 
 /// How a build uses the machine. Neither changes a single value in the
@@ -276,10 +294,42 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             }
             Ok(Outcome::Ok)
         }
-        Command::Profiles => {
+        Command::Profiles { name: None } => {
             for (name, text) in bundled::BUNDLED {
                 say!("{name:<24} {}", bundled::about(text));
             }
+            Ok(Outcome::Ok)
+        }
+        Command::Profiles { name: Some(name) } => match bundled::find(&name) {
+            Some(text) => {
+                say_raw!("{text}");
+                Ok(Outcome::Ok)
+            }
+            None => {
+                let names: Vec<&str> = bundled::BUNDLED.iter().map(|(n, _)| *n).collect();
+                let hint = profile::closest(&name, &names)
+                    .map(|n| format!(" (did you mean `{n}`?)"))
+                    .unwrap_or_default();
+                Err(Error::Usage(format!(
+                    "`{name}` is not a bundled profile{hint}; they are {}",
+                    names.join(", ")
+                )))
+            }
+        },
+        Command::Completions { shell } => {
+            let mut cmd = <Cli as clap::CommandFactory>::command();
+            let mut out = Vec::new();
+            clap_complete::generate(shell, &mut cmd, "stillpoint", &mut out);
+            say_raw!("{}", String::from_utf8_lossy(&out));
+            Ok(Outcome::Ok)
+        }
+        Command::Manual => {
+            let cmd = <Cli as clap::CommandFactory>::command();
+            let mut out = Vec::new();
+            clap_mangen::Man::new(cmd)
+                .render(&mut out)
+                .map_err(|e| Error::Usage(format!("manual: {e}")))?;
+            say_raw!("{}", String::from_utf8_lossy(&out));
             Ok(Outcome::Ok)
         }
     }

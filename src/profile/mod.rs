@@ -25,7 +25,8 @@ use crate::model::{Anchor, Law, Model, Unknown};
 use crate::output::Precision;
 use crate::sample::SamplingRule;
 use crate::units::UnitSystem;
-use json::{closest, Node};
+pub(crate) use json::closest;
+use json::Node;
 
 /// A profile error: the file, the JSON path at fault and what is wrong;
 /// for formulas also the formula with a caret under the fault.
