@@ -77,6 +77,11 @@ pub enum Command {
         /// files are identical byte for byte.
         #[arg(long)]
         reproducible: bool,
+        /// Print what the build would cost — cells, output bytes, peak
+        /// memory and expected time (calibrated by a short timed run of
+        /// the sampler and the writer) — and write nothing.
+        #[arg(long)]
+        estimate: bool,
         #[command(flatten)]
         stream: StreamArgs,
     },
@@ -191,9 +196,16 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             csv,
             force,
             reproducible,
+            estimate,
             stream,
         } => {
-            let run = || build(&common, output, csv, force, reproducible, &stream, argv);
+            let flags = BuildFlags {
+                csv,
+                force,
+                reproducible,
+                estimate,
+            };
+            let run = || build(&common, output, &flags, &stream, argv);
             match stream.threads {
                 None => run(),
                 Some(n) => rayon::ThreadPoolBuilder::new()
@@ -354,21 +366,54 @@ fn parse_list(loaded: &Loaded, list: &str) -> Result<Vec<f64>, Error> {
         .collect()
 }
 
-fn build(
-    common: &Common,
-    output: Option<PathBuf>,
+/// The switches of `build`.
+struct BuildFlags {
     csv: bool,
     force: bool,
     reproducible: bool,
+    estimate: bool,
+}
+
+fn build(
+    common: &Common,
+    output: Option<PathBuf>,
+    flags: &BuildFlags,
     stream: &StreamArgs,
     argv: &str,
 ) -> Result<Outcome, Error> {
+    let started = std::time::Instant::now();
+    let &BuildFlags {
+        csv,
+        force,
+        reproducible,
+        estimate,
+    } = flags;
     let loaded = common.load()?;
     let h5 = output
         .or_else(|| loaded.output.file.clone())
         .unwrap_or_else(|| PathBuf::from(format!("{}.h5", loaded.model.name)));
     let want_csv = csv || loaded.output.csv;
     let csv_path = want_csv.then(|| h5.with_extension("csv"));
+    let opts = pipeline::StreamOptions {
+        precision: loaded.output.precision,
+        slab_rows: stream.slab_rows.map(|n| n as usize),
+    };
+    let dir = crate::estimate::folder_of(&h5);
+    if estimate {
+        if !dir.is_dir() {
+            return Err(Error::Usage(format!(
+                "{}: the folder {} does not exist (create it first)",
+                h5.display(),
+                dir.display()
+            )));
+        }
+        return print_estimate(&loaded, &h5, &opts, reproducible, argv, started);
+    }
+    // Before anything is solved or written: would it fit?
+    if dir.is_dir() {
+        let plan = crate::estimate::Plan::new(&loaded, &opts, rayon::current_num_threads(), None);
+        crate::estimate::refuse_if_too_big(&plan, crate::estimate::resident(), &dir)?;
+    }
     for p in std::iter::once(&h5).chain(csv_path.as_ref()) {
         if p.exists() && !force {
             return Err(Error::Usage(format!(
@@ -383,10 +428,6 @@ fn build(
         ));
     }
     let built = pipeline::build(&loaded, argv, reproducible)?;
-    let opts = pipeline::StreamOptions {
-        precision: loaded.output.precision,
-        slab_rows: stream.slab_rows.map(|n| n as usize),
-    };
     let mut metadata = None;
     output::commit(&h5, force, |tmp| {
         metadata = Some(built.write_hdf5(tmp, &opts)?);
@@ -407,6 +448,32 @@ fn build(
         output::commit(c, force, |tmp| output::write_csv(&doc, tmp))?;
     }
     report_written(&loaded, &h5, csv_path.as_deref(), &metadata.cautions);
+    Ok(Outcome::Ok)
+}
+
+/// `build --estimate`: solve, then measure (see [`crate::estimate`]); the
+/// build is refused as `build` would refuse it, and nothing is written.
+fn print_estimate(
+    loaded: &Loaded,
+    h5: &Path,
+    opts: &pipeline::StreamOptions,
+    reproducible: bool,
+    argv: &str,
+    started: std::time::Instant,
+) -> Result<Outcome, Error> {
+    let built = pipeline::build(loaded, argv, reproducible)?;
+    let est = crate::estimate::estimate(&built, loaded, h5, opts, started.elapsed())?;
+    say!(
+        "{} ({}): estimate for {}",
+        loaded.model.name,
+        loaded.source,
+        h5.display()
+    );
+    say!("{est}");
+    if h5.exists() {
+        say!("note: {} exists; the build needs --force", h5.display());
+    }
+    crate::estimate::refuse_if_too_big(&est.plan, est.held, &crate::estimate::folder_of(h5))?;
     Ok(Outcome::Ok)
 }
 

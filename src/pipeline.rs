@@ -41,6 +41,10 @@ pub enum Error {
     /// Anything else the user got wrong on the command line.
     #[error("{0}")]
     Usage(String),
+    /// A build that would not fit on the disk or in memory, refused before
+    /// it starts (see [`crate::estimate`]).
+    #[error("{0}")]
+    Refused(String),
 }
 
 impl Error {
@@ -146,6 +150,18 @@ pub struct StreamOptions {
 /// Field values held per slab when the slab size is not given, in bytes.
 pub const SLAB_BYTES: usize = 8 << 20;
 
+/// Rows of the first axis per slab for a grid of `shape` holding `fields`
+/// fields: the option, else about [`SLAB_BYTES`] a slab in whole chunk rows
+/// of the datasets, so that every chunk is written whole by one slab.
+pub fn slab_rows(shape: &[usize], fields: usize, opts: &StreamOptions) -> usize {
+    opts.slab_rows.unwrap_or_else(|| {
+        let row_bytes = 8 * fields * shape[1..].iter().product::<usize>();
+        let chunk = crate::output::chunk_shape(shape, 8)[0];
+        let fit = SLAB_BYTES / row_bytes.max(1);
+        (fit / chunk).max(1) * chunk
+    })
+}
+
 /// A solved background ready to be sampled and written: what `build` writes.
 pub struct Built<'a> {
     loaded: &'a Loaded,
@@ -227,7 +243,8 @@ impl Built<'_> {
         .map_err(|e| self.sample_error(e))
     }
 
-    fn sample_error(&self, error: SampleError) -> Error {
+    /// A sampling error, labelled with the profile.
+    pub fn sample_error(&self, error: SampleError) -> Error {
         Error::Sample {
             source_label: self.loaded.source.clone(),
             error,
@@ -281,14 +298,7 @@ impl Built<'_> {
             )
         };
         let shape = grid.shape();
-        // About SLAB_BYTES a slab, in whole chunk rows of the datasets, so
-        // that every chunk is written whole by one slab.
-        let rows = opts.slab_rows.unwrap_or_else(|| {
-            let row_bytes = 8 * fields.len() * shape[1..].iter().product::<usize>();
-            let chunk = crate::output::chunk_shape(&shape, 8)[0];
-            let fit = SLAB_BYTES / row_bytes.max(1);
-            (fit / chunk).max(1) * chunk
-        });
+        let rows = slab_rows(&shape, fields.len(), opts);
         if rayon::current_num_threads() == 1 {
             // One thread: verify (a refused state stops before any work),
             // then sample and write in turn.

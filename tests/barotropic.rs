@@ -19,7 +19,7 @@ fn load(text: &str) -> Loaded {
 
 fn verdict(l: &Loaded) -> Verdict {
     let (bg, domain) = pipeline::solve(l).unwrap();
-    let c = pipeline::centres_for(&l.grid);
+    let c = pipeline::centres_for(&l.grid, bg.frame());
     check::run(&l.model, &bg, &domain, &c, 1e-10)
         .unwrap()
         .verdict

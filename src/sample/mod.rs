@@ -164,6 +164,15 @@ pub fn sample(
     })
 }
 
+/// The fields a build writes on `grid` for `gas`, in file order, known
+/// before the background is solved (what [`Sampler::fields`] returns).
+pub fn field_specs(grid: &Grid, gas: &GasConstants) -> Vec<crate::fields::FieldSpec> {
+    slots::catalogue(grid, gas, &grid.velocity_components())
+        .into_iter()
+        .map(|e| e.spec)
+        .collect()
+}
+
 /// Validates everything that does not depend on a point, and places the grid
 /// in the background's frame.
 fn check_inputs(
