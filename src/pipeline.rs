@@ -76,6 +76,7 @@ pub fn domain_for(grid: &Grid, frame: Frame) -> Domain {
         hi,
         knots,
         axis_at_lo,
+        height: grid.height_range(frame),
     }
 }
 
