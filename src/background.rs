@@ -70,6 +70,9 @@ pub enum Shape {
     /// Midplane of an axisymmetric rotating disk along `R`:
     /// v_φ²/R = ∂Φ/∂R + (1/ρ) ∂P/∂R.
     DiskMidplane,
+    /// An axisymmetric disk with its vertical structure, laws in R and z:
+    /// v_φ²/R = ∂Φ/∂R + (1/ρ) ∂P/∂R and 0 = ∂Φ/∂z + (1/ρ) ∂P/∂z.
+    StratifiedDisk,
 }
 
 impl Shape {
@@ -78,8 +81,27 @@ impl Shape {
         match self {
             Shape::Slab => "z",
             Shape::Spherical => "r",
-            Shape::DiskMidplane => "R",
+            Shape::DiskMidplane | Shape::StratifiedDisk => "R",
         }
+    }
+
+    /// The coordinates its laws may be written in, in the order compiled
+    /// programs take them: the balance coordinate, and z for a stratified
+    /// disk.
+    pub fn variables(self) -> &'static [&'static str] {
+        match self {
+            Shape::StratifiedDisk => &["R", "z"],
+            _ => std::slice::from_ref(match self {
+                Shape::Slab => &"z",
+                Shape::Spherical => &"r",
+                _ => &"R",
+            }),
+        }
+    }
+
+    /// Whether it is a rotating disk (midplane or stratified).
+    pub fn is_disk(self) -> bool {
+        matches!(self, Shape::DiskMidplane | Shape::StratifiedDisk)
     }
 
     /// The frame a background of this balance is evaluated in.
@@ -87,7 +109,7 @@ impl Shape {
         match self {
             Shape::Slab => Frame::Slab,
             Shape::Spherical => Frame::Spherical,
-            Shape::DiskMidplane => Frame::Axisymmetric,
+            Shape::DiskMidplane | Shape::StratifiedDisk => Frame::Axisymmetric,
         }
     }
 }
@@ -97,6 +119,7 @@ impl crate::keys::Keyed for Shape {
         (Shape::Slab, "slab"),
         (Shape::Spherical, "sphere"),
         (Shape::DiskMidplane, "disk"),
+        (Shape::StratifiedDisk, "stratified_disk"),
     ];
 }
 

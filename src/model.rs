@@ -175,9 +175,22 @@ impl Model {
         self.shape.coordinate()
     }
 
-    /// Compile a formula in the background coordinate, parameters folded in.
+    /// Compile a formula in the background coordinate, parameters folded in:
+    /// a program on the balance line (for a stratified disk, its midplane
+    /// z = 0; see [`Model::compile_field`] for (R, z)).
     pub fn compile(&self, expr: &Expr) -> Result<Program, FormulaError> {
-        Program::compile(expr, &[self.coordinate()], &|n| self.lookup(n))
+        let lookup = |n: &str| self.lookup(n);
+        if self.shape.variables().len() > 1 {
+            let mid = [("z".to_string(), Expr::num(0.0))].into_iter().collect();
+            return Program::compile(&expr.substitute(&mid), &[self.coordinate()], &lookup);
+        }
+        Program::compile(expr, &[self.coordinate()], &lookup)
+    }
+
+    /// Compile a formula in every coordinate its laws may use
+    /// ([`Shape::variables`]: (R, z) for a stratified disk).
+    pub fn compile_field(&self, expr: &Expr) -> Result<Program, FormulaError> {
+        Program::compile(expr, self.shape.variables(), &|n| self.lookup(n))
     }
 
     /// Parameter values as a substitution map (for closed forms with numbers).

@@ -36,7 +36,7 @@ pub fn point_mass_potential(shape: Shape, mass: Expr, softening: Option<Expr>) -
 /// a disk Φ(R, z) = −G M / √(R² + z² + ε²) (Plummer-softened with ε when
 /// given); for a slab or a sphere the same law as [`point_mass_potential`].
 pub fn point_mass_field(shape: Shape, mass: Expr, softening: Option<Expr>) -> Expr {
-    if shape != Shape::DiskMidplane {
+    if !shape.is_disk() {
         return point_mass_potential(shape, mass, softening);
     }
     let (r, z) = (Expr::name("R"), Expr::name("z"));

@@ -80,6 +80,7 @@ pub fn domain_for(grid: &Grid, frame: Frame) -> Domain {
         hi,
         knots,
         axis_at_lo,
+        height: grid.height_range(frame),
     }
 }
 

@@ -24,7 +24,7 @@
 //! Owns: N², κ², and the cautions they lead to. Does not own: the laws, the
 //! scan points or the one-sided limits (`check::jumps`).
 
-use crate::background::{Background, Shape};
+use crate::background::Background;
 use crate::check::jumps;
 use crate::closure::existence::extent;
 use crate::closure::{self, show, ClosureError, Domain, Laws};
@@ -159,7 +159,7 @@ pub fn cautions(model: &Model, bg: &dyn Background, domain: &Domain) -> Vec<Stri
         .collect();
     let steps = jumps::steps(&switches, (domain.lo, domain.hi));
     let mut out = Vec::new();
-    if model.shape == Shape::DiskMidplane {
+    if model.shape.is_disk() {
         let Ok(k2) = epicyclic(model) else {
             return out;
         };

@@ -8,7 +8,7 @@
 //! Owns: the columns, their units, the marks and the text and CSV
 //! renderings. Does not own: solving (it reads a [`Background`]).
 
-use crate::background::{Background, Shape};
+use crate::background::Background;
 use crate::closure::ClosureError;
 use crate::model::Model;
 use crate::units::Dim;
@@ -45,7 +45,7 @@ pub fn tabulate(model: &Model, bg: &dyn Background, at: &[f64]) -> Result<Table,
     if tfac.is_some() {
         cols.push(("T", Dim::TEMPERATURE));
     }
-    let disk = model.shape == Shape::DiskMidplane;
+    let disk = model.shape.is_disk();
     let phi_s = crate::closure::compile(
         model,
         &model.potential.expr.diff(s),

@@ -34,6 +34,7 @@ pub use jumps::Jump;
 use crate::background::{Background, Shape};
 use crate::closure::existence::{self, Extent};
 use crate::closure::{self, ClosureError, Domain, Laws};
+use crate::formula::Expr;
 use crate::model::Model;
 
 /// The largest relative residual accepted by default (`check --tolerance`).
@@ -112,7 +113,18 @@ pub fn run(
     let found = domain.switches(model);
     let switches: Vec<f64> = found.iter().map(|w| w.at).collect();
     let jumps = find_jumps(model, &laws, domain, &found, tolerance)?;
+    let vertical = laws.vertical_residual(model);
     let (verdict, formula) = match (&laws.integrand, laws.residual(model)) {
+        (None, Some((res, terms))) if vertical.is_some() => {
+            let (vres, vterms) = vertical.unwrap_or((Expr::num(0.0), Vec::new()));
+            let height = domain.height.unwrap_or((0.0, 0.0));
+            let list = [
+                ("radial", &res, &terms[..]),
+                ("vertical", &vres, &vterms[..]),
+            ];
+            let v = closed::closed_form_field(model, domain, height, &list, tolerance)?;
+            (v, Some(format!("radial: {res}; vertical: {vres}")))
+        }
         (None, Some((res, terms))) => {
             closed::closed_form(model, domain, &switches, (&res, &terms), tolerance)?
         }
@@ -128,7 +140,7 @@ pub fn run(
     };
     let pts = domain.scan_points_with(&switches);
     let v2 = match (&laws.rotation_sq, model.shape) {
-        (Some(v2), Shape::DiskMidplane) => Some(closure::compile(model, v2, "rotation")?),
+        (Some(v2), shape) if shape.is_disk() => Some(closure::compile(model, v2, "rotation")?),
         _ => None,
     };
     let v2_at = |x: f64| v2.as_ref().map_or(0.0, |p| p.eval(&[x]));
@@ -184,7 +196,8 @@ fn find_jumps(
 
 /// Largest relative residual of the balance under second-order centred
 /// differences at the cell centres: slab/sphere (P₊ − P₋)/(s₊ − s₋) + ρΦ_s,
-/// disk ρv²/R − ρΦ_R − P_R, each relative to its largest term.
+/// disk ρv²/R − ρΦ_R − P_R (on the midplane of a stratified disk), each
+/// relative to its largest term.
 fn discrete_imbalance(shape: Shape, bg: &dyn Background, centres: &[f64]) -> Option<(f64, f64)> {
     if centres.len() < 3 {
         return None;
@@ -196,7 +209,7 @@ fn discrete_imbalance(shape: Shape, bg: &dyn Background, centres: &[f64]) -> Opt
         let dp = (st[i + 1].pressure - st[i - 1].pressure) / ds;
         let dphi = (st[i + 1].potential - st[i - 1].potential) / ds;
         let rho = st[i].density;
-        let cen = if shape == Shape::DiskMidplane {
+        let cen = if shape.is_disk() {
             rho * st[i].rotation().powi(2) / centres[i]
         } else {
             0.0

@@ -22,6 +22,9 @@ pub struct Domain {
     /// it but never samples it (cell centres and Gauss points lie off it), so
     /// scans start just off it: many laws are finite there only as a limit.
     pub axis_at_lo: bool,
+    /// The range of heights z the grid covers, for a balance in (R, z) (a
+    /// stratified disk); None on grids without height.
+    pub height: Option<(f64, f64)>,
 }
 
 impl Domain {

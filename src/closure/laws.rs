@@ -151,7 +151,12 @@ impl Laws {
     /// Build the formulas of the model's closure.
     pub fn build(m: &Model) -> Result<Laws, ClosureError> {
         let s = m.coordinate();
-        let phi = m.potential.expr.clone();
+        // A stratified disk's balance holds in (R, z): its potential is the
+        // field, not its midplane.
+        let phi = match m.shape {
+            Shape::StratifiedDisk => m.potential_field.expr.clone(),
+            _ => m.potential.expr.clone(),
+        };
         let phi_s = phi.diff(s);
         let mut derived = vec![DerivedLaw::new(
             format!("dPhi/d{s}"),
@@ -171,7 +176,7 @@ impl Laws {
             gradients: None,
             derived: Vec::new(),
         };
-        let disk = m.shape == Shape::DiskMidplane;
+        let disk = m.shape.is_disk();
         let r = Expr::name(s);
         if !disk {
             refuse(&m.rotation, "rotation", "the balance is a slab or a sphere")?;
@@ -214,7 +219,7 @@ impl Laws {
         let p = self.pressure.clone()?;
         let phi_s = self.potential.diff(s);
         let grad = p.diff(s).distribute(&(Expr::num(1.0) / rho));
-        if m.shape == Shape::DiskMidplane {
+        if m.shape.is_disk() {
             let cen = (self.rotation_sq.clone()? / Expr::name(s)).simplify();
             let res = (cen.clone() - phi_s.clone() - grad.clone()).simplify();
             Some((

@@ -29,6 +29,7 @@ mod solved;
 pub mod switches;
 pub mod table;
 pub mod tabulate;
+mod vertical;
 
 pub use domain::Domain;
 pub use laws::{derived_laws, DerivedLaw, Gradients, Laws, Parts};

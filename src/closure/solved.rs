@@ -35,6 +35,9 @@ struct Outputs {
 /// tabulated integral.
 pub struct Solved {
     shape: Shape,
+    /// How many frame coordinates the programs take: 1 (the balance
+    /// coordinate), or 2 (R, z) for a stratified disk.
+    vars: usize,
     laws: Kernel,
     out: Outputs,
     accel: Kernel,
@@ -61,7 +64,8 @@ impl Solved {
         integral: Option<(Integrated, Table, f64)>,
         axis_potential: Option<(f64, f64)>,
     ) -> Result<Solved, ClosureError> {
-        let s = model.coordinate();
+        let vars = model.shape.variables();
+        let s = vars[0];
         let fail = |origin: &str| {
             let origin = origin.to_string();
             move |error| ClosureError::Formula { origin, error }
@@ -84,15 +88,15 @@ impl Solved {
                 .clone()
                 .map(|v2| Expr::call(Func::Sqrt, vec![v2]))
         });
-        if model.shape == Shape::DiskMidplane {
+        if model.shape.is_disk() {
             out.v = push("v", &v);
         }
         let refs: Vec<(&str, &Expr)> = list.iter().map(|(n, e)| (*n, e)).collect();
         let lookup = |n: &str| model.lookup(n);
-        let kernel = Kernel::compile(&refs, &[s], &lookup).map_err(fail("laws"))?;
+        let kernel = Kernel::compile(&refs, vars, &lookup).map_err(fail("laws"))?;
         let accel = accelerations(laws, integral.as_ref().map(|i| i.0), s);
         let accel_refs = [("g", &accel[0]), ("a", &accel[1])];
-        let accel = Kernel::compile(&accel_refs, &[s], &lookup).map_err(fail("accelerations"))?;
+        let accel = Kernel::compile(&accel_refs, vars, &lookup).map_err(fail("accelerations"))?;
         let rotation_sq = laws
             .rotation_sq
             .as_ref()
@@ -100,6 +104,7 @@ impl Solved {
             .transpose()?;
         Ok(Solved {
             shape: model.shape,
+            vars: vars.len(),
             laws: kernel,
             out,
             accel,
@@ -112,7 +117,10 @@ impl Solved {
     /// Φ at `s` as the law gives it, without the limit taken at the axis.
     pub(super) fn raw_potential(&self, s: f64) -> f64 {
         let mut o = [0.0; 5];
-        SCALAR.with(|w| self.laws.eval(&[s], &mut o, &mut w.borrow_mut().0));
+        SCALAR.with(|w| {
+            self.laws
+                .eval(&[s, 0.0][..self.vars], &mut o, &mut w.borrow_mut().0)
+        });
         o[self.out.phi]
     }
 
@@ -224,10 +232,10 @@ impl Background for Solved {
         self.shape.frame()
     }
 
-    /// Every closure so far balances along one coordinate: a disk's laws are
-    /// those of its midplane.
+    /// Closures balance along one coordinate (a disk's laws are those of its
+    /// midplane), except a stratified disk's, in (R, z).
     fn depends_on(&self) -> [bool; 2] {
-        [true, false]
+        [true, self.vars > 1]
     }
 
     fn workspace(&self) -> Workspace {
@@ -245,13 +253,14 @@ impl Background for Solved {
 
     fn at(&self, x: &[f64]) -> State {
         let s = x[0];
+        let xs = &x[..self.vars];
         let mut o = [0.0; 5];
         let mut a = [0.0; 2];
         // The registers of this thread's scalar evaluations, reused.
         let i = SCALAR.with(|w| {
             let (laws, table) = &mut *w.borrow_mut();
-            self.laws.eval(&[s], &mut o, laws);
-            self.accel.eval(&[s], &mut a, laws);
+            self.laws.eval(xs, &mut o, laws);
+            self.accel.eval(xs, &mut a, laws);
             match &self.integral {
                 Some((_, t, _)) => t.at(s, table),
                 None => 0.0,
@@ -281,7 +290,8 @@ impl Background for Solved {
         {
             let mut outs: Vec<&mut [f64]> =
                 ws.buffers[..nout].iter_mut().map(|b| &mut b[..n]).collect();
-            self.laws.run(&[s], &mut outs, &mut laws_ws[0]);
+            self.laws
+                .run(&coords[..self.vars], &mut outs, &mut laws_ws[0]);
         }
         if let Some((_, t, _)) = &self.integral {
             let (head, tail) = ws.buffers.split_at_mut(NODES);
@@ -357,7 +367,7 @@ impl Background for Solved {
         if want.accelerations {
             let (g, a) = ws.buffers[ACCEL..ACCEL + 2].split_at_mut(1);
             self.accel.run(
-                &[s],
+                &coords[..self.vars],
                 &mut [&mut g[0][..n], &mut a[0][..n]],
                 &mut accel_ws[0],
             );

@@ -109,6 +109,8 @@ pub enum Serves {
     Disk,
     /// Slabs and spheres: hydrostatic along their coordinate.
     Hydrostatic,
+    /// Disks with their vertical structure (laws in R and z).
+    Stratified,
     /// Every balance (the audit).
     Any,
 }
@@ -117,7 +119,8 @@ impl Serves {
     fn serves(self, shape: Shape) -> bool {
         match self {
             Serves::Disk => shape == Shape::DiskMidplane,
-            Serves::Hydrostatic => shape != Shape::DiskMidplane,
+            Serves::Hydrostatic => !shape.is_disk(),
+            Serves::Stratified => shape == Shape::StratifiedDisk,
             Serves::Any => true,
         }
     }
@@ -239,6 +242,15 @@ pub static CLOSURES: &[Closure] = &[
         build: super::barotropic::disk_rotation,
     },
     Closure {
+        serves: Serves::Stratified,
+        unknown: Unknown::Rotation,
+        gas: Gas::Free,
+        requires: &[LawKey::Density, LawKey::SoundSpeed],
+        refuses: &[LawKey::Rotation],
+        integrates: None,
+        build: super::vertical::isothermal,
+    },
+    Closure {
         serves: Serves::Any,
         unknown: Unknown::Nothing,
         gas: Gas::Any,
@@ -267,6 +279,10 @@ pub fn closure_for(
                     .into()
             } else if gas == Gas::Barotropic && shape == Shape::DiskMidplane {
                 "balance.solve_for: a barotropic disk is solved for rotation".into()
+            } else if shape == Shape::StratifiedDisk {
+                "balance.solve_for: a stratified disk is solved for its rotation \
+                 (give its midplane density and its sound speed)"
+                    .into()
             } else {
                 "balance.solve_for: a slab or a sphere has no rotation to solve for".into()
             })
@@ -433,7 +449,7 @@ fn audit(
             ))
         }
     };
-    if m.shape == Shape::DiskMidplane {
+    if m.shape.is_disk() {
         let v = LawKey::Rotation.need(m, "auditing a disk")?;
         laws.rotation_sq = Some((v.clone() * v).simplify());
     } else {

@@ -406,6 +406,28 @@ impl Grid {
         }
     }
 
+    /// The range of heights z over the domain when the grid holds a state of
+    /// `frame` in (R, z) and has height ([R, z], [R, phi, z], [x, y, z], and
+    /// z = r cos θ on [r, theta], [r, theta, phi]); None otherwise.
+    pub fn height_range(&self, frame: Frame) -> Option<(f64, f64)> {
+        if frame != Frame::Axisymmetric {
+            return None;
+        }
+        match self.layout {
+            Layout::Meridional => Some(self.axes[1].range()),
+            Layout::Cylindrical | Layout::Box => Some(self.axes[2].range()),
+            Layout::SphericalMeridional | Layout::Spherical => {
+                let (r0, r1) = self.axes[0].range();
+                let (t0, t1) = self.axes[1].range();
+                let z = [r0 * t0.cos(), r1 * t0.cos(), r0 * t1.cos(), r1 * t1.cos()];
+                let lo = z.iter().copied().fold(f64::INFINITY, f64::min);
+                let hi = z.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+                Some((lo, hi))
+            }
+            _ => None,
+        }
+    }
+
     /// The volume element J at a point (coordinates in axis order), such that
     /// the volume of a cell is ∫ J d(axis 1) d(axis 2)…: the product of the
     /// per-axis factors of [`Grid::volume_factor`] (R dR on `[R]`, r² dr on

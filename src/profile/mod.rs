@@ -262,9 +262,8 @@ pub fn from_text(
     ])?;
     let shape = balance.require("shape")?.node().choice(Shape::KEYS)?;
     let unknown = balance.require("solve_for")?.node().choice(Unknown::KEYS)?;
-    let coord = shape.coordinate();
     let mut law_names = consts.clone();
-    law_names.push(coord);
+    law_names.extend(shape.variables());
     let law = |key: &str| -> Result<Option<Law>, ProfileError> {
         match balance.child(key) {
             None => Ok(None),
@@ -292,7 +291,11 @@ pub fn from_text(
         Some(n) => {
             let b = n.node().bool()?;
             if b && shape != Shape::DiskMidplane {
-                return Err(n.node().error("only a disk can be vertically integrated"));
+                return Err(n.node().error(if shape == Shape::StratifiedDisk {
+                    "a stratified disk is not vertically integrated: give its midplane density (its vertical structure is solved)"
+                } else {
+                    "only a disk can be vertically integrated"
+                }));
             }
             b
         }

@@ -39,7 +39,7 @@ pub(super) fn potential(
     }
     if let Some(g) = node.child("uniform") {
         let g = g.node();
-        if shape == Shape::DiskMidplane {
+        if shape.is_disk() {
             return Err(g.error(
                 "a disk needs a central potential (point_mass or potential), not uniform gravity",
             ));
@@ -77,7 +77,7 @@ pub(super) fn potential(
     if node.child("softening").is_some() {
         return Err(node.error("softening goes with point_mass only"));
     }
-    if shape == Shape::DiskMidplane {
+    if shape.is_disk() {
         names.push("z");
         let e = p.formula(&names)?;
         let mid = e.substitute(&[("z".to_string(), Expr::num(0.0))].into_iter().collect());
@@ -226,6 +226,14 @@ pub(super) fn check_grid_matches(
                 | Layout::Section
                 | Layout::Box
         ),
+        Shape::StratifiedDisk => matches!(
+            grid.layout(),
+            Layout::Meridional
+                | Layout::SphericalMeridional
+                | Layout::Cylindrical
+                | Layout::Spherical
+                | Layout::Box
+        ),
         _ => matches!(
             grid.layout(),
             Layout::Line(Coord::R) | Layout::Polar | Layout::Cartesian
@@ -239,6 +247,14 @@ pub(super) fn check_grid_matches(
             Shape::Spherical => {
                 "a sphere needs an r axis, a spherical grid [r, theta] or [r, theta, phi], \
                  or a Cartesian box [x, y], [x, z] or [x, y, z]"
+            }
+            Shape::StratifiedDisk => {
+                "a stratified disk needs a grid with height: [R, z], [r, theta], \
+                 [R, phi, z], [r, theta, phi] or [x, y, z]"
+            }
+            _ if grid.axes().len() > 1 && !matches!(grid.layout(), Layout::Polar | Layout::Cartesian) => {
+                "a disk's midplane needs an R axis, R and phi, or x and y; \
+                 for a grid with height use balance.shape \"stratified_disk\" (the vertical structure is solved too)"
             }
             _ => "a disk's midplane needs an R axis, R and phi, or x and y",
         };
