@@ -14,7 +14,7 @@ use crate::grid::{Grid, Layout};
 use crate::keys::Keyed;
 use crate::output::{GroupPlan, H5Stream, Metadata, OutputError, Precision};
 use crate::profile::{Loaded, ProfileError};
-use crate::sample::{self, GasConstants, SampleError, Sampler};
+use crate::sample::{self, Cuts, GasConstants, SampleError, Sampler};
 
 /// Anything that can stop a command.
 #[derive(Debug, thiserror::Error)]
@@ -235,13 +235,24 @@ impl Built<'_> {
 
     /// The sampler of the background on the profile's grid and rule.
     pub fn sampler(&self) -> Result<Sampler<'_>, Error> {
-        Sampler::new(
+        Sampler::with_cuts(
             &self.background,
             &self.loaded.grid,
             &self.loaded.sampling,
             &gas_constants(self.loaded),
+            &self.cuts(),
         )
         .map_err(|e| self.sample_error(e))
+    }
+
+    /// The switch points of the piecewise laws, in the balance coordinate:
+    /// cell averages are split there on grid axes of that coordinate.
+    pub fn cuts(&self) -> Cuts {
+        let model = &self.loaded.model;
+        Cuts {
+            coordinate: model.shape.coordinate().to_string(),
+            at: self.domain.switches(model).iter().map(|w| w.at).collect(),
+        }
     }
 
     /// A sampling error, labelled with the profile.
@@ -254,11 +265,12 @@ impl Built<'_> {
 
     /// Every field on the whole grid, in memory (small grids, CSV tables).
     pub fn sample_all(&self) -> Result<FieldSet, Error> {
-        sample::sample(
+        sample::sample_with_cuts(
             &self.background,
             &self.loaded.grid,
             &self.loaded.sampling,
             &gas_constants(self.loaded),
+            &self.cuts(),
         )
         .map_err(|e| self.sample_error(e))
     }

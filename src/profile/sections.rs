@@ -288,21 +288,45 @@ pub(super) fn intended_jumps(node: Node, laws: &[&str]) -> Result<Vec<String>, P
 }
 
 pub(super) fn sampling(node: Node) -> Result<SamplingRule, ProfileError> {
-    node.only_keys(&["rule", "points"])?;
+    node.only_keys(&["rule", "points", "tolerance"])?;
     let avg = node
         .require("rule")?
         .node()
         .choice(&[(false, "center"), (true, "average")])?;
     if !avg {
-        if let Some(p) = node.child("points") {
-            return Err(p.node().error("points goes with rule \"average\" only"));
+        for key in ["points", "tolerance"] {
+            if let Some(p) = node.child(key) {
+                return Err(p
+                    .node()
+                    .error(format!("{key} goes with rule \"average\" only")));
+            }
         }
         return Ok(SamplingRule::Center);
     }
     let points = match node.child("points") {
-        Some(p) => p.node().positive_int()?,
-        None => 4,
+        Some(p) => Some(p.node().positive_int()?),
+        None => None,
     };
+    if let Some(t) = node.child("tolerance") {
+        let tolerance = t
+            .node()
+            .value
+            .as_f64()
+            .ok_or_else(|| t.node().error("expected a number, such as 1e-12"))?;
+        if !(tolerance.is_finite() && tolerance > 0.0) {
+            return Err(t
+                .node()
+                .error("a relative tolerance must be a number > 0, such as 1e-12"));
+        }
+        let start = points.unwrap_or(2);
+        if start > 62 {
+            return Err(node.error(
+                "sampling.points: with a tolerance, the first number of points tried is at most 62",
+            ));
+        }
+        return Ok(SamplingRule::AverageTo { tolerance, start });
+    }
+    let points = points.unwrap_or(4);
     if points > 64 {
         return Err(node.error("sampling.points: at most 64 points per axis"));
     }

@@ -37,10 +37,10 @@ use crate::background::Background;
 use crate::fields::{Field, FieldSet};
 use crate::grid::{Embedding, Grid};
 use gauss::MAX_POINTS;
-pub use stream::Sampler;
+pub use stream::{Cuts, Sampler};
 
 /// How a cell's value is taken from the background.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq)]
 #[non_exhaustive]
 pub enum SamplingRule {
     /// The point value at the cell centre (arithmetic midpoint of each axis).
@@ -50,6 +50,16 @@ pub enum SamplingRule {
     Average {
         /// Nodes per axis.
         points: usize,
+    },
+    /// Cell averages to a requested relative tolerance: the points per axis
+    /// are raised by 2 from `start` until the averages with n and n + 2
+    /// points differ by at most `tolerance` relative to each field's largest
+    /// magnitude; the n + 2 values are written with the estimate.
+    AverageTo {
+        /// The relative tolerance (> 0).
+        tolerance: f64,
+        /// The first n tried.
+        start: usize,
     },
 }
 
@@ -64,6 +74,11 @@ impl SamplingRule {
                 "cell averages by tensor Gauss–Legendre, {points} point{} per axis, \
                  weighted by the volume element {}",
                 if *points == 1 { "" } else { "s" },
+                grid.volume_element_name()
+            ),
+            SamplingRule::AverageTo { tolerance, .. } => format!(
+                "cell averages by tensor Gauss–Legendre to a relative tolerance of \
+                 {tolerance:e}, weighted by the volume element {}",
                 grid.volume_element_name()
             ),
         }
@@ -122,6 +137,12 @@ pub enum SampleError {
         /// The number asked for.
         points: usize,
     },
+    /// A tolerance that is not a positive number.
+    #[error("sampling.tolerance must be finite and > 0, got {tolerance}")]
+    Tolerance {
+        /// The value given.
+        tolerance: f64,
+    },
     /// A bad adiabatic index.
     #[error("the adiabatic index γ must be finite and ≥ 1 (1 is isothermal), got {gamma}")]
     Gamma {
@@ -145,7 +166,18 @@ pub fn sample(
     rule: &SamplingRule,
     gas: &GasConstants,
 ) -> Result<FieldSet, SampleError> {
-    let sampler = Sampler::new(bg, grid, rule, gas)?;
+    sample_with_cuts(bg, grid, rule, gas, &Cuts::none())
+}
+
+/// [`sample`], with cell averages split at the switch points `cuts`.
+pub fn sample_with_cuts(
+    bg: &dyn Background,
+    grid: &Grid,
+    rule: &SamplingRule,
+    gas: &GasConstants,
+    cuts: &Cuts,
+) -> Result<FieldSet, SampleError> {
+    let sampler = Sampler::with_cuts(bg, grid, rule, gas, cuts)?;
     let slab = sampler.slab(0..grid.shape()[0])?;
     Ok(FieldSet {
         shape: grid.shape(),
@@ -173,6 +205,84 @@ pub fn field_specs(grid: &Grid, gas: &GasConstants) -> Vec<crate::fields::FieldS
         .collect()
 }
 
+/// Cells sampled at once while a rule to a tolerance compares n with n + 2.
+const ESTIMATE_CELLS: usize = 1 << 16;
+
+/// The sampler of a rule to a tolerance: n = `start`, `start` + 2, … until
+/// the largest relative difference between the averages with n and n + 2
+/// points per axis, over every cell of each field (relative to the field's
+/// largest magnitude), is at most `tolerance`, or n + 2 reaches
+/// [`MAX_POINTS`]. Returns the sampler with n + 2 points, its description
+/// stating the estimate of each field (and that the tolerance was not met,
+/// if so). The comparison runs slab by slab, so memory stays bounded.
+pub(crate) fn converge<'a>(
+    bg: &'a dyn Background,
+    grid: &'a Grid,
+    tolerance: f64,
+    start: usize,
+    gas: &GasConstants,
+    cuts: &Cuts,
+) -> Result<Sampler<'a>, SampleError> {
+    let shape = grid.shape();
+    let row: usize = shape[1..].iter().product();
+    let rows = (ESTIMATE_CELLS / row.max(1)).max(1);
+    let mut n = start;
+    loop {
+        let lo = Sampler::with_cuts(bg, grid, &SamplingRule::Average { points: n }, gas, cuts)?;
+        let mut hi = Sampler::with_cuts(
+            bg,
+            grid,
+            &SamplingRule::Average { points: n + 2 },
+            gas,
+            cuts,
+        )?;
+        let names: Vec<String> = hi.fields().into_iter().map(|f| f.name).collect();
+        let (mut diff, mut scale) = (vec![0.0f64; names.len()], vec![0.0f64; names.len()]);
+        let mut from = 0;
+        while from < shape[0] {
+            let to = (from + rows).min(shape[0]);
+            let (a, b) = (lo.slab(from..to)?, hi.slab(from..to)?);
+            for (k, (a, b)) in a.data.iter().zip(&b.data).enumerate() {
+                for (x, y) in a.iter().zip(b) {
+                    diff[k] = diff[k].max((x - y).abs());
+                    scale[k] = scale[k].max(y.abs());
+                }
+            }
+            from = to;
+        }
+        let estimate: Vec<f64> = diff
+            .iter()
+            .zip(&scale)
+            .map(|(d, s)| if *s > 0.0 { d / s } else { 0.0 })
+            .collect();
+        let worst = estimate.iter().fold(0.0f64, |m, e| m.max(*e));
+        if worst <= tolerance || n + 2 >= MAX_POINTS {
+            let per_field: Vec<String> = names
+                .iter()
+                .zip(&estimate)
+                .map(|(f, e)| format!("{f} {e:.1e}"))
+                .collect();
+            let met = if worst <= tolerance {
+                String::new()
+            } else {
+                format!(
+                    "; TOLERANCE NOT MET at {MAX_POINTS} points per axis (a kink or \
+                     singularity inside cells that no cut removes)"
+                )
+            };
+            let text = format!(
+                "{}, requested relative tolerance {tolerance:e}; estimated relative error \
+                 (largest difference from {n} points, per field): {}{met}",
+                SamplingRule::Average { points: n + 2 }.describe(grid),
+                per_field.join(", ")
+            );
+            hi.describe_as(text);
+            return Ok(hi);
+        }
+        n += 2;
+    }
+}
+
 /// Validates everything that does not depend on a point, and places the grid
 /// in the background's frame.
 fn check_inputs(
@@ -189,10 +299,19 @@ fn check_inputs(
             axes: axes.join(", "),
         });
     };
-    if let SamplingRule::Average { points } = *rule {
-        if !(1..=MAX_POINTS).contains(&points) {
+    match *rule {
+        SamplingRule::Average { points } if !(1..=MAX_POINTS).contains(&points) => {
             return Err(SampleError::Points { points });
         }
+        SamplingRule::AverageTo { start, .. } if !(1..=MAX_POINTS - 2).contains(&start) => {
+            return Err(SampleError::Points { points: start });
+        }
+        SamplingRule::AverageTo { tolerance, .. }
+            if !(tolerance.is_finite() && tolerance > 0.0) =>
+        {
+            return Err(SampleError::Tolerance { tolerance });
+        }
+        _ => {}
     }
     if !(gas.gamma.is_finite() && gas.gamma >= 1.0) {
         return Err(SampleError::Gamma { gamma: gas.gamma });

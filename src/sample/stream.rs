@@ -32,6 +32,13 @@ use crate::grid::{Embedding, Grid};
 
 /// Nodes and weights of the rule on every cell of one axis, flattened as
 /// `cell * per_cell + k`; weights include the axis's volume factor.
+///
+/// A cell holding switch points of a piecewise law (`cuts`) is split there
+/// and each piece gets the rule of its own, so that every piece's integrand
+/// is smooth. Every cell of the axis then has room for the most pieces of
+/// one cell: a cell with fewer takes its own nodes first and repeats its
+/// first node with weight zero after them, so an unsplit cell's sum is the
+/// same, to the bit, as without cuts.
 struct AxisNodes {
     per_cell: usize,
     nodes: Vec<f64>,
@@ -39,31 +46,71 @@ struct AxisNodes {
 }
 
 impl AxisNodes {
-    fn new(grid: &Grid, axis: usize, rule: Option<&GaussLegendre>) -> AxisNodes {
+    fn new(grid: &Grid, axis: usize, rule: Option<&GaussLegendre>, cuts: &[f64]) -> AxisNodes {
         let edges = &grid.axes()[axis].edges;
-        let per_cell = rule.map_or(1, |r| r.nodes.len());
+        let inside = |w: &[f64]| cuts.iter().filter(|c| **c > w[0] && **c < w[1]).count();
+        let pieces = match rule {
+            Some(_) => 1 + edges.windows(2).map(inside).max().unwrap_or(0),
+            None => 1,
+        };
+        let per_piece = rule.map_or(1, |r| r.nodes.len());
+        let per_cell = per_piece * pieces;
         let mut nodes = Vec::with_capacity((edges.len() - 1) * per_cell);
         let mut weights = Vec::with_capacity(nodes.capacity());
         for w in edges.windows(2) {
-            let (mid, half) = (0.5 * (w[0] + w[1]), 0.5 * (w[1] - w[0]));
-            match rule {
-                None => {
-                    nodes.push(mid);
-                    weights.push(1.0);
-                }
-                Some(r) => {
-                    for (x, wt) in r.nodes.iter().zip(&r.weights) {
-                        let at = mid + half * x;
-                        nodes.push(at);
-                        weights.push(half * wt * grid.volume_factor(axis, at));
-                    }
+            let Some(r) = rule else {
+                nodes.push(0.5 * (w[0] + w[1]));
+                weights.push(1.0);
+                continue;
+            };
+            let mut ends = vec![w[0]];
+            ends.extend(cuts.iter().filter(|c| **c > w[0] && **c < w[1]));
+            ends.push(w[1]);
+            let first = nodes.len();
+            for piece in ends.windows(2) {
+                let (mid, half) = (0.5 * (piece[0] + piece[1]), 0.5 * (piece[1] - piece[0]));
+                for (x, wt) in r.nodes.iter().zip(&r.weights) {
+                    let at = mid + half * x;
+                    nodes.push(at);
+                    weights.push(half * wt * grid.volume_factor(axis, at));
                 }
             }
+            let pad = nodes[first];
+            nodes.resize(first + per_cell, pad);
+            weights.resize(first + per_cell, 0.0);
         }
         AxisNodes {
             per_cell,
             nodes,
             weights,
+        }
+    }
+}
+
+/// Switch points of piecewise laws, in one coordinate of the background's
+/// frame: grid axes of that name (R on a polar or meridional grid, z on a
+/// slab, r on a sphere) split their cells there when averaging. Other axes
+/// (x and y for a switch in R) are not split.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Cuts {
+    /// The coordinate's name (`R`, `z`, `r`).
+    pub coordinate: String,
+    /// The switch points, in that coordinate.
+    pub at: Vec<f64>,
+}
+
+impl Cuts {
+    /// No cuts.
+    pub fn none() -> Cuts {
+        Cuts::default()
+    }
+
+    /// The cuts that fall on grid axis `axis`.
+    fn on_axis(&self, grid: &Grid, axis: usize) -> &[f64] {
+        if grid.axes()[axis].coord.name() == self.coordinate {
+            &self.at
+        } else {
+            &[]
         }
     }
 }
@@ -107,13 +154,29 @@ impl<'a> Sampler<'a> {
         rule: &SamplingRule,
         gas: &GasConstants,
     ) -> Result<Sampler<'a>, SampleError> {
+        Self::with_cuts(bg, grid, rule, gas, &Cuts::none())
+    }
+
+    /// [`Sampler::new`], with cell averages split at the switch points
+    /// `cuts`; a rule to a tolerance raises the points per axis until the
+    /// estimate meets it (see [`super::converge`]).
+    pub fn with_cuts(
+        bg: &'a dyn Background,
+        grid: &'a Grid,
+        rule: &SamplingRule,
+        gas: &GasConstants,
+        cuts: &Cuts,
+    ) -> Result<Sampler<'a>, SampleError> {
         let embed = check_inputs(bg, grid, rule, gas)?;
         let gauss = match rule {
             SamplingRule::Average { points } => GaussLegendre::new(*points),
+            SamplingRule::AverageTo { tolerance, start } => {
+                return super::converge(bg, grid, *tolerance, *start, gas, cuts)
+            }
             SamplingRule::Center => None,
         };
         let axes = (0..grid.axes().len())
-            .map(|a| AxisNodes::new(grid, a, gauss.as_ref()))
+            .map(|a| AxisNodes::new(grid, a, gauss.as_ref(), cuts.on_axis(grid, a)))
             .collect();
         let active = embed.active_axes(bg.depends_on());
         let lane = active.iter().rposition(|a| *a).unwrap_or(0);
@@ -159,6 +222,11 @@ impl<'a> Sampler<'a> {
     /// The description of the sampling rule, for files.
     pub fn sampling(&self) -> &str {
         &self.sampling
+    }
+
+    /// Replaces the description (a rule to a tolerance adds what it met).
+    pub(super) fn describe_as(&mut self, text: String) {
+        self.sampling = text;
     }
 
     /// The fields for the cells `rows` of the first axis. Errors name the
