@@ -69,6 +69,8 @@ pub enum Command {
         /// Also write a CSV table beside the HDF5 file (1D grids only).
         #[arg(long)]
         csv: bool,
+        #[command(flatten)]
+        arrays: ArrayArgs,
         /// Overwrite existing output files.
         #[arg(long)]
         force: bool,
@@ -149,6 +151,79 @@ pub enum Command {
     Manual,
 }
 
+/// Plain-array outputs beside the HDF5 file.
+#[derive(Debug, Args)]
+pub struct ArrayArgs {
+    /// Also write a folder NAME-npy/ of NumPy .npy files, one per field and
+    /// axis, with metadata.json.
+    #[arg(long)]
+    pub npy: bool,
+    /// Also write a folder NAME-raw/ of raw binary files, one per field and
+    /// axis, with metadata.json giving dtype, byte order, order and shape.
+    #[arg(long)]
+    pub raw: bool,
+    /// Value type of the raw field files (default: the profile's
+    /// output.precision; axes are always float64).
+    #[arg(long, value_enum, value_name = "TYPE", requires = "raw")]
+    pub raw_dtype: Option<RawDtype>,
+    /// Byte order of the raw files.
+    #[arg(long, value_enum, default_value = "little", requires = "raw")]
+    pub byte_order: ByteOrderArg,
+    /// Order of the values of a raw field: c (last axis fastest, as in the
+    /// HDF5 file) or fortran (first axis fastest).
+    #[arg(long, value_enum, default_value = "c", requires = "raw")]
+    pub array_order: ArrayOrderArg,
+}
+
+/// `--raw-dtype`.
+#[derive(Clone, Copy, Debug, clap::ValueEnum)]
+pub enum RawDtype {
+    /// 64-bit floats.
+    Float64,
+    /// 32-bit floats (adds the single-precision caution).
+    Float32,
+}
+
+/// `--byte-order`.
+#[derive(Clone, Copy, Debug, clap::ValueEnum)]
+pub enum ByteOrderArg {
+    /// Least significant byte first.
+    Little,
+    /// Most significant byte first.
+    Big,
+}
+
+/// `--array-order`.
+#[derive(Clone, Copy, Debug, clap::ValueEnum)]
+pub enum ArrayOrderArg {
+    /// Last index fastest.
+    C,
+    /// First index fastest.
+    Fortran,
+}
+
+impl ArrayArgs {
+    fn raw_format(&self, precision: output::Precision) -> output::RawFormat {
+        use output::arrays::{ArrayOrder, ByteOrder, RawType};
+        output::RawFormat {
+            dtype: match (self.raw_dtype, precision) {
+                (Some(RawDtype::Float64), _) => RawType::F64,
+                (Some(RawDtype::Float32), _) => RawType::F32,
+                (None, output::Precision::Double) => RawType::F64,
+                (None, output::Precision::Single) => RawType::F32,
+            },
+            byte_order: match self.byte_order {
+                ByteOrderArg::Little => ByteOrder::Little,
+                ByteOrderArg::Big => ByteOrder::Big,
+            },
+            order: match self.array_order {
+                ArrayOrderArg::C => ArrayOrder::C,
+                ArrayOrderArg::Fortran => ArrayOrder::Fortran,
+            },
+        }
+    }
+}
+
 /// How a build uses the machine. Neither changes a single value in the
 /// file.
 #[derive(Debug, Args)]
@@ -194,6 +269,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             common,
             output,
             csv,
+            arrays,
             force,
             reproducible,
             estimate,
@@ -201,6 +277,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
         } => {
             let flags = BuildFlags {
                 csv,
+                arrays: &arrays,
                 force,
                 reproducible,
                 estimate,
@@ -367,8 +444,9 @@ fn parse_list(loaded: &Loaded, list: &str) -> Result<Vec<f64>, Error> {
 }
 
 /// The switches of `build`.
-struct BuildFlags {
+struct BuildFlags<'a> {
     csv: bool,
+    arrays: &'a ArrayArgs,
     force: bool,
     reproducible: bool,
     estimate: bool,
@@ -377,13 +455,14 @@ struct BuildFlags {
 fn build(
     common: &Common,
     output: Option<PathBuf>,
-    flags: &BuildFlags,
+    flags: &BuildFlags<'_>,
     stream: &StreamArgs,
     argv: &str,
 ) -> Result<Outcome, Error> {
     let started = std::time::Instant::now();
     let &BuildFlags {
         csv,
+        arrays,
         force,
         reproducible,
         estimate,
@@ -394,6 +473,29 @@ fn build(
         .unwrap_or_else(|| PathBuf::from(format!("{}.h5", loaded.model.name)));
     let want_csv = csv || loaded.output.csv;
     let csv_path = want_csv.then(|| h5.with_extension("csv"));
+    let xmf = h5.with_extension("xmf");
+    if [Some("xmf"), Some("csv"), Some("json")].contains(&h5.extension().and_then(|e| e.to_str())) {
+        return Err(Error::Usage(format!(
+            "{}: the HDF5 output needs another extension (.h5): the XDMF, CSV and JSON files \
+             are named after it",
+            h5.display()
+        )));
+    }
+    let record = csv_path.as_ref().map(|c| c.with_extension("csv.json"));
+    let folder = |suffix: &str| {
+        let stem = h5.file_stem().unwrap_or_default().to_string_lossy();
+        h5.with_file_name(format!("{stem}-{suffix}"))
+    };
+    let npy = arrays.npy.then(|| folder("npy"));
+    let raw = arrays.raw.then(|| folder("raw"));
+    let outputs = [
+        Some(&h5),
+        Some(&xmf),
+        csv_path.as_ref(),
+        record.as_ref(),
+        npy.as_ref(),
+        raw.as_ref(),
+    ];
     let opts = pipeline::StreamOptions {
         precision: loaded.output.precision,
         slab_rows: stream.slab_rows.map(|n| n as usize),
@@ -414,7 +516,7 @@ fn build(
         let plan = crate::estimate::Plan::new(&loaded, &opts, rayon::current_num_threads(), None);
         crate::estimate::refuse_if_too_big(&plan, crate::estimate::resident(), &dir)?;
     }
-    for p in std::iter::once(&h5).chain(csv_path.as_ref()) {
+    for p in outputs.into_iter().flatten() {
         if p.exists() && !force {
             return Err(Error::Usage(format!(
                 "{}: the file exists; pass --force to overwrite it",
@@ -437,7 +539,21 @@ fn build(
         Some(m) => m,
         None => built.verify()?,
     };
-    if let Some(c) = &csv_path {
+    let groups = built.groups()?;
+    output::commit(&xmf, force, |tmp| {
+        output::write_xdmf(
+            tmp,
+            &h5,
+            &loaded.grid,
+            &groups,
+            opts.precision,
+            &loaded.model.name,
+        )
+    })?;
+    let mut written = vec![h5.clone(), xmf.clone()];
+    if csv_path.is_some() || npy.is_some() || raw.is_some() {
+        // The same numbers as the HDF5 file: sampling does not depend on
+        // the slab size.
         let set = built.sample_all()?;
         let doc = Document {
             grid: &loaded.grid,
@@ -445,9 +561,27 @@ fn build(
             state: &set,
             metadata: &metadata,
         };
-        output::commit(c, force, |tmp| output::write_csv(&doc, tmp))?;
+        if let (Some(c), Some(r)) = (&csv_path, &record) {
+            output::commit(c, force, |tmp| output::write_csv(&doc, tmp))?;
+            let name = c.file_name().unwrap_or_default().to_string_lossy();
+            output::commit(r, force, |tmp| output::write_csv_record(&doc, tmp, &name))?;
+            written.extend([c.clone(), r.clone()]);
+        }
+        if let Some(dir) = &npy {
+            output::commit_dir(dir, force, |tmp| {
+                output::write_npy(&doc, tmp, opts.precision)
+            })?;
+            written.push(dir.clone());
+        }
+        if let Some(dir) = &raw {
+            let format = arrays.raw_format(opts.precision);
+            output::commit_dir(dir, force, |tmp| {
+                output::write_raw(&doc, tmp, opts.precision, format)
+            })?;
+            written.push(dir.clone());
+        }
     }
-    report_written(&loaded, &h5, csv_path.as_deref(), &metadata.cautions);
+    report_written(&loaded, &written, &metadata.cautions);
     Ok(Outcome::Ok)
 }
 
@@ -477,7 +611,7 @@ fn print_estimate(
     Ok(Outcome::Ok)
 }
 
-fn report_written(loaded: &Loaded, h5: &Path, csv: Option<&Path>, cautions: &[String]) {
+fn report_written(loaded: &Loaded, written: &[PathBuf], cautions: &[String]) {
     let shape: Vec<String> = loaded.grid.shape().iter().map(|n| n.to_string()).collect();
     say!(
         "{}: {} cells ({}), {}",
@@ -492,9 +626,12 @@ fn report_written(loaded: &Loaded, h5: &Path, csv: Option<&Path>, cautions: &[St
             .join(", "),
         loaded.sampling.describe(&loaded.grid)
     );
-    say!("wrote {}", h5.display());
-    if let Some(c) = csv {
-        say!("wrote {}", c.display());
+    for p in written {
+        let what = match p.extension().and_then(|e| e.to_str()) {
+            Some("xmf") => " (XDMF: open it in ParaView or VisIt)",
+            _ => "",
+        };
+        say!("wrote {}{what}", p.display());
     }
     for c in cautions {
         say!("caution: {c}");

@@ -275,6 +275,24 @@ impl Built<'_> {
         .map_err(|e| self.sample_error(e))
     }
 
+    /// The groups of the file: `/background` with the sampled fields and
+    /// `/state` linked to it (nothing perturbs the state yet).
+    pub fn groups(&self) -> Result<Vec<GroupPlan>, Error> {
+        let fields = self.sampler()?.fields();
+        Ok(vec![
+            GroupPlan {
+                name: "background".into(),
+                fields: fields.clone(),
+                link_to: None,
+            },
+            GroupPlan {
+                name: "state".into(),
+                fields,
+                link_to: Some("background".into()),
+            },
+        ])
+    }
+
     /// Verify, sample slab by slab and stream into a new HDF5 file at
     /// `path`: `/background` holds the fields and `/state` links to them
     /// (nothing perturbs the state yet). With more than one thread in the
@@ -288,18 +306,7 @@ impl Built<'_> {
         let sampler = self.sampler()?;
         let fields = sampler.fields();
         let grid = &self.loaded.grid;
-        let groups = [
-            GroupPlan {
-                name: "background".into(),
-                fields: fields.clone(),
-                link_to: None,
-            },
-            GroupPlan {
-                name: "state".into(),
-                fields: fields.clone(),
-                link_to: Some("background".into()),
-            },
-        ];
+        let groups = self.groups()?;
         let create = || {
             H5Stream::create(
                 path,

@@ -183,7 +183,7 @@ impl Table {
         }
         let mut out = head.join(",") + "\n";
         for (r, n) in self.rows.iter().zip(&self.notes) {
-            let mut cells: Vec<String> = r.iter().map(|v| format!("{v:e}")).collect();
+            let mut cells: Vec<String> = r.iter().map(|v| crate::output::csv_number(*v)).collect();
             if noted {
                 cells.push(n.clone().unwrap_or_default());
             }

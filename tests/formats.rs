@@ -82,3 +82,160 @@ fn issue10_completions_and_manual_come_from_the_command_line_definition() {
         assert!(man.contains(verb), "manual names {verb}");
     }
 }
+
+/// Runs `tests/formats_check.py VERB ARGS…` in `dir`; the test fails if
+/// Python or a reader library is missing.
+fn python_check(dir: &Path, verb: &str, args: &[String]) {
+    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/formats_check.py");
+    let o = Command::new("python3")
+        .arg(script)
+        .arg(verb)
+        .args(args)
+        .current_dir(dir)
+        .output()
+        .expect(
+            "python3 with h5py, numpy, vtk, pandas and astropy is needed (.ci/run installs them)",
+        );
+    let out = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        o.status.success(),
+        "{verb}: {out}{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    assert!(out.contains(&format!("{verb}: ok")), "{out}");
+}
+
+/// Builds every bundled profile in `dir` (and a single-precision slab),
+/// returning the HDF5 file names.
+fn build_all(dir: &Path, extra: &[&str]) -> Vec<String> {
+    let mut files = Vec::new();
+    for name in BUNDLED {
+        let out = format!("{name}.h5");
+        let mut args = vec!["build", name, "-o", &out];
+        args.extend(extra);
+        ok(dir, &args);
+        files.push(out);
+    }
+    let slab = ok(dir, &["profiles", "quiet-slab"])
+        .replace(r#""output": {"#, r#""output": { "precision": "single","#);
+    std::fs::write(dir.join("single.json"), slab).unwrap();
+    let mut args = vec!["build", "single.json", "-o", "single.h5"];
+    args.extend(extra);
+    ok(dir, &args);
+    files.push("single.h5".into());
+    files
+}
+
+#[test]
+fn issue10_xdmf_beside_every_hdf5_file_is_read_by_vtk() {
+    let d = tempfile::tempdir().unwrap();
+    let files = build_all(d.path(), &[]);
+    let xmf: Vec<String> = files.iter().map(|f| f.replace(".h5", ".xmf")).collect();
+    for x in &xmf {
+        assert!(d.path().join(x).is_file(), "{x} written");
+    }
+    python_check(d.path(), "xdmf", &xmf);
+    // Nothing existing is overwritten without --force, the XDMF included.
+    std::fs::remove_file(d.path().join("quiet-slab.h5")).unwrap();
+    let o = stillpoint(d.path(), &["build", "quiet-slab", "-o", "quiet-slab.h5"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        text(&o).contains("quiet-slab.xmf: the file exists"),
+        "{}",
+        text(&o)
+    );
+    assert!(!d.path().join("quiet-slab.h5").exists());
+}
+
+#[test]
+fn issue10_npy_and_raw_folders_match_the_hdf5_file_to_the_bit() {
+    let d = tempfile::tempdir().unwrap();
+    for (name, raw) in [
+        ("quiet-slab", vec!["--byte-order", "big"]),
+        ("powerlaw-disk", vec!["--array-order", "fortran"]),
+        (
+            "tapered-disk-cartesian",
+            vec![
+                "--raw-dtype",
+                "float32",
+                "--byte-order",
+                "big",
+                "--array-order",
+                "fortran",
+            ],
+        ),
+    ] {
+        let h5 = format!("{name}.h5");
+        let mut args = vec!["build", name, "-o", &h5, "--npy", "--raw"];
+        args.extend(raw);
+        ok(d.path(), &args);
+        python_check(
+            d.path(),
+            "arrays",
+            &[h5.clone(), format!("{name}-npy"), format!("{name}-raw")],
+        );
+    }
+    let meta =
+        std::fs::read_to_string(d.path().join("tapered-disk-cartesian-raw/metadata.json")).unwrap();
+    assert!(meta.contains(r#""fields_dtype": ">f4""#), "{meta}");
+    assert!(
+        meta.contains("written in single precision"),
+        "float32 caution: {meta}"
+    );
+    // An existing folder is not replaced without --force.
+    let o = stillpoint(
+        d.path(),
+        &["build", "quiet-slab", "-o", "quiet-slab.h5", "--npy"],
+    );
+    assert_eq!(o.status.code(), Some(2));
+    ok(
+        d.path(),
+        &[
+            "build",
+            "quiet-slab",
+            "-o",
+            "quiet-slab.h5",
+            "--npy",
+            "--force",
+        ],
+    );
+    let left: Vec<_> = std::fs::read_dir(d.path())
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .filter(|e| e.file_name().to_string_lossy().contains("partial"))
+        .collect();
+    assert!(left.is_empty(), "no temporary folder left");
+}
+
+#[test]
+fn issue10_csv_reads_with_numpy_pandas_and_astropy() {
+    let d = tempfile::tempdir().unwrap();
+    for name in ["quiet-slab", "layered-atmosphere"] {
+        let h5 = format!("{name}.h5");
+        ok(d.path(), &["build", name, "-o", &h5, "--csv"]);
+        python_check(d.path(), "csv", &[format!("{name}.csv"), h5]);
+        let record = std::fs::read_to_string(d.path().join(format!("{name}.csv.json"))).unwrap();
+        assert!(record.contains(r#""generator": "stillpoint"#), "{record}");
+    }
+}
+
+#[test]
+fn issue10_the_h5py_example_plots_a_built_file() {
+    let d = tempfile::tempdir().unwrap();
+    let script = concat!(env!("CARGO_MANIFEST_DIR"), "/examples/h5py_slice.py");
+    for name in ["powerlaw-disk", "quiet-slab"] {
+        ok(d.path(), &["build", name, "-o", &format!("{name}.h5")]);
+        let png = format!("{name}.png");
+        let o = Command::new("python3")
+            .args([script, &format!("{name}.h5"), "-o", &png])
+            .current_dir(d.path())
+            .output()
+            .expect("python3 with h5py and matplotlib (.ci/run installs them)");
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+        let bytes = std::fs::read(d.path().join(&png)).unwrap();
+        assert!(
+            bytes.starts_with(b"\x89PNG") && bytes.len() > 10_000,
+            "{png}"
+        );
+    }
+}

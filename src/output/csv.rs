@@ -1,18 +1,16 @@
 //! The CSV writer, for 1D grids.
 //!
-//! Owns: a plain-text table of the state: `#` comment lines first
-//! (generator, command line, unit system, sampling, cautions), then a header
-//! of `name [units]` columns — the cell-centre coordinate first, then every
+//! Owns: a plain-text table of the state: one header line of
+//! `name [units]` columns (no comment lines: the record of the build is the
+//! JSON file beside the table, see [`super::arrays::write_csv_record`]) — the cell-centre coordinate first, then every
 //! state field — and one row per cell with numbers in Rust's shortest
 //! round-trip form (`{:e}`), so reading them back gives the same f64. Does
 //! not own placement of the file (see [`super::commit`]) or any physics.
 
-use std::fmt::Write as _;
 use std::path::Path;
 
 use super::{axis_units, Document, OutputError};
 use crate::grid::Layout;
-use crate::keys::Keyed;
 
 /// Writes the state of a 1D `doc` as CSV to `path` (replacing any file there;
 /// use [`super::commit`] for a safe replacement). Grids with more than one
@@ -32,21 +30,11 @@ pub fn write_csv(doc: &Document, path: &Path) -> Result<(), OutputError> {
             });
         }
     };
-    let meta = doc.metadata;
-    let units = meta.units;
+    let units = doc.metadata.units;
+    // One header line and the rows: `#` lines would be taken for the header
+    // by numpy.genfromtxt(names=True) and for rows by pandas.read_csv. The
+    // record of the build goes in the JSON file beside the table.
     let mut text = String::new();
-    // Writing into a String cannot fail.
-    let _ = writeln!(text, "# generator: {}", meta.generator);
-    let _ = writeln!(
-        text,
-        "# command line: {}",
-        meta.command_line.replace('\n', " ")
-    );
-    let _ = writeln!(text, "# unit system: {}", units.key());
-    let _ = writeln!(text, "# sampling: {}", doc.state.sampling);
-    for caution in &meta.cautions {
-        let _ = writeln!(text, "# caution: {}", caution.replace('\n', " "));
-    }
     let mut header = vec![format!(
         "{} [{}]",
         axis.coord.name(),
@@ -58,9 +46,10 @@ pub fn write_csv(doc: &Document, path: &Path) -> Result<(), OutputError> {
     text.push_str(&header.join(","));
     text.push('\n');
     for (i, x) in axis.centers().iter().enumerate() {
-        let _ = write!(text, "{x:e}");
+        text.push_str(&number(*x));
         for field in &doc.state.fields {
-            let _ = write!(text, ",{:e}", field.data[i]);
+            text.push(',');
+            text.push_str(&number(field.data[i]));
         }
         text.push('\n');
     }
@@ -68,6 +57,19 @@ pub fn write_csv(doc: &Document, path: &Path) -> Result<(), OutputError> {
         path: path.to_path_buf(),
         message: e.to_string(),
     })
+}
+
+/// A value in the table: Rust's shortest round-trip form (`{:e}`), and
+/// `nan`, `inf`, `-inf` for the non-finite values, which NumPy, pandas and
+/// astropy all read as such.
+pub fn number(v: f64) -> String {
+    if v.is_nan() {
+        "nan".into()
+    } else if v.is_infinite() {
+        if v > 0.0 { "inf" } else { "-inf" }.into()
+    } else {
+        format!("{v:e}")
+    }
 }
 
 #[cfg(test)]
@@ -86,7 +88,7 @@ mod tests {
         let path = dir.path().join("out.csv");
         write_csv(&doc, &path).unwrap();
         let text = std::fs::read_to_string(&path).unwrap();
-        let mut lines = text.lines().filter(|l| !l.starts_with('#'));
+        let mut lines = text.lines();
         assert_eq!(lines.next(), Some("z [cm],density [g cm^-3]"));
         let row: Vec<f64> = lines
             .nth(1)
@@ -100,8 +102,9 @@ mod tests {
             (0.1f64 + 0.2).to_bits(),
             "shortest round-trip form"
         );
-        assert!(text.starts_with("# generator: stillpoint 0.1.0\n"));
-        assert!(text.contains("# unit system: cgs\n# sampling: cell-centre point values\n"));
+        assert!(!text.contains('#'), "no comment lines");
+        assert_eq!(number(f64::NAN), "nan");
+        assert_eq!(number(f64::NEG_INFINITY), "-inf");
     }
 
     #[test]

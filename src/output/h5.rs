@@ -135,6 +135,7 @@ impl H5Stream {
                 string_attr(&ds, "units", &unit)?;
             }
         }
+        write_nodes(&g, grid, &units.unit_string(crate::units::Dim::LENGTH))?;
         let names: Vec<&str> = grid.axes().iter().map(|a| a.coord.name()).collect();
         let cells = grid.shape();
         let mut written = Vec::new();
@@ -248,6 +249,46 @@ fn write_scales(file: &File, units: crate::units::UnitSystem) -> H5Result {
         string_attr(&g, "symbol", base.symbol)?;
         number_attr(&g, "cgs", base.cgs)?;
         number_attr(&g, "si", base.si)?;
+    }
+    Ok(())
+}
+
+/// The Cartesian node positions `/grid/node_x`, `node_y`, `node_z` (see
+/// [`super::xdmf`]), written in blocks of rows so that memory stays bounded.
+fn write_nodes(g: &Group, grid: &Grid, unit: &str) -> H5Result {
+    let shape = super::xdmf::node_shape(grid);
+    let inner: usize = shape[1..].iter().product();
+    let sets = super::xdmf::NODE_DATASETS
+        .iter()
+        .map(|name| {
+            let ds = g
+                .new_dataset::<f64>()
+                .shape(shape.clone())
+                .chunk(chunk_shape(&shape, 8))
+                .create(*name)?;
+            string_attr(&ds, "units", unit)?;
+            string_attr(
+                &ds,
+                "about",
+                "Cartesian position of each node (cell corner), for the XDMF description",
+            )?;
+            Ok(ds)
+        })
+        .collect::<H5Result<Vec<Dataset>>>()?;
+    let step = (CHUNK_BYTES / (8 * inner.max(1))).max(1);
+    let mut start = 0;
+    while start < shape[0] {
+        let rows = start..(start + step).min(shape[0]);
+        let mut block = shape.clone();
+        block[0] = rows.len();
+        let values = super::xdmf::node_rows(grid, rows.clone());
+        for (ds, v) in sets.iter().zip(&values) {
+            let mut sel: Vec<SliceOrIndex> = vec![rows.clone().into()];
+            sel.extend((1..shape.len()).map(|_| SliceOrIndex::from(..)));
+            let view = ndarray::ArrayViewD::from_shape(ndarray::IxDyn(&block), v.as_slice())?;
+            ds.write_slice(view, Hyperslab::from(sel))?;
+        }
+        start = rows.end;
     }
     Ok(())
 }

@@ -5,11 +5,15 @@
 //! files, the typed [`OutputError`], and [`commit`], which makes every write
 //! all-or-nothing (temporary file, then rename). The formats live in
 //! submodules: [`write_hdf5`] (the primary output, layout in design §6) and
-//! [`write_csv`] (1D grids). A writer never computes physics: it only
+//! [`write_csv`] (1D grids), [`write_npy`] and [`write_raw`] (folders of
+//! plain arrays with a JSON description), [`write_xdmf`] (the XDMF description beside
+//! every HDF5 file). A writer never computes physics: it only
 //! arranges numbers it is given and writes their units.
 
+pub mod arrays;
 mod csv;
 mod h5;
+pub mod xdmf;
 
 use std::fs;
 use std::path::{Path, PathBuf};
@@ -20,8 +24,10 @@ use crate::fields::FieldSet;
 use crate::grid::{Axis, Grid};
 use crate::units::{Dim, UnitSystem};
 
-pub use csv::write_csv;
+pub use arrays::{commit_dir, write_csv_record, write_npy, write_raw, RawFormat};
+pub use csv::{number as csv_number, write_csv};
 pub use h5::{chunk_shape, write_hdf5, GroupPlan, H5Stream};
+pub use xdmf::write_xdmf;
 
 /// The caution added to a file written in single precision.
 pub const SINGLE_PRECISION_CAUTION: &str = "written in single precision: relative rounding of \
