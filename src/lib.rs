@@ -18,6 +18,8 @@
 //! * [`grid`] and [`sample`] — axes, cells and sampling rules that turn a
 //!   background into arrays of numbers ([`fields`]).
 //! * [`output`] — writers (HDF5, CSV); a writer never computes physics.
+//! * [`perturb`] — pulses, planets, noise, modes, sound waves and formulas
+//!   added to the equilibrium, point by point.
 //! * [`check`], [`table`] — the symbolic balance check and rotation tables.
 //! * [`stability`] — Schwarzschild and Rayleigh criteria from exact derivatives.
 //! * [`profile`] — the JSON profile schema with exact error paths.
@@ -37,6 +39,7 @@ pub mod grid;
 pub mod keys;
 pub mod model;
 pub mod output;
+pub mod perturb;
 pub mod physics;
 pub mod pipeline;
 pub mod profile;

@@ -9,10 +9,12 @@ use std::path::Path;
 
 use crate::background::{Background, Frame, Shape};
 use crate::closure::{self, show, ClosureError, Domain, Solved};
-use crate::fields::{slab_ranges, FieldSet, Slab};
+use crate::fields::{slab_ranges, FieldSet, FieldSpec, Slab};
 use crate::grid::{Grid, Layout};
 use crate::keys::Keyed;
 use crate::output::{GroupPlan, H5Stream, Metadata, OutputError, Precision};
+use crate::perturb::report::Peaks;
+use crate::perturb::Perturbations;
 use crate::profile::{Loaded, ProfileError};
 use crate::sample::{self, Cuts, GasConstants, SampleError, Sampler};
 
@@ -34,6 +36,12 @@ pub enum Error {
     Sample {
         source_label: String,
         error: SampleError,
+    },
+    /// A perturbation cannot be set up.
+    #[error("{source_label}: {error}")]
+    Perturb {
+        source_label: String,
+        error: crate::perturb::PerturbError,
     },
     /// Writing failed.
     #[error("{0}")]
@@ -168,6 +176,7 @@ pub struct Built<'a> {
     loaded: &'a Loaded,
     background: Solved,
     domain: Domain,
+    perturbations: Perturbations,
     /// File metadata, without cautions: they come with the verification
     /// ([`Built::verify`], which [`Built::write_hdf5`] runs).
     pub metadata: Metadata,
@@ -181,7 +190,14 @@ pub fn build<'a>(
     reproducible: bool,
 ) -> Result<Built<'a>, Error> {
     let (bg, domain) = solve(loaded)?;
-    let metadata = Metadata {
+    let perturbations =
+        Perturbations::bind(&loaded.perturbations, &loaded.model, &loaded.grid, &bg).map_err(
+            |error| Error::Perturb {
+                source_label: loaded.source.clone(),
+                error,
+            },
+        )?;
+    let mut metadata = Metadata {
         profile_json: loaded.json_text.clone(),
         command_line: command_line.to_string(),
         generator: format!("stillpoint {}", env!("CARGO_PKG_VERSION")),
@@ -195,10 +211,17 @@ pub fn build<'a>(
         ],
         reproducible,
     };
+    if !perturbations.is_empty() {
+        metadata.extra.push((
+            "perturbations".into(),
+            crate::perturb::report::parameters_json(&perturbations.parameters()),
+        ));
+    }
     Ok(Built {
         loaded,
         background: bg,
         domain,
+        perturbations,
         metadata,
     })
 }
@@ -242,6 +265,7 @@ impl Built<'_> {
             &gas_constants(self.loaded),
             &self.cuts(),
         )
+        .map(|s| s.perturbed(&self.perturbations))
         .map_err(|e| self.sample_error(e))
     }
 
@@ -253,6 +277,11 @@ impl Built<'_> {
             coordinate: model.shape.coordinate().to_string(),
             at: self.domain.switches(model).iter().map(|w| w.at).collect(),
         }
+    }
+
+    /// The perturbations bound to this background.
+    pub fn perturbations(&self) -> &Perturbations {
+        &self.perturbations
     }
 
     /// A sampling error, labelled with the profile.
@@ -275,22 +304,30 @@ impl Built<'_> {
         .map_err(|e| self.sample_error(e))
     }
 
-    /// The groups of the file: `/background` with the sampled fields and
-    /// `/state` linked to it (nothing perturbs the state yet).
+    /// The groups of the file: `/background` with the sampled fields, and
+    /// `/state` linked to it when nothing perturbs the state, else `/state`
+    /// (the sum) and `/perturbation` (the perturbation alone) of their own.
     pub fn groups(&self) -> Result<Vec<GroupPlan>, Error> {
-        let fields = self.sampler()?.fields();
-        Ok(vec![
-            GroupPlan {
-                name: "background".into(),
-                fields: fields.clone(),
+        let sampler = self.sampler()?;
+        let fields = sampler.fields();
+        let mut groups: Vec<GroupPlan> = sampler
+            .groups()
+            .into_iter()
+            .map(|(name, f)| GroupPlan {
+                name: name.to_string(),
+                fields: f,
                 link_to: None,
-            },
-            GroupPlan {
+            })
+            .collect();
+        if groups.len() == 1 {
+            // Nothing perturbs the state: /state links to /background.
+            groups.push(GroupPlan {
                 name: "state".into(),
                 fields,
                 link_to: Some("background".into()),
-            },
-        ])
+            });
+        }
+        Ok(groups)
     }
 
     /// Verify, sample slab by slab and stream into a new HDF5 file at
@@ -307,6 +344,7 @@ impl Built<'_> {
         let fields = sampler.fields();
         let grid = &self.loaded.grid;
         let groups = self.groups()?;
+        let split = GroupWriter::new(&sampler.groups());
         let create = || {
             H5Stream::create(
                 path,
@@ -325,13 +363,14 @@ impl Built<'_> {
             let meta = self.verify()?;
             let mut out = create()?;
             let mut reuse = Vec::new();
+            let mut peaks = Peaks::default();
             for r in slab_ranges(shape[0], rows) {
                 let slab = sampler
                     .slab_into(r, reuse)
                     .map_err(|e| self.sample_error(e))?;
-                out.write("background", &slab)?;
-                reuse = slab.data;
+                reuse = split.write(&mut out, slab, &mut peaks)?;
             }
+            let meta = split.with_peaks(meta, &peaks);
             out.finish(&meta)?;
             return Ok(meta);
         }
@@ -348,12 +387,14 @@ impl Built<'_> {
             let (tx, rx) = std::sync::mpsc::sync_channel::<Slab>(1);
             // Written slabs come back, so their arrays are reused.
             let (back, spent) = std::sync::mpsc::channel::<Vec<Vec<f64>>>();
-            let writer = scope.spawn(move || -> Result<H5Stream, OutputError> {
+            let split = &split;
+            let writer = scope.spawn(move || -> Result<(H5Stream, Peaks), OutputError> {
+                let mut peaks = Peaks::default();
                 for slab in rx {
-                    out.write("background", &slab)?;
-                    let _ = back.send(slab.data);
+                    let data = split.write(&mut out, slab, &mut peaks)?;
+                    let _ = back.send(data);
                 }
-                Ok(out)
+                Ok((out, peaks))
             });
             let sampled = (|| {
                 for r in slab_ranges(shape[0], rows) {
@@ -380,8 +421,67 @@ impl Built<'_> {
             sampled?;
             Ok::<_, Error>((written?, meta))
         })?;
+        let (out, peaks) = out;
+        let meta = split.with_peaks(meta, &peaks);
         out.finish(&meta)?;
         Ok(meta)
+    }
+}
+
+/// Writes a slab's groups (background; or background, state and
+/// perturbation) and gathers the perturbation's peaks.
+struct GroupWriter {
+    groups: Vec<(String, Vec<FieldSpec>)>,
+}
+
+impl GroupWriter {
+    fn new(groups: &[(&'static str, Vec<FieldSpec>)]) -> GroupWriter {
+        GroupWriter {
+            groups: groups
+                .iter()
+                .map(|(n, f)| (n.to_string(), f.clone()))
+                .collect(),
+        }
+    }
+
+    /// Write every group of `slab`; returns its arrays for reuse.
+    fn write(
+        &self,
+        out: &mut H5Stream,
+        slab: Slab,
+        peaks: &mut Peaks,
+    ) -> Result<Vec<Vec<f64>>, OutputError> {
+        let Slab { rows, mut data } = slab;
+        if self.groups.len() == 3 {
+            let (nb, ns) = (self.groups[0].1.len(), self.groups[1].1.len());
+            peaks.update(
+                &self.groups[0].1,
+                &data[..nb],
+                &self.groups[2].1,
+                &data[nb + ns..],
+            );
+        }
+        let mut back = Vec::with_capacity(data.len());
+        for (name, fields) in &self.groups {
+            let rest = data.split_off(fields.len());
+            let part = Slab {
+                rows: rows.clone(),
+                data,
+            };
+            out.write(name, &part)?;
+            back.extend(part.data);
+            data = rest;
+        }
+        Ok(back)
+    }
+
+    /// The metadata with the perturbation's peaks, when there is one.
+    fn with_peaks(&self, mut meta: Metadata, peaks: &Peaks) -> Metadata {
+        if self.groups.len() == 3 {
+            meta.extra
+                .push(("perturbation_peaks".into(), peaks.describe()));
+        }
+        meta
     }
 }
 

@@ -22,6 +22,16 @@ pub const BUNDLED: &[(&str, &str)] = &[
         "steady-vortex",
         include_str!("../../profiles/steady-vortex.json"),
     ),
+    (
+        "pulsed-slab",
+        include_str!("../../profiles/pulsed-slab.json"),
+    ),
+    (
+        "planet-disk",
+        include_str!("../../profiles/planet-disk.json"),
+    ),
+    ("mode-disk", include_str!("../../profiles/mode-disk.json")),
+    ("noisy-disk", include_str!("../../profiles/noisy-disk.json")),
 ];
 
 /// The text of a bundled profile by name.

@@ -8,6 +8,7 @@
 
 pub mod bundled;
 mod json;
+mod perturbations;
 mod sections;
 
 use sections::{check_grid_matches, grid, output, potential, sampling};
@@ -101,6 +102,8 @@ pub struct Loaded {
     pub sampling: SamplingRule,
     /// Output settings.
     pub output: OutputSpec,
+    /// What is added to the equilibrium (`perturbations`), in profile order.
+    pub perturbations: Vec<crate::perturb::Perturbation>,
 }
 
 /// Names no parameter may take: coordinates and built-ins.
@@ -186,6 +189,7 @@ pub fn from_text(
         "grid",
         "sampling",
         "output",
+        "perturbations",
     ])?;
     let name = top.require("name")?.node().str()?.to_string();
     let about = match top.child("about") {
@@ -427,6 +431,24 @@ pub fn from_text(
         Some(o) => output(o.node())?,
     };
 
+    let central_gm = match gravity_owned.node().child("point_mass") {
+        Some(m) => Some(m.node().value(&consts, &lookup)? * lookup("G").unwrap_or(1.0)),
+        None => None,
+    };
+    let perturbations = match top.child("perturbations") {
+        None => Vec::new(),
+        Some(p) => perturbations::perturbations(
+            p.node(),
+            &perturbations::Names {
+                consts: &consts,
+                lookup: &lookup,
+                frame: shape.frame(),
+                grid: &grid,
+                central_gm,
+            },
+        )?,
+    };
+
     let mut model = Model {
         name,
         about,
@@ -458,6 +480,7 @@ pub fn from_text(
         grid,
         sampling,
         output,
+        perturbations,
     })
 }
 

@@ -28,6 +28,7 @@
 //! v_y = v_φ x/R).
 
 pub mod gauss;
+mod perturbed;
 mod slots;
 mod stream;
 

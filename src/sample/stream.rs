@@ -24,11 +24,13 @@ use std::ops::Range;
 use rayon::prelude::*;
 
 use super::gauss::GaussLegendre;
+use super::perturbed::{self, Perturbed};
 use super::slots::{self, Entry, Slots, RHO};
 use super::{check_inputs, GasConstants, SampleError, SamplingRule};
 use crate::background::{Background, StateBlock, Want, Workspace, LANES};
 use crate::fields::{FieldSpec, Slab};
 use crate::grid::{Embedding, Grid};
+use crate::perturb::Perturbations;
 
 /// Nodes and weights of the rule on every cell of one axis, flattened as
 /// `cell * per_cell + k`; weights include the axis's volume factor.
@@ -125,6 +127,7 @@ struct ThreadBuffers {
     values: Vec<Vec<f64>>,
     bad: Vec<(usize, slots::Failure)>,
     weight: Vec<f64>,
+    perturbed: Option<perturbed::Buffers>,
 }
 
 /// A background prepared for sampling on a grid under a rule. Produces the
@@ -141,6 +144,10 @@ pub struct Sampler<'a> {
     slots: Slots,
     entries: Vec<Entry>,
     sampling: String,
+    /// Perturbations added at every point, when there are any.
+    perturb: Option<Perturbed<'a>>,
+    /// The groups of fields a slab holds, in order: (name, count).
+    groups: Vec<(&'static str, usize)>,
     /// Reduced arrays of earlier slabs, for reuse.
     scratch: std::sync::Mutex<Vec<Vec<f64>>>,
 }
@@ -184,6 +191,7 @@ impl<'a> Sampler<'a> {
             ncomp: embed.components().len(),
         };
         let entries = slots::catalogue(grid, gas, embed.components());
+        let groups = vec![("background", entries.len())];
         Ok(Sampler {
             bg,
             grid,
@@ -196,11 +204,14 @@ impl<'a> Sampler<'a> {
             slots,
             entries,
             sampling: rule.describe(grid),
+            perturb: None,
+            groups,
             scratch: std::sync::Mutex::new(Vec::new()),
         })
     }
 
-    /// The fields every slab holds, in order.
+    /// The fields every slab holds, in order (the groups' fields one
+    /// after the other, see [`Sampler::groups`]).
     pub fn fields(&self) -> Vec<FieldSpec> {
         self.entries.iter().map(|e| e.spec.clone()).collect()
     }
@@ -217,6 +228,52 @@ impl<'a> Sampler<'a> {
             })
             .product();
         cells * self.slots.len()
+    }
+
+    /// Add `p` to the background at every point before the cell's sum.
+    /// Slabs then hold three groups: `background` (the equilibrium),
+    /// `state` (equilibrium plus perturbations, the same fields) and
+    /// `perturbation` (the perturbation alone: density, pressure,
+    /// potential, velocity and momentum components, and extra fields such
+    /// as a planet's potential). Every axis is sampled (a perturbation may
+    /// vary along any).
+    pub fn perturbed(mut self, p: &'a Perturbations) -> Sampler<'a> {
+        if p.is_empty() {
+            return self;
+        }
+        let pt = Perturbed::new(p, self.grid, self.slots);
+        let (state, alone) = pt.entries(&self.entries);
+        let nb = self.entries.len();
+        self.groups = vec![
+            ("background", nb),
+            ("state", state.len()),
+            ("perturbation", alone.len()),
+        ];
+        self.entries.extend(state);
+        self.entries.extend(alone);
+        self.active = vec![true; self.grid.axes().len()];
+        self.lane = self.active.len() - 1;
+        self.perturb = Some(pt);
+        self
+    }
+
+    /// The groups a slab holds, in order, with their fields.
+    pub fn groups(&self) -> Vec<(&'static str, Vec<FieldSpec>)> {
+        let mut at = 0;
+        self.groups
+            .iter()
+            .map(|(name, n)| {
+                let f = self.entries[at..at + n].iter().map(|e| e.spec.clone());
+                at += n;
+                (*name, f.collect())
+            })
+            .collect()
+    }
+
+    /// Value slots of a point: the background's, and with perturbations
+    /// the perturbed state's and the perturbation's.
+    fn value_slots(&self) -> usize {
+        self.slots.len() - 1 + self.perturb.as_ref().map_or(0, Perturbed::extra_slots)
     }
 
     /// The description of the sampling rule, for files.
@@ -257,7 +314,7 @@ impl<'a> Sampler<'a> {
             .filter(|a| self.active[*a] && *a != self.lane)
             .collect();
         let lines: usize = outer.iter().map(|a| red[*a].len()).product();
-        let per_line = self.slots.len() * red[self.lane].len();
+        let per_line = (self.value_slots() + 1) * red[self.lane].len();
         // One reduced array for the slab, reused from slab to slab.
         let mut reduced = self
             .scratch
@@ -302,9 +359,10 @@ impl<'a> Sampler<'a> {
             velocity: lanes(self.slots.ncomp),
             state: StateBlock::new(),
             bg: self.bg.workspace(),
-            values: lanes(self.slots.volume()),
+            values: lanes(self.value_slots()),
             bad: Vec::new(),
             weight: vec![0.0; LANES],
+            perturbed: self.perturb.as_ref().map(Perturbed::buffers),
         }
     }
 
@@ -320,7 +378,7 @@ impl<'a> Sampler<'a> {
         acc: &mut [f64],
         buf: &mut ThreadBuffers,
     ) -> Result<(), SampleError> {
-        let vol = self.slots.volume();
+        let vol = self.value_slots();
         let lane = &self.axes[self.lane];
         // The nodes of the cells `cells` of the lane axis.
         let first = cells.start * lane.per_cell;
@@ -388,6 +446,25 @@ impl<'a> Sampler<'a> {
                 );
                 let pc = lane.per_cell;
                 let c0 = start / pc;
+                if let (Some(p), Some(pb)) = (&self.perturb, buf.perturbed.as_mut()) {
+                    let base = (0..nd)
+                        .filter(|a| *a != self.lane)
+                        .map(|a| cell[a] as u64 * p.strides[a])
+                        .sum();
+                    p.block(
+                        &grid_lanes,
+                        &frame,
+                        n,
+                        (base, self.lane, cells.start + c0, pc),
+                        &buf.state,
+                        &buf.velocity,
+                        &self.embed,
+                        &self.gas,
+                        pb,
+                        &mut buf.values,
+                        &mut buf.bad,
+                    );
+                }
                 for (w, lw) in buf.weight[..n]
                     .iter_mut()
                     .zip(&lane.weights[first + start..first + start + n])
@@ -458,6 +535,9 @@ impl<'a> Sampler<'a> {
                     acc[(vel + comp) * ncells + c] =
                         acc[(mom + comp) * ncells + c] / acc[RHO * ncells + c];
                 }
+            }
+            if let Some(p) = &self.perturb {
+                p.normalise(acc, ncells);
             }
         }
         Ok(())

@@ -1,0 +1,103 @@
+#!/usr/bin/env python3
+"""Reads files with perturbations with h5py (an outside HDF5 reader).
+
+Usage:
+  perturb_check.py sum FILE
+      /state is a group of its own (no soft links), /perturbation exists,
+      and /state = /background + /perturbation for density and pressure to
+      round-off (1e-15 of the background); the root attributes
+      `perturbations` (JSON) and `perturbation_peaks` are present;
+  perturb_check.py wave FILE A K PHASE GAMMA G CS2 P0
+      a sound wave on the isothermal slab rho = (P0/cs2) exp(-G z/cs2)
+      (the barometric law): the cell averages of drho, dP and dv agree with
+      a 16-point Gauss-Legendre average (numpy's nodes) of
+      drho = A rho cos(k z + phase), dP = gamma (P/rho) drho and
+      dv = A c cos(k z + phase), c^2 = gamma P/rho (the linear acoustic
+      eigenfunction, e.g. Landau & Lifshitz, Fluid Mechanics, section 64),
+      and the peak of drho/rho is A to the cell-averaging factor.
+Exits 1 on any disagreement, naming it.
+"""
+import json
+import sys
+
+import h5py
+import numpy as np
+
+
+def sum_check(path):
+    bad = []
+    with h5py.File(path, "r") as f:
+        for name in ("state", "perturbation"):
+            if name not in f:
+                bad.append(f"no /{name} group")
+        if bad:
+            return bad
+        for name in f["state"]:
+            link = f["state"].get(name, getlink=True)
+            if not isinstance(link, h5py.HardLink):
+                bad.append(f"state/{name} is a link, not a dataset of its own")
+        for name in ("density", "pressure"):
+            b = f["background"][name][...]
+            s = f["state"][name][...]
+            p = f["perturbation"][name][...]
+            err = np.abs(s - (b + p)).max() / np.abs(b).max()
+            if not err <= 1e-15:
+                bad.append(f"state/{name} - background - perturbation = {err:.3e} of the background")
+        for attr in ("perturbations", "perturbation_peaks"):
+            if attr not in f.attrs:
+                bad.append(f"no root attribute {attr}")
+        json.loads(f.attrs["perturbations"])
+    return bad
+
+
+def wave(path, a, k, phase, gamma, g, cs2, p0):
+    bad = []
+    x, w = np.polynomial.legendre.leggauss(16)
+    with h5py.File(path, "r") as f:
+        edges = f["grid"]["z_edges"][...]
+        lo, hi = edges[:-1, None], edges[1:, None]
+        z = 0.5 * (lo + hi) + 0.5 * (hi - lo) * x[None, :]
+        rho = p0 / cs2 * np.exp(-g * z / cs2)
+        c = np.sqrt(gamma * cs2)
+        cosine = np.cos(k * z + phase)
+        avg = lambda q: (q * w[None, :]).sum(axis=1) / 2.0
+        want = {
+            "density": avg(a * rho * cosine),
+            "pressure": avg(gamma * cs2 * a * rho * cosine),
+        }
+        for name, expect in want.items():
+            got = f["perturbation"][name][...]
+            err = np.abs(got - expect).max() / np.abs(expect).max()
+            if not err <= 1e-9:
+                bad.append(f"perturbation/{name}: relative difference {err:.3e}")
+        # The mass-weighted velocity: avg((rho + drho)(v)) / avg(rho + drho).
+        mom = avg((rho + a * rho * cosine) * a * c * cosine)
+        v = mom / avg(rho + a * rho * cosine)
+        got = f["perturbation"]["velocity_z"][...]
+        err = np.abs(got - v).max() / np.abs(v).max()
+        if not err <= 1e-8:
+            bad.append(f"perturbation/velocity_z: relative difference {err:.3e}")
+        ratio = (f["perturbation"]["density"][...] / f["background"]["density"][...])
+        h = edges[1] - edges[0]
+        factor = np.sinc(k * h / 2 / np.pi)  # the cell average of a cosine
+        peak = np.abs(ratio).max()
+        if not abs(peak / (a * factor) - 1) < 1e-2:
+            bad.append(f"peak drho/rho {peak:.6e}, chosen {a:.6e} (x {factor:.6f} for the cell average)")
+    return bad
+
+
+def main():
+    verb = sys.argv[1]
+    if verb == "sum":
+        bad = sum_check(sys.argv[2])
+    elif verb == "wave":
+        bad = wave(sys.argv[2], *map(float, sys.argv[3:]))
+    else:
+        bad = [f"unknown verb {verb}"]
+    for b in bad:
+        print(b)
+    sys.exit(1 if bad else 0)
+
+
+if __name__ == "__main__":
+    main()
