@@ -324,3 +324,39 @@ fn issue7_h5py_recomputes_both_balances_at_second_order() {
     eprintln!("{t}");
     assert!(o.status.success(), "{t}");
 }
+
+/// SymPy differentiates the closed forms `derive` prints and finds both
+/// residuals zero (tests/vertical_sympy_check.py).
+#[test]
+fn issue7_sympy_finds_both_residuals_zero() {
+    let d = tempfile::tempdir().unwrap();
+    let path = d.path().join("disk.json");
+    std::fs::write(&path, DISK).unwrap();
+    let (code, t) = stillpoint(d.path(), &["derive", path.to_str().unwrap()]);
+    assert_eq!(code, Some(0), "{t}");
+    let printed = d.path().join("derive.txt");
+    std::fs::write(&printed, &t).unwrap();
+    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/vertical_sympy_check.py");
+    // The parameters of DISK (h0 = 0.05: cs2_0 = 1/400).
+    let o = Command::new("python3")
+        .arg(script)
+        .arg(&printed)
+        .args([
+            "G=1",
+            "M=1",
+            "R0=1",
+            "rho0=1",
+            "p=-3/2",
+            "q=-1",
+            "cs2_0=1/400",
+        ])
+        .output()
+        .expect("python3 with sympy is needed");
+    let t = format!(
+        "{}{}",
+        String::from_utf8_lossy(&o.stdout),
+        String::from_utf8_lossy(&o.stderr)
+    );
+    eprintln!("{t}");
+    assert!(o.status.success(), "{t}");
+}
