@@ -25,13 +25,16 @@ fn tmp() -> tempfile::TempDir {
     tempfile::tempdir().unwrap()
 }
 
-const BUNDLED: [&str; 6] = [
+const BUNDLED: [&str; 9] = [
     "quiet-slab",
     "layered-atmosphere",
     "powerlaw-disk",
     "tapered-disk-cartesian",
     "ring-disk",
     "steady-vortex",
+    "flared-disk-spherical",
+    "softened-disk-box",
+    "stratified-box-2d",
 ];
 
 #[test]

@@ -291,3 +291,72 @@ fn issue7_slabs_and_spheres_in_boxes() {
         "{t}"
     );
 }
+
+/// h5py reads meridional files at two resolutions and recomputes the radial
+/// and vertical balances from the file's own numbers: both converge at
+/// second order (tests/vertical_check.py).
+#[test]
+fn issue7_h5py_recomputes_both_balances_at_second_order() {
+    let d = tempfile::tempdir().unwrap();
+    let mut files = Vec::new();
+    for (n, m) in [(40, 48), (80, 96)] {
+        let grid = format!(
+            r#"{{ "R": {{ "from": 0.5, "to": 2.5, "cells": {n} }}, "z": {{ "from": -0.15, "to": 0.15, "cells": {m} }} }}"#
+        );
+        let path = d.path().join(format!("m{n}.json"));
+        std::fs::write(&path, with_grid(DISK, &grid)).unwrap();
+        let out = format!("m{n}.h5");
+        let (code, t) = stillpoint(d.path(), &["build", path.to_str().unwrap(), "-o", &out]);
+        assert_eq!(code, Some(0), "{t}");
+        files.push(d.path().join(out));
+    }
+    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/vertical_check.py");
+    let o = Command::new("python3")
+        .arg(script)
+        .args(&files)
+        .output()
+        .expect("python3 with h5py and numpy is needed");
+    let t = format!(
+        "{}{}",
+        String::from_utf8_lossy(&o.stdout),
+        String::from_utf8_lossy(&o.stderr)
+    );
+    eprintln!("{t}");
+    assert!(o.status.success(), "{t}");
+}
+
+/// SymPy differentiates the closed forms `derive` prints and finds both
+/// residuals zero (tests/vertical_sympy_check.py).
+#[test]
+fn issue7_sympy_finds_both_residuals_zero() {
+    let d = tempfile::tempdir().unwrap();
+    let path = d.path().join("disk.json");
+    std::fs::write(&path, DISK).unwrap();
+    let (code, t) = stillpoint(d.path(), &["derive", path.to_str().unwrap()]);
+    assert_eq!(code, Some(0), "{t}");
+    let printed = d.path().join("derive.txt");
+    std::fs::write(&printed, &t).unwrap();
+    let script = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/vertical_sympy_check.py");
+    // The parameters of DISK (h0 = 0.05: cs2_0 = 1/400).
+    let o = Command::new("python3")
+        .arg(script)
+        .arg(&printed)
+        .args([
+            "G=1",
+            "M=1",
+            "R0=1",
+            "rho0=1",
+            "p=-3/2",
+            "q=-1",
+            "cs2_0=1/400",
+        ])
+        .output()
+        .expect("python3 with sympy is needed");
+    let t = format!(
+        "{}{}",
+        String::from_utf8_lossy(&o.stdout),
+        String::from_utf8_lossy(&o.stderr)
+    );
+    eprintln!("{t}");
+    assert!(o.status.success(), "{t}");
+}

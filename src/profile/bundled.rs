@@ -32,6 +32,18 @@ pub const BUNDLED: &[(&str, &str)] = &[
     ),
     ("mode-disk", include_str!("../../profiles/mode-disk.json")),
     ("noisy-disk", include_str!("../../profiles/noisy-disk.json")),
+    (
+        "flared-disk-spherical",
+        include_str!("../../profiles/flared-disk-spherical.json"),
+    ),
+    (
+        "softened-disk-box",
+        include_str!("../../profiles/softened-disk-box.json"),
+    ),
+    (
+        "stratified-box-2d",
+        include_str!("../../profiles/stratified-box-2d.json"),
+    ),
 ];
 
 /// The text of a bundled profile by name.
