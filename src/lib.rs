@@ -18,6 +18,8 @@
 //! * [`grid`] and [`sample`] — axes, cells and sampling rules that turn a
 //!   background into arrays of numbers ([`fields`]).
 //! * [`output`] — writers (HDF5, CSV); a writer never computes physics.
+//! * [`torus`] — a barotropic torus (Bernoulli relation, edges by root
+//!   finding, a floor outside), a background of the (R, z) frame.
 //! * [`check`], [`table`] — the symbolic balance check and rotation tables.
 //! * [`stability`] — Schwarzschild and Rayleigh criteria from exact derivatives.
 //! * [`profile`] — the JSON profile schema with exact error paths.
@@ -40,4 +42,5 @@ pub mod profile;
 pub mod sample;
 pub mod stability;
 pub mod table;
+pub mod torus;
 pub mod units;
