@@ -187,6 +187,9 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
         }
         Command::Check { common, tolerance } => {
             let loaded = common.load()?;
+            if loaded.model.torus.is_some() {
+                return check_torus(&loaded, tolerance);
+            }
             let (bg, domain) = pipeline::solve_unverified(&loaded)?;
             let centres = pipeline::centres_for(&loaded.grid);
             let report = check::run(&loaded.model, &bg, &domain, &centres, tolerance)
@@ -332,11 +335,32 @@ fn build(
             "--csv: a CSV table is written for 1D grids only".into(),
         ));
     }
-    let built = pipeline::build(&loaded, argv, reproducible)?;
     let opts = pipeline::StreamOptions {
         precision: loaded.output.precision,
         slab_rows: stream.slab_rows.map(|n| n as usize),
     };
+    if loaded.model.torus.is_some() {
+        if want_csv {
+            return Err(Error::Usage(
+                "--csv: a torus is written to HDF5 only".into(),
+            ));
+        }
+        let t = crate::torus_run::torus(&loaded)?;
+        let v = crate::torus_run::verdict(&loaded, &t, check::DEFAULT_TOLERANCE)?;
+        if !v.passed {
+            return Err(Error::Usage(format!(
+                "{}: the torus fails its balance check; `stillpoint check` shows where",
+                loaded.source
+            )));
+        }
+        let meta = crate::torus_run::metadata(&loaded, &t, &v, argv, reproducible);
+        output::commit(&h5, force, |tmp| {
+            crate::torus_run::write_hdf5(&loaded, &t, &meta, tmp, &opts)
+        })?;
+        report_written(&loaded, &h5, None, &meta.cautions);
+        return Ok(Outcome::Ok);
+    }
+    let built = pipeline::build(&loaded, argv, reproducible)?;
     let mut metadata = None;
     output::commit(&h5, force, |tmp| {
         metadata = Some(built.write_hdf5(tmp, &opts)?);
@@ -358,6 +382,22 @@ fn build(
     }
     report_written(&loaded, &h5, csv_path.as_deref(), &metadata.cautions);
     Ok(Outcome::Ok)
+}
+
+/// `check` of a torus: its edges, balance inside and floor.
+fn check_torus(loaded: &Loaded, tolerance: f64) -> Result<Outcome, Error> {
+    let t = crate::torus_run::torus(loaded)?;
+    let v = crate::torus_run::verdict(loaded, &t, tolerance)?;
+    say!("{} ({})", loaded.model.name, loaded.source);
+    say!("{}", v.text);
+    for c in &v.cautions {
+        say!("caution: {c}");
+    }
+    Ok(if v.passed {
+        Outcome::Ok
+    } else {
+        Outcome::Failed
+    })
 }
 
 fn report_written(loaded: &Loaded, h5: &Path, csv: Option<&Path>, cautions: &[String]) {

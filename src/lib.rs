@@ -43,4 +43,5 @@ pub mod sample;
 pub mod stability;
 pub mod table;
 pub mod torus;
+pub mod torus_run;
 pub mod units;

@@ -247,18 +247,7 @@ impl Built<'_> {
         let sampler = self.sampler()?;
         let fields = sampler.fields();
         let grid = &self.loaded.grid;
-        let groups = [
-            GroupPlan {
-                name: "background".into(),
-                fields: fields.clone(),
-                link_to: None,
-            },
-            GroupPlan {
-                name: "state".into(),
-                fields: fields.clone(),
-                link_to: Some("background".into()),
-            },
-        ];
+        let groups = unperturbed_groups(&fields);
         let create = || {
             H5Stream::create(
                 path,
@@ -342,6 +331,23 @@ impl Built<'_> {
         out.finish(&meta)?;
         Ok(meta)
     }
+}
+
+/// The groups of a file nothing perturbs: `/background` with the fields and
+/// `/state` linking to it.
+pub fn unperturbed_groups(fields: &[crate::fields::FieldSpec]) -> [GroupPlan; 2] {
+    [
+        GroupPlan {
+            name: "background".into(),
+            fields: fields.to_vec(),
+            link_to: None,
+        },
+        GroupPlan {
+            name: "state".into(),
+            fields: fields.to_vec(),
+            link_to: Some("background".into()),
+        },
+    ]
 }
 
 impl crate::output::AtPath for Error {

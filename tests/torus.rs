@@ -214,3 +214,70 @@ fn sympy_residuals_of_the_torus() {
     );
     assert!(text.contains("torus: 0 disagreements"), "{text}");
 }
+
+fn run(dir: &std::path::Path, args: &[&str]) -> std::process::Output {
+    Command::new(env!("CARGO_BIN_EXE_stillpoint"))
+        .args(args)
+        .current_dir(dir)
+        .output()
+        .unwrap()
+}
+
+/// The bundled torus and envelope build and check; the torus file records
+/// its floor and the floored fraction, and its density at a cell centre
+/// inside is the closed form of Papaloizou & Pringle 1984 (ℓ² = GM R_max,
+/// h = C + GM/r − ℓ²/(2R²) on the midplane).
+#[test]
+fn bundled_torus_and_envelope_build_and_check() {
+    let d = tempfile::tempdir().unwrap();
+    for name in ["thick-torus", "polytropic-envelope"] {
+        let o = run(d.path(), &["check", name]);
+        let out = String::from_utf8_lossy(&o.stdout).to_string();
+        assert!(o.status.success() && out.contains("PASS"), "{out}");
+        let o = run(d.path(), &["build", name]);
+        assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    }
+    let o = run(d.path(), &["check", "thick-torus"]);
+    let out = String::from_utf8_lossy(&o.stdout).to_string();
+    assert!(
+        out.contains("balance is given up outside the torus"),
+        "{out}"
+    );
+    let f = hdf5::File::open(d.path().join("thick-torus.h5")).unwrap();
+    let attr = |n: &str| -> f64 {
+        let v: hdf5::types::VarLenUnicode = f.attr(n).unwrap().read_scalar().unwrap();
+        v.as_str().parse().unwrap()
+    };
+    let frac = attr("floored_fraction");
+    assert!(frac > 0.05 && frac < 0.95, "{frac}");
+    assert!(rel(attr("floor_density"), 1e-7) < 1e-12);
+    let rho = f
+        .dataset("background/density")
+        .unwrap()
+        .read_2d::<f64>()
+        .unwrap();
+    let x = f
+        .dataset("grid/x_centers")
+        .unwrap()
+        .read_1d::<f64>()
+        .unwrap();
+    let y = f
+        .dataset("grid/y_centers")
+        .unwrap()
+        .read_1d::<f64>()
+        .unwrap();
+    let floored = rho.iter().filter(|v| rel(**v, 1e-7) < 1e-12).count();
+    assert!(rel(floored as f64 / rho.len() as f64, frac) < 1e-12);
+    let c = attr("torus_bernoulli_constant");
+    let (k, g) = (0.04, 5.0 / 3.0);
+    for (i, j) in [(96, 140), (120, 130), (60, 96)] {
+        let r = x[i].hypot(y[j]);
+        let h = 1.0 / r - 1.0 / (2.0 * r * r) + c;
+        if h > 0.0 {
+            let want = ((g - 1.0) * h / (g * k)).powf(1.0 / (g - 1.0));
+            assert!(rel(rho[[i, j]], want) < 1e-12, "({i}, {j})");
+        } else {
+            assert!(rel(rho[[i, j]], 1e-7) < 1e-12);
+        }
+    }
+}

@@ -22,6 +22,14 @@ pub const BUNDLED: &[(&str, &str)] = &[
         "steady-vortex",
         include_str!("../../profiles/steady-vortex.json"),
     ),
+    (
+        "thick-torus",
+        include_str!("../../profiles/thick-torus.json"),
+    ),
+    (
+        "polytropic-envelope",
+        include_str!("../../profiles/polytropic-envelope.json"),
+    ),
 ];
 
 /// The text of a bundled profile by name.

@@ -257,6 +257,7 @@ pub fn from_text(
         "anchor",
         "vertically_integrated",
         "intended_jumps",
+        "torus",
     ])?;
     let shape = balance.require("shape")?.node().choice(Shape::KEYS)?;
     let unknown = balance.require("solve_for")?.node().choice(Unknown::KEYS)?;
@@ -400,6 +401,14 @@ pub fn from_text(
         Some(o) => output(o.node())?,
     };
 
+    let torus = match balance.child("torus") {
+        Some(t) => {
+            let given = [&density, &rotation, &pressure];
+            let what = (shape, unknown, barotrope.is_some(), &given[..]);
+            Some(sections::torus(t.node(), what, &consts, &lookup)?)
+        }
+        None => None,
+    };
     let mut model = Model {
         name,
         about,
@@ -411,6 +420,7 @@ pub fn from_text(
         density,
         sound_speed_sq,
         barotrope,
+        torus,
         rotation,
         pressure,
         potential,
