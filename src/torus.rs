@@ -278,6 +278,28 @@ impl Torus {
         OUT.iter().copied().zip(self.exprs.iter()).collect()
     }
 
+    /// Rayleigh's epicyclic frequency κ² = R⁻³ d(R⁴Ω²)/dR (exact symbolic
+    /// derivative of the rotation law) and Ω², at `n` midplane radii from
+    /// the inner to the outer edge: (R, κ², Ω²) each.
+    pub fn epicyclic_sq(&self, n: usize) -> Result<Vec<(f64, f64, f64)>, TorusError> {
+        let r = Expr::name("R");
+        let omega_sq = (self.spec.rotation.velocity().pow(Expr::num(2.0))
+            / r.clone().pow(Expr::num(2.0)))
+        .simplify();
+        let k2 = ((r.clone().pow(Expr::num(4.0)) * omega_sq.clone()).diff("R")
+            / r.pow(Expr::num(3.0)))
+        .simplify();
+        let look = |_: &str| None;
+        let k2 = crate::formula::Program::compile(&k2, &["R"], &look)?;
+        let w2 = crate::formula::Program::compile(&omega_sq, &["R"], &look)?;
+        Ok((0..n)
+            .map(|i| {
+                let x = self.inner + (self.outer - self.inner) * i as f64 / (n - 1).max(1) as f64;
+                (x, k2.eval(&[x]), w2.eval(&[x]))
+            })
+            .collect())
+    }
+
     /// The floor density and pressure.
     pub fn floor(&self) -> (f64, f64) {
         (self.spec.floor_density, self.spec.floor_pressure)

@@ -132,6 +132,46 @@ pub fn verdict(loaded: &Loaded, t: &Torus, tolerance: f64) -> Result<Verdict, Er
             show(at[k][1])
         );
     }
+    let kappa = t
+        .epicyclic_sq(257)
+        .map_err(|e| Error::closure(loaded, ClosureError::NoEquilibrium(e.to_string())))?;
+    let lo = kappa
+        .iter()
+        .copied()
+        .fold((f64::NAN, f64::INFINITY), |a, k| {
+            if k.1 < a.1 {
+                (k.0, k.1)
+            } else {
+                a
+            }
+        });
+    let hi = kappa.iter().map(|k| k.1).fold(f64::NEG_INFINITY, f64::max);
+    let scale = kappa.iter().map(|k| k.2).fold(0.0, f64::max);
+    let _ = writeln!(s, "stability (midplane, inner to outer edge)");
+    let _ = writeln!(
+        s,
+        "  kappa^2      min {:.6e} at R = {}, max {hi:.6e}  (Rayleigh: R^-3 d(R^4 Omega^2)/dR > 0 is \
+         stable to axisymmetric perturbations; for a barotrope rotating on cylinders this is \
+         Solberg-Hoiland)",
+        lo.1,
+        show(lo.0)
+    );
+    let mut stability = Vec::new();
+    if lo.1 < -1e-12 * scale {
+        stability.push(format!(
+            "the torus is unstable by Rayleigh's criterion: kappa^2 = {:e} < 0 at R = {} \
+             (angular momentum falls outward); it still builds, but it will not stay put",
+            lo.1,
+            show(lo.0)
+        ));
+    } else if hi.abs() <= 1e-12 * scale {
+        stability.push(
+            "constant specific angular momentum: kappa^2 = 0 everywhere, so the torus is only \
+             marginally stable to axisymmetric perturbations, and such tori are unstable to \
+             non-axisymmetric modes (Papaloizou & Pringle 1984)"
+                .to_string(),
+        );
+    }
     let frac = floored as f64 / pts.len().max(1) as f64;
     let _ = writeln!(s, "floor (outside the torus, at rest)");
     let _ = writeln!(s, "  density      {fd:e}");
@@ -143,7 +183,7 @@ pub fn verdict(loaded: &Loaded, t: &Torus, tolerance: f64) -> Result<Verdict, Er
         100.0 * frac
     );
     let _ = write!(s, "result         {}", if passed { "PASS" } else { "FAIL" });
-    let mut cautions = Vec::new();
+    let mut cautions = stability;
     if floored > 0 {
         cautions.push(format!(
             "balance is given up outside the torus: {floored} of {} cells ({:.2}%) hold the floor \

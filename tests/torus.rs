@@ -281,3 +281,36 @@ fn bundled_torus_and_envelope_build_and_check() {
         }
     }
 }
+
+/// Rayleigh's κ² = R⁻³ d(R⁴Ω²)/dR for Ω = Ω0 (R/R0)^−a is (4 − 2a) Ω²
+/// (Rayleigh 1917, Proc. R. Soc. A 93, 148; the power-law form is
+/// elementary, common practice, no source): 0 for constant ℓ.
+#[test]
+fn epicyclic_frequency_of_the_rotation_law() {
+    for a in [1.75, 2.0] {
+        let rot = RotationLaw {
+            omega0: if a > 1.9 { 1.0 } else { 0.9 },
+            r0: 1.0,
+            a,
+        };
+        let edge = if a > 1.9 {
+            Edge::Bernoulli(-1.0 / (2.0 * D))
+        } else {
+            Edge::InnerRadius(0.5)
+        };
+        let t = Torus::new(spec(edge, rot)).unwrap();
+        for (r, k2, w2) in t.epicyclic_sq(9).unwrap() {
+            assert!(
+                (k2 - (4.0 - 2.0 * a) * w2).abs() < 1e-13 * w2,
+                "a = {a}, R = {r}"
+            );
+        }
+    }
+    let d = tempfile::tempdir().unwrap();
+    let o = run(d.path(), &["check", "thick-torus"]);
+    let out = String::from_utf8_lossy(&o.stdout).to_string();
+    assert!(
+        out.contains("marginally stable") && out.contains("kappa^2"),
+        "{out}"
+    );
+}
