@@ -82,7 +82,17 @@ pub enum Command {
     },
     /// Check the balance with exact symbolic derivatives; exits non-zero when it fails.
     #[command(
-        after_help = "Example:\n  stillpoint check profiles/powerlaw-disk.json --tolerance 1e-12"
+        after_help = "Stability diagnostics (from exact derivatives; an unstable background still \
+                      builds, with a caution):\n  \
+                      N^2       buoyancy frequency of slabs and spheres (Schwarzschild, with \
+                      gas.gamma): N^2 < 0 is convectively unstable\n  \
+                      kappa^2   Rayleigh's epicyclic frequency R^-3 d(R^4 Omega^2)/dR of disks \
+                      and tori: kappa^2 < 0 is unstable to axisymmetric perturbations; a torus \
+                      of constant specific angular momentum (kappa^2 = 0) is marginal\n\n\
+                      A torus (balance.torus) also reports its edges, density maximum, both \
+                      balance residuals inside and the floored cells where balance is given \
+                      up.\n\n\
+                      Example:\n  stillpoint check profiles/powerlaw-disk.json --tolerance 1e-12"
     )]
     Check {
         #[command(flatten)]
