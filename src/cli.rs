@@ -89,7 +89,17 @@ pub enum Command {
     },
     /// Check the balance with exact symbolic derivatives; exits non-zero when it fails.
     #[command(
-        after_help = "Example:\n  stillpoint check profiles/powerlaw-disk.json --tolerance 1e-12"
+        after_help = "Stability diagnostics (from exact derivatives; an unstable background still \
+                      builds, with a caution):\n  \
+                      N^2       buoyancy frequency of slabs and spheres (Schwarzschild, with \
+                      gas.gamma): N^2 < 0 is convectively unstable\n  \
+                      kappa^2   Rayleigh's epicyclic frequency R^-3 d(R^4 Omega^2)/dR of disks \
+                      and tori: kappa^2 < 0 is unstable to axisymmetric perturbations; a torus \
+                      of constant specific angular momentum (kappa^2 = 0) is marginal\n\n\
+                      A torus (balance.torus) also reports its edges, density maximum, both \
+                      balance residuals inside and the floored cells where balance is given \
+                      up.\n\n\
+                      Example:\n  stillpoint check profiles/powerlaw-disk.json --tolerance 1e-12"
     )]
     Check {
         #[command(flatten)]
@@ -294,6 +304,9 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
         }
         Command::Check { common, tolerance } => {
             let loaded = common.load()?;
+            if loaded.model.torus.is_some() {
+                return check_torus(&loaded, tolerance);
+            }
             let (bg, domain) = pipeline::solve_unverified(&loaded)?;
             let centres = pipeline::centres_for(&loaded.grid, loaded.model.shape.frame());
             let report = check::run(&loaded.model, &bg, &domain, &centres, tolerance)
@@ -529,6 +542,27 @@ fn build(
             "--csv: a CSV table is written for 1D grids only".into(),
         ));
     }
+    if loaded.model.torus.is_some() {
+        if want_csv {
+            return Err(Error::Usage(
+                "--csv: a torus is written to HDF5 only".into(),
+            ));
+        }
+        let t = crate::torus_run::torus(&loaded)?;
+        let v = crate::torus_run::verdict(&loaded, &t, check::DEFAULT_TOLERANCE)?;
+        if !v.passed {
+            return Err(Error::Usage(format!(
+                "{}: the torus fails its balance check; `stillpoint check` shows where",
+                loaded.source
+            )));
+        }
+        let meta = crate::torus_run::metadata(&loaded, &t, &v, argv, reproducible);
+        output::commit(&h5, force, |tmp| {
+            crate::torus_run::write_hdf5(&loaded, &t, &meta, tmp, &opts)
+        })?;
+        report_written(&loaded, std::slice::from_ref(&h5), &meta.cautions);
+        return Ok(Outcome::Ok);
+    }
     let built = pipeline::build(&loaded, argv, reproducible)?;
     let mut metadata = None;
     output::commit(&h5, force, |tmp| {
@@ -609,6 +643,22 @@ fn print_estimate(
     }
     crate::estimate::refuse_if_too_big(&est.plan, est.held, &crate::estimate::folder_of(h5))?;
     Ok(Outcome::Ok)
+}
+
+/// `check` of a torus: its edges, balance inside and floor.
+fn check_torus(loaded: &Loaded, tolerance: f64) -> Result<Outcome, Error> {
+    let t = crate::torus_run::torus(loaded)?;
+    let v = crate::torus_run::verdict(loaded, &t, tolerance)?;
+    say!("{} ({})", loaded.model.name, loaded.source);
+    say!("{}", v.text);
+    for c in &v.cautions {
+        say!("caution: {c}");
+    }
+    Ok(if v.passed {
+        Outcome::Ok
+    } else {
+        Outcome::Failed
+    })
 }
 
 fn report_written(loaded: &Loaded, written: &[PathBuf], cautions: &[String]) {

@@ -20,6 +20,8 @@
 //! * [`output`] — writers (HDF5, CSV); a writer never computes physics.
 //! * [`perturb`] — pulses, planets, noise, modes, sound waves and formulas
 //!   added to the equilibrium, point by point.
+//! * [`torus`] — a barotropic torus (Bernoulli relation, edges by root
+//!   finding, a floor outside), a background of the (R, z) frame.
 //! * [`check`], [`table`] — the symbolic balance check and rotation tables.
 //! * [`stability`] — Schwarzschild and Rayleigh criteria from exact derivatives.
 //! * [`profile`] — the JSON profile schema with exact error paths.
@@ -46,4 +48,6 @@ pub mod profile;
 pub mod sample;
 pub mod stability;
 pub mod table;
+pub mod torus;
+pub mod torus_run;
 pub mod units;

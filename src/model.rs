@@ -71,6 +71,18 @@ pub struct Barotrope {
     pub origin: String,
 }
 
+/// What `balance.torus` gives: the rotation law, the edge condition and the
+/// floor outside.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct TorusLaws {
+    /// Ω = Ω₀ (R/R₀)^(−a).
+    pub rotation: crate::torus::RotationLaw,
+    /// The inner edge or the Bernoulli constant.
+    pub edge: crate::torus::Edge,
+    /// Floor density and pressure outside the torus.
+    pub floor: (f64, f64),
+}
+
 /// The resolved problem.
 #[derive(Clone, Debug)]
 pub struct Model {
@@ -96,6 +108,9 @@ pub struct Model {
     /// A barotropic gas law P = K ρ^Γ, when given (never beside a sound
     /// speed or a temperature).
     pub barotrope: Option<Barotrope>,
+    /// A barotropic torus (`balance.torus`): rotation law, edge condition
+    /// and floor; built by [`crate::torus`], not by the closure table.
+    pub torus: Option<TorusLaws>,
     /// Given rotation law v_φ.
     pub rotation: Option<Law>,
     /// Given pressure law (audits only).

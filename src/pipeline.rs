@@ -485,6 +485,23 @@ impl GroupWriter {
     }
 }
 
+/// The groups of a file nothing perturbs: `/background` with the fields and
+/// `/state` linking to it.
+pub fn unperturbed_groups(fields: &[crate::fields::FieldSpec]) -> [GroupPlan; 2] {
+    [
+        GroupPlan {
+            name: "background".into(),
+            fields: fields.to_vec(),
+            link_to: None,
+        },
+        GroupPlan {
+            name: "state".into(),
+            fields: fields.to_vec(),
+            link_to: Some("background".into()),
+        },
+    ]
+}
+
 impl crate::output::AtPath for Error {
     fn at_path(&mut self, path: &Path) {
         if let Error::Output(e) = self {

@@ -111,6 +111,11 @@ fn issue6_state_links_read_back_as_the_background() {
 fn issue6_block_and_point_paths_agree_to_the_bit() {
     for (name, _) in bundled::BUNDLED {
         let loaded = profile::load(name, &[]).unwrap();
+        if loaded.model.torus.is_some() {
+            // A torus is not a closure of the table; its block and point
+            // paths are compared in tests/torus.rs.
+            continue;
+        }
         let (bg, domain) = pipeline::solve(&loaded).unwrap();
         let n = 301;
         let xs: Vec<f64> = (0..n)

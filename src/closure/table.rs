@@ -272,20 +272,29 @@ pub fn closure_for(
         .iter()
         .find(|c| c.unknown == unknown && c.serves.serves(shape) && c.gas.fits(gas))
         .ok_or_else(|| {
-            ClosureError::Incomplete(if gas == Gas::Barotropic && unknown != Unknown::Rotation {
-                "balance.solve_for: gas.barotropic ties P = K rho^Gamma to the density, so \
+            ClosureError::Incomplete(
+                if gas == Gas::Barotropic
+                    && unknown == Unknown::Density
+                    && shape == Shape::DiskMidplane
+                {
+                    "balance.solve_for: a barotropic disk solved for density is a torus: give \
+                 balance.torus (its rotation law, edge and floor); `check` and `build` read it"
+                        .into()
+                } else if gas == Gas::Barotropic && unknown != Unknown::Rotation {
+                    "balance.solve_for: gas.barotropic ties P = K rho^Gamma to the density, so \
                  solve for density (a slab or a sphere), rotation (a disk with a density law) \
                  or nothing (an audit)"
-                    .into()
-            } else if gas == Gas::Barotropic && shape == Shape::DiskMidplane {
-                "balance.solve_for: a barotropic disk is solved for rotation".into()
-            } else if shape == Shape::StratifiedDisk {
-                "balance.solve_for: a stratified disk is solved for its rotation \
-                 (give its midplane density and its sound speed)"
-                    .into()
-            } else {
-                "balance.solve_for: a slab or a sphere has no rotation to solve for".into()
-            })
+                        .into()
+                } else if gas == Gas::Barotropic && shape == Shape::DiskMidplane {
+                    "balance.solve_for: a barotropic disk is solved for rotation".into()
+                } else if shape == Shape::StratifiedDisk {
+                    "balance.solve_for: a stratified disk is solved for its rotation \
+                     (give its midplane density and its sound speed)"
+                        .into()
+                } else {
+                    "balance.solve_for: a slab or a sphere has no rotation to solve for".into()
+                },
+            )
         })
 }
 

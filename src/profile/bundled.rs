@@ -44,6 +44,14 @@ pub const BUNDLED: &[(&str, &str)] = &[
         "stratified-box-2d",
         include_str!("../../profiles/stratified-box-2d.json"),
     ),
+    (
+        "thick-torus",
+        include_str!("../../profiles/thick-torus.json"),
+    ),
+    (
+        "polytropic-envelope",
+        include_str!("../../profiles/polytropic-envelope.json"),
+    ),
 ];
 
 /// The text of a bundled profile by name.

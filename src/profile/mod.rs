@@ -263,6 +263,7 @@ pub fn from_text(
         "vertically_integrated",
         "intended_jumps",
         "axis",
+        "torus",
     ])?;
     let shape = balance.require("shape")?.node().choice(Shape::KEYS)?;
     let unknown = balance.require("solve_for")?.node().choice(Unknown::KEYS)?;
@@ -449,6 +450,14 @@ pub fn from_text(
         )?,
     };
 
+    let torus = match balance.child("torus") {
+        Some(t) => {
+            let given = [&density, &rotation, &pressure];
+            let what = (shape, unknown, barotrope.is_some(), &given[..]);
+            Some(sections::torus(t.node(), what, &consts, &lookup)?)
+        }
+        None => None,
+    };
     let mut model = Model {
         name,
         about,
@@ -460,6 +469,7 @@ pub fn from_text(
         density,
         sound_speed_sq,
         barotrope,
+        torus,
         rotation,
         pressure,
         potential,

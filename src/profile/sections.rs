@@ -13,10 +13,11 @@ use super::{OutputSpec, ProfileError};
 use crate::background::Shape;
 use crate::formula::Expr;
 use crate::grid::{Axis, Coord, Grid};
-use crate::model::{Barotrope, Law};
+use crate::model::{Barotrope, Law, TorusLaws, Unknown};
 use crate::output::Precision;
 use crate::physics;
 use crate::sample::SamplingRule;
+use crate::torus::{Edge, RotationLaw};
 
 /// The potential on the balance coordinate, and in every coordinate of the
 /// background's frame (R and z for a disk; the same law for a slab or a
@@ -126,6 +127,84 @@ pub(super) fn barotrope(
         exponent: g.formula(consts)?,
         exponent_value: gv,
         origin: node.path(),
+    })
+}
+
+/// `balance.torus`: the rotation law (`angular_momentum`, or `rotation`:
+/// `{ "omega": Ω₀, "at": R₀, "exponent": a }` for Ω = Ω₀ (R/R₀)^(−a)), the
+/// edge (`inner_edge` or `bernoulli`) and the `floor` (`density`,
+/// `pressure`). Needs a disk solved for density with gas.barotropic and no
+/// density or rotation law.
+pub(super) fn torus(
+    node: Node,
+    (shape, unknown, barotropic, given): (Shape, Unknown, bool, &[&Option<Law>]),
+    consts: &[&str],
+    lookup: &dyn Fn(&str) -> Option<f64>,
+) -> Result<TorusLaws, ProfileError> {
+    node.only_keys(&[
+        "angular_momentum",
+        "rotation",
+        "inner_edge",
+        "bernoulli",
+        "floor",
+    ])?;
+    if shape != Shape::DiskMidplane || unknown != Unknown::Density {
+        return Err(node.error(
+            "a torus is a disk solved for density: give balance.shape \"disk\" and \
+             balance.solve_for \"density\"",
+        ));
+    }
+    if !barotropic {
+        return Err(node.error("a torus needs a barotropic gas: give gas.barotropic (K, exponent)"));
+    }
+    if let Some(l) = given.iter().copied().flatten().next() {
+        return Err(node.error(format!(
+            "a torus derives its density and rotation: remove {}",
+            l.origin
+        )));
+    }
+    let num = |key: &str| -> Result<Option<f64>, ProfileError> {
+        node.child(key)
+            .map(|c| c.node().value(consts, lookup))
+            .transpose()
+    };
+    let rotation = match (num("angular_momentum")?, node.child("rotation")) {
+        (Some(l), None) => RotationLaw::constant_angular_momentum(l),
+        (None, Some(r)) => {
+            let r = r.node();
+            r.only_keys(&["omega", "at", "exponent"])?;
+            let v = |k: &str| r.require(k)?.node().value(consts, lookup);
+            RotationLaw {
+                omega0: v("omega")?,
+                r0: v("at")?,
+                a: v("exponent")?,
+            }
+        }
+        _ => return Err(node.error("give exactly one of angular_momentum and rotation")),
+    };
+    let edge = match (num("inner_edge")?, num("bernoulli")?) {
+        (Some(r), None) if r > 0.0 => Edge::InnerRadius(r),
+        (Some(r), None) => {
+            return Err(node.error(format!("inner_edge must be a positive radius, found {r}")))
+        }
+        (None, Some(c)) => Edge::Bernoulli(c),
+        _ => return Err(node.error("give exactly one of inner_edge and bernoulli")),
+    };
+    let floor = node.require("floor")?;
+    let floor = floor.node();
+    floor.only_keys(&["density", "pressure"])?;
+    let mut fp = [0.0; 2];
+    for (v, key) in fp.iter_mut().zip(["density", "pressure"]) {
+        let n = floor.require(key)?;
+        *v = n.node().value(consts, lookup)?;
+        if v.is_nan() || *v <= 0.0 {
+            return Err(n.node().error(format!("must be positive, found {v}")));
+        }
+    }
+    Ok(TorusLaws {
+        rotation,
+        edge,
+        floor: (fp[0], fp[1]),
     })
 }
 
