@@ -223,8 +223,17 @@ impl Built<'_> {
         }
     }
 
-    /// Every field on the whole grid, in memory (small grids, CSV tables).
+    /// Every field on the whole grid (those `output.fields` keeps), in
+    /// memory (small grids, CSV tables, plain arrays).
     pub fn sample_all(&self) -> Result<FieldSet, Error> {
+        let groups = self.groups()?;
+        let mut set = self.sample_every_field()?;
+        set.fields
+            .retain(|f| groups[0].fields.iter().any(|g| g.name == f.name));
+        Ok(set)
+    }
+
+    fn sample_every_field(&self) -> Result<FieldSet, Error> {
         sample::sample(
             &self.background,
             &self.loaded.grid,
@@ -237,7 +246,25 @@ impl Built<'_> {
     /// The groups of the file: `/background` with the sampled fields and
     /// `/state` linked to it (nothing perturbs the state yet).
     pub fn groups(&self) -> Result<Vec<GroupPlan>, Error> {
-        let fields = self.sampler()?.fields();
+        let mut fields = self.sampler()?.fields();
+        if let Some(wanted) = &self.loaded.output.fields {
+            let names: Vec<&str> = fields.iter().map(|f| f.name.as_str()).collect();
+            if let Some(bad) = wanted.iter().find(|w| !names.contains(&w.as_str())) {
+                return Err(crate::profile::ProfileError::at(
+                    &self.loaded.source,
+                    "output.fields",
+                    format!(
+                        "`{bad}` is not a field of this build{}; its fields are {}",
+                        crate::profile::closest(bad, &names)
+                            .map(|n| format!(" (did you mean `{n}`?)"))
+                            .unwrap_or_default(),
+                        names.join(", ")
+                    ),
+                )
+                .into());
+            }
+            fields.retain(|f| wanted.contains(&f.name));
+        }
         Ok(vec![
             GroupPlan {
                 name: "background".into(),
@@ -267,14 +294,34 @@ impl Built<'_> {
         let grid = &self.loaded.grid;
         let groups = self.groups()?;
         let create = || {
-            H5Stream::create(
+            H5Stream::create_filtered(
                 path,
                 grid,
                 &self.metadata,
                 sampler.sampling(),
                 &groups,
                 opts.precision,
+                self.loaded.output.filters,
             )
+        };
+        // The sampler's fields that `output.fields` keeps.
+        let keep: Vec<bool> = fields
+            .iter()
+            .map(|f| groups[0].fields.iter().any(|g| g.name == f.name))
+            .collect();
+        let select = |slab: Slab| -> Slab {
+            if keep.iter().all(|k| *k) {
+                return slab;
+            }
+            Slab {
+                rows: slab.rows,
+                data: slab
+                    .data
+                    .into_iter()
+                    .zip(&keep)
+                    .filter_map(|(d, k)| k.then_some(d))
+                    .collect(),
+            }
         };
         let shape = grid.shape();
         // About SLAB_BYTES a slab, in whole chunk rows of the datasets, so
@@ -295,6 +342,7 @@ impl Built<'_> {
                 let slab = sampler
                     .slab_into(r, reuse)
                     .map_err(|e| self.sample_error(e))?;
+                let slab = select(slab);
                 out.write("background", &slab)?;
                 reuse = slab.data;
             }
@@ -330,7 +378,7 @@ impl Built<'_> {
                     let slab = sampler
                         .slab_into(r, reuse)
                         .map_err(|e| self.sample_error(e))?;
-                    if tx.send(slab).is_err() {
+                    if tx.send(select(slab)).is_err() {
                         break; // the writer stopped: its error is reported
                     }
                 }
