@@ -367,6 +367,13 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             let m = &loaded.model;
             let laws = derived_laws(m).map_err(|e| Error::closure(&loaded, e))?;
             let show = |e: &crate::formula::Expr| if latex { e.to_latex() } else { e.to_string() };
+            let lhs = |n: &str| {
+                if latex {
+                    crate::formula::latex_lhs(n)
+                } else {
+                    n.to_string()
+                }
+            };
             let shape = pipeline::balance_description(m);
             say!(
                 "{} ({}): {shape} balance, solved for {}",
@@ -375,9 +382,10 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 m.unknown.key()
             );
             say!("given");
-            say!("  Phi = {}", show(&m.potential_field.expr));
+            say!("  {} = {}", lhs("Phi"), show(&m.potential_field.expr));
             if m.potential_field.expr != m.potential.expr {
-                say!("  Phi(z = 0) = {}", show(&m.potential.expr));
+                let at = if latex { "\\Phi|_{z=0}" } else { "Phi(z = 0)" };
+                say!("  {at} = {}", show(&m.potential.expr));
             }
             for (n, l) in [
                 ("rho", &m.density),
@@ -386,12 +394,12 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 ("P", &m.pressure),
             ] {
                 if let Some(l) = l {
-                    say!("  {n} = {}", show(&l.expr));
+                    say!("  {} = {}", lhs(n), show(&l.expr));
                 }
             }
             say!("derived");
             for d in laws {
-                say!("  {} = {}", d.name, show(&d.expr));
+                say!("  {} = {}", lhs(&d.name), show(&d.expr));
                 say!("      ({})", d.note);
             }
             Ok(Outcome::Ok)

@@ -292,8 +292,17 @@ impl Built<'_> {
         }
     }
 
-    /// Every field on the whole grid, in memory (small grids, CSV tables).
+    /// Every field on the whole grid (those `output.fields` keeps), in
+    /// memory (small grids, CSV tables, plain arrays).
     pub fn sample_all(&self) -> Result<FieldSet, Error> {
+        let groups = self.groups()?;
+        let mut set = self.sample_every_field()?;
+        set.fields
+            .retain(|f| groups[0].fields.iter().any(|g| g.name == f.name));
+        Ok(set)
+    }
+
+    fn sample_every_field(&self) -> Result<FieldSet, Error> {
         sample::sample_with_cuts(
             &self.background,
             &self.loaded.grid,
@@ -309,9 +318,9 @@ impl Built<'_> {
     /// (the sum) and `/perturbation` (the perturbation alone) of their own.
     pub fn groups(&self) -> Result<Vec<GroupPlan>, Error> {
         let sampler = self.sampler()?;
-        let fields = sampler.fields();
-        let mut groups: Vec<GroupPlan> = sampler
-            .groups()
+        let kept = self.kept_groups(&sampler)?;
+        let fields = kept[0].1.clone();
+        let mut groups: Vec<GroupPlan> = kept
             .into_iter()
             .map(|(name, f)| GroupPlan {
                 name: name.to_string(),
@@ -330,6 +339,42 @@ impl Built<'_> {
         Ok(groups)
     }
 
+    /// The sampler's groups holding only the fields `output.fields` keeps
+    /// (all of them when it is not given); an unknown name is an error
+    /// naming the key and the closest field.
+    fn kept_groups(
+        &self,
+        sampler: &Sampler<'_>,
+    ) -> Result<Vec<(&'static str, Vec<FieldSpec>)>, Error> {
+        let mut groups = sampler.groups();
+        if let Some(wanted) = &self.loaded.output.fields {
+            let mut names: Vec<&str> = Vec::new();
+            for f in groups.iter().flat_map(|(_, f)| f) {
+                if !names.contains(&f.name.as_str()) {
+                    names.push(f.name.as_str());
+                }
+            }
+            if let Some(bad) = wanted.iter().find(|w| !names.contains(&w.as_str())) {
+                return Err(crate::profile::ProfileError::at(
+                    &self.loaded.source,
+                    "output.fields",
+                    format!(
+                        "`{bad}` is not a field of this build{}; its fields are {}",
+                        crate::profile::closest(bad, &names)
+                            .map(|n| format!(" (did you mean `{n}`?)"))
+                            .unwrap_or_default(),
+                        names.join(", ")
+                    ),
+                )
+                .into());
+            }
+            for (_, f) in &mut groups {
+                f.retain(|f| wanted.contains(&f.name));
+            }
+        }
+        Ok(groups)
+    }
+
     /// Verify, sample slab by slab and stream into a new HDF5 file at
     /// `path`: `/background` holds the fields and `/state` links to them
     /// (nothing perturbs the state yet). With more than one thread in the
@@ -344,16 +389,43 @@ impl Built<'_> {
         let fields = sampler.fields();
         let grid = &self.loaded.grid;
         let groups = self.groups()?;
-        let split = GroupWriter::new(&sampler.groups());
+        let kept = self.kept_groups(&sampler)?;
+        let split = GroupWriter::new(&kept);
         let create = || {
-            H5Stream::create(
+            H5Stream::create_filtered(
                 path,
                 grid,
                 &self.metadata,
                 sampler.sampling(),
                 &groups,
                 opts.precision,
+                self.loaded.output.filters,
             )
+        };
+        // The sampler's fields that `output.fields` keeps, in slab order.
+        let keep: Vec<bool> = sampler
+            .groups()
+            .iter()
+            .zip(&kept)
+            .flat_map(|((_, all), (_, kept))| {
+                all.iter()
+                    .map(|f| kept.iter().any(|g| g.name == f.name))
+                    .collect::<Vec<_>>()
+            })
+            .collect();
+        let select = |slab: Slab| -> Slab {
+            if keep.iter().all(|k| *k) {
+                return slab;
+            }
+            Slab {
+                rows: slab.rows,
+                data: slab
+                    .data
+                    .into_iter()
+                    .zip(&keep)
+                    .filter_map(|(d, k)| k.then_some(d))
+                    .collect(),
+            }
         };
         let shape = grid.shape();
         let rows = slab_rows(&shape, fields.len(), opts);
@@ -368,7 +440,7 @@ impl Built<'_> {
                 let slab = sampler
                     .slab_into(r, reuse)
                     .map_err(|e| self.sample_error(e))?;
-                reuse = split.write(&mut out, slab, &mut peaks)?;
+                reuse = split.write(&mut out, select(slab), &mut peaks)?;
             }
             let meta = split.with_peaks(meta, &peaks);
             out.finish(&meta)?;
@@ -405,7 +477,7 @@ impl Built<'_> {
                     let slab = sampler
                         .slab_into(r, reuse)
                         .map_err(|e| self.sample_error(e))?;
-                    if tx.send(slab).is_err() {
+                    if tx.send(select(slab)).is_err() {
                         break; // the writer stopped: its error is reported
                     }
                 }

@@ -239,3 +239,52 @@ fn issue10_the_h5py_example_plots_a_built_file() {
         );
     }
 }
+
+#[test]
+fn issue10_output_fields_filters_and_cell_counts_from_parameters() {
+    let d = tempfile::tempdir().unwrap();
+    let disk = ok(d.path(), &["profiles", "powerlaw-disk"])
+        .replace(
+            r#""output": {"#,
+            r#""output": { "fields": ["density", "velocity_phi"], "deflate": 4, "shuffle": true,"#,
+        )
+        .replace(r#""cells": 192"#, r#""cells": "N_R""#)
+        .replace(r#""M": 1.0,"#, r#""M": 1.0, "N_R": 16,"#);
+    std::fs::write(d.path().join("d.json"), &disk).unwrap();
+    ok(
+        d.path(),
+        &["build", "d.json", "-o", "d.h5", "--set", "N_R=24", "--npy"],
+    );
+    python_check(d.path(), "arrays", &["d.h5".into(), "d-npy".into()]);
+    python_check(d.path(), "xdmf", &["d.xmf".into()]);
+    python_check(
+        d.path(),
+        "subset",
+        &[
+            "d.h5".into(),
+            "density,velocity_phi".into(),
+            "shuffle, deflate 4".into(),
+            "24".into(),
+        ],
+    );
+    for (from, to, message) in [
+        (
+            r#""velocity_phi"]"#,
+            r#""velocity_ph"]"#,
+            "output.fields: `velocity_ph` is not a field of this build (did you mean `velocity_phi`?)",
+        ),
+        (r#""deflate": 4, "#, "", "give deflate (1 to 9) with it"),
+        (r#""deflate": 4"#, r#""deflate": 12"#, "the deflate level is 1 to 9, not 12"),
+        (
+            r#""N_R": 16"#,
+            r#""N_R": 16.5"#,
+            "grid.R.cells: expected a positive whole number of cells, the value is 16.5",
+        ),
+    ] {
+        std::fs::write(d.path().join("bad.json"), disk.replace(from, to)).unwrap();
+        let o = stillpoint(d.path(), &["build", "bad.json", "-o", "bad.h5"]);
+        assert_eq!(o.status.code(), Some(2), "{}", text(&o));
+        assert!(text(&o).contains(message), "{}", text(&o));
+        assert!(!d.path().join("bad.h5").exists());
+    }
+}

@@ -180,9 +180,34 @@ def csv(args):
     return bad
 
 
+def subset(args):
+    """The file holds exactly the listed fields, with the filters and chunks
+    its attributes state (h5py's view of the dataset creation properties), and
+    the first axis has the cell count the overridden parameter gave."""
+    path, names, filters, cells = args
+    bad = []
+    with h5py.File(path, "r") as f:
+        got = sorted(f["state"])
+        if got != sorted(names.split(",")):
+            bad.append(f"{path}: fields {got}, wanted {names}")
+        for n in got:
+            ds = f[f"background/{n}"]
+            if ds.attrs["filters"] != filters:
+                bad.append(f"{path}: {n} states filters {ds.attrs['filters']!r}")
+            if ("deflate" in filters) != (ds.compression == "gzip") or ("shuffle" in filters) != ds.shuffle:
+                bad.append(f"{path}: {n} has compression {ds.compression}, shuffle {ds.shuffle}")
+            if ds.attrs["chunks"] != " x ".join(map(str, ds.chunks)):
+                bad.append(f"{path}: {n} states chunks {ds.attrs['chunks']}, has {ds.chunks}")
+            if ds.shape[0] != int(cells):
+                bad.append(f"{path}: {n} has {ds.shape[0]} rows, wanted {cells}")
+        if "N_R" not in f.attrs["profile"]:
+            bad.append(f"{path}: the profile attribute does not record the parameter")
+    return bad
+
+
 def main():
     verb, args = sys.argv[1], sys.argv[2:]
-    bad = {"xdmf": xdmf, "arrays": arrays, "csv": csv}[verb](args)
+    bad = {"xdmf": xdmf, "arrays": arrays, "csv": csv, "subset": subset}[verb](args)
     for b in bad:
         print(b)
     print(f"{verb}: {'FAIL' if bad else 'ok'} ({len(args)} files)")

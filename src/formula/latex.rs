@@ -22,30 +22,76 @@ const GREEK: [&str; 35] = [
     "Omega", "varphi",
 ];
 
-/// LaTeX for a name: Greek letters, trailing digits and `_x` as subscripts.
+/// LaTeX for a name, by one rule: the name is split at its underscores;
+/// the first part is the symbol and the others are its subscripts, joined
+/// by commas (`c_s_0` → `c_{s,0}`, `R_in` → `R_{in}`; a Greek name as a
+/// subscript is the letter, `v_phi` → `v_{\\phi}`). Trailing digits of
+/// a one-letter or Greek symbol are a subscript too (`R0` → `R_{0}`,
+/// `rho0` → `\rho_{0}`); any other symbol of several letters is set
+/// upright as written, digits included (`cs2` → `\mathrm{cs2}`, `Mdot`
+/// → `\mathrm{Mdot}`, `cs2_0` → `\mathrm{cs2}_{0}`).
 fn latex_name(n: &str) -> String {
-    let (head, sub) = match n.split_once('_') {
-        Some((h, s)) if !h.is_empty() => (h.to_string(), Some(s.to_string())),
-        _ => {
-            let cut = n.trim_end_matches(|c: char| c.is_ascii_digit()).len();
-            if cut > 0 && cut < n.len() {
-                (n[..cut].to_string(), Some(n[cut..].to_string()))
-            } else {
-                (n.to_string(), None)
-            }
-        }
+    let mut parts = n.split('_').filter(|p| !p.is_empty());
+    let first = parts.next().unwrap_or(n);
+    let mut subs: Vec<String> = parts.map(str::to_string).collect();
+    let cut = first.trim_end_matches(|c: char| c.is_ascii_digit()).len();
+    let letters = &first[..cut];
+    let symbolic = letters.chars().count() == 1 || GREEK.contains(&letters);
+    let head = if cut > 0 && cut < first.len() && symbolic {
+        subs.insert(0, first[cut..].to_string());
+        letters
+    } else {
+        first
     };
-    let head = if GREEK.contains(&head.as_str()) {
+    let head = if GREEK.contains(&head) {
         format!("\\{head}")
     } else if head.chars().count() > 1 {
         format!("\\mathrm{{{head}}}")
     } else {
-        head
+        head.to_string()
     };
-    match sub {
-        Some(s) => format!("{head}_{{{}}}", s.replace('_', "\\_")),
-        None => head,
+    if subs.is_empty() {
+        head
+    } else {
+        let subs: Vec<String> = subs
+            .into_iter()
+            .map(|s| {
+                if GREEK.contains(&s.as_str()) {
+                    format!("\\{s}")
+                } else {
+                    s
+                }
+            })
+            .collect();
+        format!("{head}_{{{}}}", subs.join(","))
     }
+}
+
+/// LaTeX for the left-hand side of a printed law, as `derive` names them:
+/// `d ln(P)/dz` → `\frac{\partial \ln P}{\partial z}`, `dPhi/dR` →
+/// `\frac{\partial \Phi}{\partial R}`, `c^2` → `c^{2}`, `v_phi^2` →
+/// `v_{\phi}^{2}`, and a name by the rule of the formulas' names. Text of
+/// another shape is set upright as it is.
+pub fn latex_lhs(text: &str) -> String {
+    let t = text.trim();
+    if let Some((top, var)) = t.strip_prefix('d').and_then(|r| r.split_once("/d")) {
+        let var = latex_lhs(var);
+        let top = top.trim();
+        let top = match top.strip_prefix("ln(").and_then(|r| r.strip_suffix(')')) {
+            Some(inner) => format!("\\ln {}", latex_lhs(inner)),
+            None => latex_lhs(top),
+        };
+        return format!("\\frac{{\\partial {top}}}{{\\partial {var}}}");
+    }
+    if let Some((base, power)) = t.split_once('^') {
+        if power.chars().all(|c| c.is_ascii_digit()) && !power.is_empty() {
+            return format!("{}^{{{power}}}", latex_lhs(base));
+        }
+    }
+    if !t.is_empty() && t.chars().all(|c| c.is_ascii_alphanumeric() || c == '_') {
+        return latex_name(t);
+    }
+    format!("\\text{{{}}}", t.replace('\\', "").replace(['{', '}'], ""))
 }
 
 fn latex_number(v: f64) -> String {
@@ -126,6 +172,17 @@ fn lpiece(e: &Expr) -> (String, u8) {
                 let v = -x.as_number().unwrap_or(-1.0);
                 let d = latex(&super::simplify::pow((**b).clone(), Expr::Num(v)));
                 return (format!("\\frac{{1}}{{{d}}}"), ATOM);
+            }
+            // sqrt(a)^(2k) is a^k: the square root is defined only where
+            // a ≥ 0, and there the two are equal.
+            if let (Expr::Call(Func::Sqrt, a), Some(n)) = (&**b, x.as_number()) {
+                if n > 0.0 && (n / 2.0).fract().abs() < f64::EPSILON {
+                    if (n - 2.0).abs() < f64::EPSILON {
+                        return lpiece(&a[0]);
+                    }
+                    let half = Expr::Pow(Box::new(a[0].clone()), Box::new(Expr::Num(n / 2.0)));
+                    return lpiece(&half);
+                }
             }
             // A fraction or root is an atom inside a product, but as the base
             // of a power it needs parentheses: (R/R_0)^{-p}, not R/R_0^{-p}.
@@ -221,6 +278,24 @@ mod tests {
             "\\Omega_{K} + k_{B} + \\mathrm{Mdot}"
         );
         assert_eq!(l("exp(-x^2)"), "\\exp\\left(-x^{2}\\right)");
+        // One rule for names (issue 10): digits after a multi-letter name
+        // stay upright with it; underscores give comma-separated subscripts.
+        assert_eq!(l("cs2"), "\\mathrm{cs2}");
+        assert_eq!(l("cs2_0"), "\\mathrm{cs2}_{0}");
+        assert_eq!(l("c_s_0"), "c_{s,0}");
+        assert_eq!(l("h0 + x1"), "h_{0} + x_{1}");
+        assert_eq!(l("v_phi"), "v_{\\phi}");
+        assert_eq!(
+            latex_lhs("d ln(P)/dz"),
+            "\\frac{\\partial \\ln P}{\\partial z}"
+        );
+        assert_eq!(latex_lhs("dPhi/dR"), "\\frac{\\partial \\Phi}{\\partial R}");
+        assert_eq!(latex_lhs("v_phi^2"), "v_{\\phi}^{2}");
+        assert_eq!(latex_lhs("c^2"), "c^{2}");
+        // sqrt(x)^2 is x where the root is defined; sqrt(x)^4 is x^2.
+        assert_eq!(l("sqrt(x)^2"), "x");
+        assert_eq!(l("sqrt(a + b)^2*c"), "\\left(a + b\\right) \\, c");
+        assert_eq!(l("sqrt(x)^4"), "x^{2}");
         assert_eq!(l("(a + b)^2"), "\\left(a + b\\right)^{2}");
         assert_eq!(
             l("0 if x < 1 else x"),

@@ -25,6 +25,7 @@ mod hints;
 mod kernel;
 mod lanes;
 mod latex;
+pub use latex::latex_lhs;
 mod legacy;
 mod lexer;
 mod params;

@@ -10,7 +10,9 @@
 //! `command_line`, `generator`, `sampling`, `cautions` (lines joined by
 //! newlines), `created` (UTC, ISO 8601; `command_line` and `created` are
 //! left out of reproducible files) and the metadata's extra pairs; on every
-//! dataset `units`, `placement` and (fields) `sampling`. Object time stamps
+//! dataset `units`, `placement` and (fields) `sampling`, `chunks` (the
+//! chunk shape, `64 x 384`) and `filters` (`none`, `deflate 4`,
+//! `shuffle, deflate 4`). Object time stamps
 //! are off, so two builds of one profile give identical datasets. Does not
 //! own the all-or-nothing placement of the file (see [`super::commit`]) nor
 //! any physics.
@@ -99,6 +101,27 @@ impl H5Stream {
         groups: &[GroupPlan],
         precision: Precision,
     ) -> Result<H5Stream, OutputError> {
+        Self::create_filtered(
+            path,
+            grid,
+            meta,
+            sampling,
+            groups,
+            precision,
+            super::Filters::default(),
+        )
+    }
+
+    /// [`H5Stream::create`] with HDF5 filters on the field datasets.
+    pub fn create_filtered(
+        path: &Path,
+        grid: &Grid,
+        meta: &super::Metadata,
+        sampling: &str,
+        groups: &[GroupPlan],
+        precision: Precision,
+        filters: super::Filters,
+    ) -> Result<H5Stream, OutputError> {
         for (name, _) in &meta.extra {
             if RESERVED.contains(&name.as_str()) {
                 return Err(OutputError::Inconsistent {
@@ -107,7 +130,7 @@ impl H5Stream {
                 });
             }
         }
-        Self::open(path, grid, meta, sampling, groups, precision).map_err(h5_error(path))
+        Self::open(path, grid, meta, sampling, groups, (precision, filters)).map_err(h5_error(path))
     }
 
     fn open(
@@ -116,7 +139,7 @@ impl H5Stream {
         meta: &super::Metadata,
         sampling: &str,
         groups: &[GroupPlan],
-        precision: Precision,
+        (precision, filters): (Precision, super::Filters),
     ) -> H5Result<H5Stream> {
         let file = File::with_options()
             .with_fcpl(|p| p.obj_track_times(false))
@@ -149,7 +172,7 @@ impl H5Stream {
             }
             let mut sets = Vec::new();
             for f in &plan.fields {
-                let ds = create_field(&group, f, &cells, precision)?;
+                let ds = create_field(&group, f, &cells, precision, filters)?;
                 string_attr(&ds, "units", &units.unit_string(f.dim))?;
                 string_attr(&ds, "sampling", sampling)?;
                 string_attr(&ds, "placement", &f.placement.describe(&names))?;
@@ -321,16 +344,26 @@ fn create_field(
     f: &FieldSpec,
     cells: &[usize],
     precision: Precision,
+    filters: super::Filters,
 ) -> H5Result<Dataset> {
     let shape = f.placement.shape(cells);
     let (b, ds) = match precision {
         Precision::Double => (8, group.new_dataset::<f64>()),
         Precision::Single => (4, group.new_dataset::<f32>()),
     };
-    Ok(ds
-        .shape(shape.clone())
-        .chunk(chunk_shape(&shape, b))
-        .create(f.name.as_str())?)
+    let chunk = chunk_shape(&shape, b);
+    let mut ds = ds.shape(shape.clone()).chunk(chunk.clone());
+    if filters.shuffle {
+        ds = ds.shuffle();
+    }
+    if let Some(level) = filters.deflate {
+        ds = ds.deflate(level);
+    }
+    let ds = ds.create(f.name.as_str())?;
+    let text: Vec<String> = chunk.iter().map(|n| n.to_string()).collect();
+    string_attr(&ds, "chunks", &text.join(" x "))?;
+    string_attr(&ds, "filters", &filters.describe())?;
+    Ok(ds)
 }
 
 fn write_rows(

@@ -121,6 +121,26 @@ fn axis_units(axis: &Axis, units: UnitSystem) -> String {
     }
 }
 
+/// The HDF5 filters of the field datasets: none by default.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub struct Filters {
+    /// Deflate (zlib) level 1 to 9.
+    pub deflate: Option<u8>,
+    /// The byte shuffle before deflate (often compresses floats better).
+    pub shuffle: bool,
+}
+
+impl Filters {
+    /// A description for files: `none`, `deflate 4`, `shuffle, deflate 4`.
+    pub fn describe(&self) -> String {
+        match (self.deflate, self.shuffle) {
+            (None, _) => "none".into(),
+            (Some(l), false) => format!("deflate {l}"),
+            (Some(l), true) => format!("shuffle, deflate {l}"),
+        }
+    }
+}
+
 /// Floating-point width of the field datasets.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Precision {

@@ -85,6 +85,11 @@ pub struct OutputSpec {
     pub csv: bool,
     /// Floating-point precision of the HDF5 datasets.
     pub precision: Precision,
+    /// The fields to write (`output.fields`); None writes every field.
+    pub fields: Option<Vec<String>>,
+    /// HDF5 filters of the field datasets (`output.deflate`,
+    /// `output.shuffle`).
+    pub filters: crate::output::Filters,
 }
 
 /// A profile read, validated and resolved.
@@ -428,6 +433,8 @@ pub fn from_text(
             file: None,
             csv: false,
             precision: Precision::Double,
+            fields: None,
+            filters: crate::output::Filters::default(),
         },
         Some(o) => output(o.node())?,
     };

@@ -268,7 +268,7 @@ pub(super) fn grid(
                     ax.require("to")?.node().value(consts, lookup)?,
                 ),
             };
-            let cells = ax.require("cells")?.node().positive_int()?;
+            let cells = cell_count(ax.require("cells")?.node(), consts, lookup)?;
             let log = match ax.child("spacing") {
                 Some(s) => s.node().choice(&[(false, "uniform"), (true, "log")])?,
                 None => false,
@@ -283,6 +283,30 @@ pub(super) fn grid(
         axes.push(axis);
     }
     Grid::new(axes).map_err(|e| node.error(e.to_string()))
+}
+
+/// A number of cells: a positive integer, or a formula of parameters whose
+/// value is one (`"N_R"`, `"2*N"`), so that `--set N=512` changes the
+/// resolution.
+fn cell_count(
+    node: Node,
+    consts: &[&str],
+    lookup: &dyn Fn(&str) -> Option<f64>,
+) -> Result<usize, ProfileError> {
+    let whole = node.positive_int();
+    if whole.is_ok() || node.str().is_err() {
+        // A JSON number: a positive integer, or the error saying so.
+        return whole;
+    }
+    let v = node.value(consts, lookup)?;
+    let integral = v.round().to_bits() == v.to_bits();
+    if integral && (1.0..=1e12).contains(&v) {
+        Ok(v as usize)
+    } else {
+        Err(node.error(format!(
+            "expected a positive whole number of cells, the value is {v}"
+        )))
+    }
 }
 
 pub(super) fn check_grid_matches(
@@ -413,7 +437,7 @@ pub(super) fn sampling(node: Node) -> Result<SamplingRule, ProfileError> {
 }
 
 pub(super) fn output(node: Node) -> Result<OutputSpec, ProfileError> {
-    node.only_keys(&["file", "csv", "precision"])?;
+    node.only_keys(&["file", "csv", "precision", "fields", "deflate", "shuffle"])?;
     let file = match node.child("file") {
         Some(f) => Some(PathBuf::from(f.node().str()?)),
         None => None,
@@ -428,9 +452,48 @@ pub(super) fn output(node: Node) -> Result<OutputSpec, ProfileError> {
             .choice(&[(Precision::Double, "double"), (Precision::Single, "single")])?,
         None => Precision::Double,
     };
+    let fields = match node.child("fields") {
+        None => None,
+        Some(list) => {
+            let list = list.node();
+            let mut names: Vec<String> = Vec::new();
+            for item in list.array()? {
+                let item = item.node();
+                let name = item.str()?;
+                if names.iter().any(|n| n == name) {
+                    return Err(item.error(format!("`{name}` is listed twice")));
+                }
+                names.push(name.to_string());
+            }
+            if names.is_empty() {
+                return Err(list.error("list at least one field (or leave output.fields out)"));
+            }
+            Some(names)
+        }
+    };
+    let deflate = match node.child("deflate") {
+        None => None,
+        Some(d) => {
+            let d = d.node();
+            match d.positive_int()? {
+                n @ 1..=9 => Some(n as u8),
+                n => return Err(d.error(format!("the deflate level is 1 to 9, not {n}"))),
+            }
+        }
+    };
+    let shuffle = match node.child("shuffle") {
+        Some(c) => c.node().bool()?,
+        None => false,
+    };
+    if shuffle && deflate.is_none() {
+        return Err(node
+            .error("shuffle only reorders bytes for compression: give deflate (1 to 9) with it"));
+    }
     Ok(OutputSpec {
         file,
         csv,
         precision,
+        fields,
+        filters: crate::output::Filters { deflate, shuffle },
     })
 }
