@@ -77,6 +77,11 @@ pub enum Command {
         /// files are identical byte for byte.
         #[arg(long)]
         reproducible: bool,
+        /// Print what the build would cost — cells, output bytes, peak
+        /// memory and expected time (calibrated by a short timed run of
+        /// the sampler and the writer) — and write nothing.
+        #[arg(long)]
+        estimate: bool,
         #[command(flatten)]
         stream: StreamArgs,
     },
@@ -121,9 +126,27 @@ pub enum Command {
         #[arg(long)]
         latex: bool,
     },
-    /// List the bundled profiles, a line each.
-    #[command(after_help = "Example:\n  stillpoint profiles")]
-    Profiles,
+    /// List the bundled profiles, a line each; with a NAME, print that
+    /// profile's JSON (save it, edit it, build it).
+    #[command(
+        after_help = "Examples:\n  stillpoint profiles\n  stillpoint profiles powerlaw-disk > my-disk.json"
+    )]
+    Profiles {
+        /// A bundled profile whose JSON to print.
+        name: Option<String>,
+    },
+    /// Print a shell completion script for SHELL on stdout.
+    #[command(
+        after_help = "Examples:\n  stillpoint completions bash > ~/.local/share/bash-completion/completions/stillpoint\n  stillpoint completions zsh > ~/.zfunc/_stillpoint"
+    )]
+    Completions {
+        /// The shell.
+        #[arg(value_enum)]
+        shell: clap_complete::Shell,
+    },
+    /// Print the manual page (roff) on stdout.
+    #[command(after_help = "Example:\n  stillpoint manual > stillpoint.1 && man ./stillpoint.1")]
+    Manual,
 }
 
 /// How a build uses the machine. Neither changes a single value in the
@@ -173,9 +196,16 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             csv,
             force,
             reproducible,
+            estimate,
             stream,
         } => {
-            let run = || build(&common, output, csv, force, reproducible, &stream, argv);
+            let flags = BuildFlags {
+                csv,
+                force,
+                reproducible,
+                estimate,
+            };
+            let run = || build(&common, output, &flags, &stream, argv);
             match stream.threads {
                 None => run(),
                 Some(n) => rayon::ThreadPoolBuilder::new()
@@ -188,7 +218,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
         Command::Check { common, tolerance } => {
             let loaded = common.load()?;
             let (bg, domain) = pipeline::solve_unverified(&loaded)?;
-            let centres = pipeline::centres_for(&loaded.grid);
+            let centres = pipeline::centres_for(&loaded.grid, loaded.model.shape.frame());
             let report = check::run(&loaded.model, &bg, &domain, &centres, tolerance)
                 .map_err(|e| Error::closure(&loaded, e))?;
             say!("{} ({})", loaded.model.name, loaded.source);
@@ -276,10 +306,42 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             }
             Ok(Outcome::Ok)
         }
-        Command::Profiles => {
+        Command::Profiles { name: None } => {
             for (name, text) in bundled::BUNDLED {
                 say!("{name:<24} {}", bundled::about(text));
             }
+            Ok(Outcome::Ok)
+        }
+        Command::Profiles { name: Some(name) } => match bundled::find(&name) {
+            Some(text) => {
+                say_raw!("{text}");
+                Ok(Outcome::Ok)
+            }
+            None => {
+                let names: Vec<&str> = bundled::BUNDLED.iter().map(|(n, _)| *n).collect();
+                let hint = profile::closest(&name, &names)
+                    .map(|n| format!(" (did you mean `{n}`?)"))
+                    .unwrap_or_default();
+                Err(Error::Usage(format!(
+                    "`{name}` is not a bundled profile{hint}; they are {}",
+                    names.join(", ")
+                )))
+            }
+        },
+        Command::Completions { shell } => {
+            let mut cmd = <Cli as clap::CommandFactory>::command();
+            let mut out = Vec::new();
+            clap_complete::generate(shell, &mut cmd, "stillpoint", &mut out);
+            say_raw!("{}", String::from_utf8_lossy(&out));
+            Ok(Outcome::Ok)
+        }
+        Command::Manual => {
+            let cmd = <Cli as clap::CommandFactory>::command();
+            let mut out = Vec::new();
+            clap_mangen::Man::new(cmd)
+                .render(&mut out)
+                .map_err(|e| Error::Usage(format!("manual: {e}")))?;
+            say_raw!("{}", String::from_utf8_lossy(&out));
             Ok(Outcome::Ok)
         }
     }
@@ -304,21 +366,54 @@ fn parse_list(loaded: &Loaded, list: &str) -> Result<Vec<f64>, Error> {
         .collect()
 }
 
-fn build(
-    common: &Common,
-    output: Option<PathBuf>,
+/// The switches of `build`.
+struct BuildFlags {
     csv: bool,
     force: bool,
     reproducible: bool,
+    estimate: bool,
+}
+
+fn build(
+    common: &Common,
+    output: Option<PathBuf>,
+    flags: &BuildFlags,
     stream: &StreamArgs,
     argv: &str,
 ) -> Result<Outcome, Error> {
+    let started = std::time::Instant::now();
+    let &BuildFlags {
+        csv,
+        force,
+        reproducible,
+        estimate,
+    } = flags;
     let loaded = common.load()?;
     let h5 = output
         .or_else(|| loaded.output.file.clone())
         .unwrap_or_else(|| PathBuf::from(format!("{}.h5", loaded.model.name)));
     let want_csv = csv || loaded.output.csv;
     let csv_path = want_csv.then(|| h5.with_extension("csv"));
+    let opts = pipeline::StreamOptions {
+        precision: loaded.output.precision,
+        slab_rows: stream.slab_rows.map(|n| n as usize),
+    };
+    let dir = crate::estimate::folder_of(&h5);
+    if estimate {
+        if !dir.is_dir() {
+            return Err(Error::Usage(format!(
+                "{}: the folder {} does not exist (create it first)",
+                h5.display(),
+                dir.display()
+            )));
+        }
+        return print_estimate(&loaded, &h5, &opts, reproducible, argv, started);
+    }
+    // Before anything is solved or written: would it fit?
+    if dir.is_dir() {
+        let plan = crate::estimate::Plan::new(&loaded, &opts, rayon::current_num_threads(), None);
+        crate::estimate::refuse_if_too_big(&plan, crate::estimate::resident(), &dir)?;
+    }
     for p in std::iter::once(&h5).chain(csv_path.as_ref()) {
         if p.exists() && !force {
             return Err(Error::Usage(format!(
@@ -333,10 +428,6 @@ fn build(
         ));
     }
     let built = pipeline::build(&loaded, argv, reproducible)?;
-    let opts = pipeline::StreamOptions {
-        precision: loaded.output.precision,
-        slab_rows: stream.slab_rows.map(|n| n as usize),
-    };
     let mut metadata = None;
     output::commit(&h5, force, |tmp| {
         metadata = Some(built.write_hdf5(tmp, &opts)?);
@@ -357,6 +448,32 @@ fn build(
         output::commit(c, force, |tmp| output::write_csv(&doc, tmp))?;
     }
     report_written(&loaded, &h5, csv_path.as_deref(), &metadata.cautions);
+    Ok(Outcome::Ok)
+}
+
+/// `build --estimate`: solve, then measure (see [`crate::estimate`]); the
+/// build is refused as `build` would refuse it, and nothing is written.
+fn print_estimate(
+    loaded: &Loaded,
+    h5: &Path,
+    opts: &pipeline::StreamOptions,
+    reproducible: bool,
+    argv: &str,
+    started: std::time::Instant,
+) -> Result<Outcome, Error> {
+    let built = pipeline::build(loaded, argv, reproducible)?;
+    let est = crate::estimate::estimate(&built, loaded, h5, opts, started.elapsed())?;
+    say!(
+        "{} ({}): estimate for {}",
+        loaded.model.name,
+        loaded.source,
+        h5.display()
+    );
+    say!("{est}");
+    if h5.exists() {
+        say!("note: {} exists; the build needs --force", h5.display());
+    }
+    crate::estimate::refuse_if_too_big(&est.plan, est.held, &crate::estimate::folder_of(h5))?;
     Ok(Outcome::Ok)
 }
 

@@ -23,6 +23,8 @@
 //! * [`check`], [`table`] — the symbolic balance check and rotation tables.
 //! * [`stability`] — Schwarzschild and Rayleigh criteria from exact derivatives.
 //! * [`profile`] — the JSON profile schema with exact error paths.
+//! * [`estimate`] — what a build will cost, and the refusal of one that
+//!   would not fit.
 //! * [`cli`] — the command line (the binary is a thin shell around it).
 #![deny(clippy::float_cmp)]
 
@@ -30,6 +32,7 @@ pub mod background;
 pub mod check;
 pub mod cli;
 pub mod closure;
+pub mod estimate;
 pub mod fields;
 pub mod formula;
 pub mod grid;

@@ -57,6 +57,20 @@ pub struct Law {
     pub origin: String,
 }
 
+/// A barotropic gas, P = K ρ^Γ (`gas.barotropic`): closures read P and c² =
+/// P/ρ = K ρ^(Γ−1) from ρ, and the enthalpy h = Γ K ρ^(Γ−1)/(Γ−1).
+#[derive(Clone, Debug, PartialEq)]
+pub struct Barotrope {
+    /// K, as written (a formula of parameters).
+    pub constant: Expr,
+    /// Γ, as written.
+    pub exponent: Expr,
+    /// The value of Γ (> 1).
+    pub exponent_value: f64,
+    /// Where it was written (`gas.barotropic`).
+    pub origin: String,
+}
+
 /// The resolved problem.
 #[derive(Clone, Debug)]
 pub struct Model {
@@ -79,6 +93,9 @@ pub struct Model {
     /// Given squared isothermal sound speed c² (a temperature law is already
     /// converted: c² = k_B T / (μ m_u)).
     pub sound_speed_sq: Option<Law>,
+    /// A barotropic gas law P = K ρ^Γ, when given (never beside a sound
+    /// speed or a temperature).
+    pub barotrope: Option<Barotrope>,
     /// Given rotation law v_φ.
     pub rotation: Option<Law>,
     /// Given pressure law (audits only).

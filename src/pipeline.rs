@@ -7,10 +7,10 @@
 
 use std::path::Path;
 
-use crate::background::{Background, Shape};
+use crate::background::{Background, Frame, Shape};
 use crate::closure::{self, show, ClosureError, Domain, Solved};
 use crate::fields::{slab_ranges, FieldSet, FieldSpec, Slab};
-use crate::grid::{Coord, Grid, Layout};
+use crate::grid::{Grid, Layout};
 use crate::keys::Keyed;
 use crate::output::{GroupPlan, H5Stream, Metadata, OutputError, Precision};
 use crate::perturb::report::Peaks;
@@ -49,6 +49,10 @@ pub enum Error {
     /// Anything else the user got wrong on the command line.
     #[error("{0}")]
     Usage(String),
+    /// A build that would not fit on the disk or in memory, refused before
+    /// it starts (see [`crate::estimate`]).
+    #[error("{0}")]
+    Refused(String),
 }
 
 impl Error {
@@ -61,13 +65,15 @@ impl Error {
     }
 }
 
-/// The domain the background must cover for a grid: the range of the
-/// background coordinate, with the cell edges along it as knots.
-pub fn domain_for(grid: &Grid) -> Domain {
-    let (lo, hi) = grid.background_range();
-    let knots = match grid.layout() {
-        Layout::Line(_) | Layout::Polar => grid.axes()[0].edges.clone(),
-        _ => {
+/// The domain the background must cover for a grid holding a state of
+/// `frame`: the range of the frame's line coordinate, with the cell edges
+/// along it as knots.
+pub fn domain_for(grid: &Grid, frame: Frame) -> Domain {
+    let (lo, hi) = grid.background_range(frame);
+    let along = line_axis(grid, frame);
+    let knots = match along {
+        Some(a) => grid.axes()[a].edges.clone(),
+        None => {
             let n = 2 * grid.shape().iter().copied().max().unwrap_or(1);
             (0..=n)
                 .map(|i| lo + (hi - lo) * i as f64 / n as f64)
@@ -76,11 +82,7 @@ pub fn domain_for(grid: &Grid) -> Domain {
     };
     // The axis R = 0 (or the centre r = 0) may bound or cross the grid, but
     // no cell centre or Gauss point lies on it.
-    let axis_at_lo = lo <= 0.0
-        && matches!(
-            grid.layout(),
-            Layout::Cartesian | Layout::Line(Coord::R) | Layout::Line(Coord::Sph)
-        );
+    let axis_at_lo = lo <= 0.0 && frame != Frame::Slab;
     Domain {
         lo,
         hi,
@@ -89,24 +91,37 @@ pub fn domain_for(grid: &Grid) -> Domain {
     }
 }
 
-/// Cell centres along the background coordinate (for tables and the
-/// discrete imbalance): the first axis for lines and polar grids, the
-/// positive x centres for Cartesian grids.
-pub fn centres_for(grid: &Grid) -> Vec<f64> {
-    match grid.layout() {
-        Layout::Cartesian => grid.axes()[0]
+/// The grid axis that runs along the frame's line coordinate itself, if any
+/// (the slab axis, the r axis of a spherical grid holding a sphere, the R
+/// axis of a cylindrical grid holding a disk).
+fn line_axis(grid: &Grid, frame: Frame) -> Option<usize> {
+    match (frame, grid.layout()) {
+        (Frame::Slab, _) => Some(grid.slab_axis()),
+        (_, Layout::Line(_) | Layout::Polar | Layout::Meridional | Layout::Cylindrical) => Some(0),
+        (Frame::Spherical, Layout::SphericalMeridional | Layout::Spherical) => Some(0),
+        _ => None,
+    }
+}
+
+/// Cell centres along the frame's line coordinate (for tables and the
+/// discrete imbalance): the centres of the axis that runs along it, else
+/// the positive centres of the first axis (x on a Cartesian grid, r on a
+/// spherical grid holding a disk).
+pub fn centres_for(grid: &Grid, frame: Frame) -> Vec<f64> {
+    match line_axis(grid, frame) {
+        Some(a) => grid.axes()[a].centers(),
+        None => grid.axes()[0]
             .centers()
             .into_iter()
             .filter(|x| *x > 0.0)
             .collect(),
-        _ => grid.axes()[0].centers(),
     }
 }
 
 /// Solve the profile's closure over its grid, refusing a state that is no
 /// equilibrium somewhere (for `build`).
 pub fn solve(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
-    let domain = domain_for(&loaded.grid);
+    let domain = domain_for(&loaded.grid, loaded.model.shape.frame());
     let bg = closure::solve(&loaded.model, &domain).map_err(|e| Error::closure(loaded, e))?;
     Ok((bg, domain))
 }
@@ -115,7 +130,7 @@ pub fn solve(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
 /// is no equilibrium somewhere, so that `check` can report where and `table`
 /// can print the rows that exist.
 pub fn solve_unverified(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
-    let domain = domain_for(&loaded.grid);
+    let domain = domain_for(&loaded.grid, loaded.model.shape.frame());
     let bg =
         closure::solve_unverified(&loaded.model, &domain).map_err(|e| Error::closure(loaded, e))?;
     Ok((bg, domain))
@@ -142,6 +157,18 @@ pub struct StreamOptions {
 
 /// Field values held per slab when the slab size is not given, in bytes.
 pub const SLAB_BYTES: usize = 8 << 20;
+
+/// Rows of the first axis per slab for a grid of `shape` holding `fields`
+/// fields: the option, else about [`SLAB_BYTES`] a slab in whole chunk rows
+/// of the datasets, so that every chunk is written whole by one slab.
+pub fn slab_rows(shape: &[usize], fields: usize, opts: &StreamOptions) -> usize {
+    opts.slab_rows.unwrap_or_else(|| {
+        let row_bytes = 8 * fields * shape[1..].iter().product::<usize>();
+        let chunk = crate::output::chunk_shape(shape, 8)[0];
+        let fit = SLAB_BYTES / row_bytes.max(1);
+        (fit / chunk).max(1) * chunk
+    })
+}
 
 /// A solved background ready to be sampled and written: what `build` writes.
 pub struct Built<'a> {
@@ -212,7 +239,7 @@ impl Built<'_> {
     /// the other cautions of [`cautions`]).
     pub fn verify(&self) -> Result<Metadata, Error> {
         let loaded = self.loaded;
-        let centres = centres_for(&loaded.grid);
+        let centres = centres_for(&loaded.grid, loaded.model.shape.frame());
         let report = crate::check::run(
             &loaded.model,
             &self.background,
@@ -245,7 +272,8 @@ impl Built<'_> {
         &self.perturbations
     }
 
-    fn sample_error(&self, error: SampleError) -> Error {
+    /// A sampling error, labelled with the profile.
+    pub fn sample_error(&self, error: SampleError) -> Error {
         Error::Sample {
             source_label: self.loaded.source.clone(),
             error,
@@ -305,14 +333,7 @@ impl Built<'_> {
             )
         };
         let shape = grid.shape();
-        // About SLAB_BYTES a slab, in whole chunk rows of the datasets, so
-        // that every chunk is written whole by one slab.
-        let rows = opts.slab_rows.unwrap_or_else(|| {
-            let row_bytes = 8 * fields.len() * shape[1..].iter().product::<usize>();
-            let chunk = crate::output::chunk_shape(&shape, 8)[0];
-            let fit = SLAB_BYTES / row_bytes.max(1);
-            (fit / chunk).max(1) * chunk
-        });
+        let rows = slab_rows(&shape, fields.len(), opts);
         if rayon::current_num_threads() == 1 {
             // One thread: verify (a refused state stops before any work),
             // then sample and write in turn.

@@ -23,7 +23,7 @@ fn rel(a: f64, b: f64) -> f64 {
 
 fn verdict(l: &Loaded) -> Verdict {
     let (bg, domain) = pipeline::solve(l).unwrap();
-    let c = pipeline::centres_for(&l.grid);
+    let c = pipeline::centres_for(&l.grid, l.model.shape.frame());
     check::run(&l.model, &bg, &domain, &c, 1e-10)
         .unwrap()
         .verdict

@@ -56,7 +56,7 @@ pub(super) fn integral_form(
             .map(|t| t.eval(&[x]).abs())
             .fold(0.0f64, f64::max)
     };
-    let Some(kind) = closure::closure_for(model.shape, model.unknown)?.integrates else {
+    let Some(kind) = closure::closure_of(model)?.integrates else {
         return Err(ClosureError::Incomplete(
             "nothing to integrate: the closure integrates no quantity".into(),
         ));

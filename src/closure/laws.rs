@@ -182,7 +182,7 @@ impl Laws {
             // pressure law would be ignored, and the file would carry another.
             refuse(&m.pressure, "pressure", &why)?;
         }
-        let closure = super::table::closure_for(m.shape, m.unknown)?;
+        let closure = super::table::closure_of(m)?;
         for key in closure.requires {
             key.need(m, &why)?;
         }

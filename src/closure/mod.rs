@@ -9,6 +9,8 @@
 //! | disk | P | v_φ, ρ, P at anchor | ∂P/∂R = ρ(v_φ²/R − Φ_R) |
 //! | slab, sphere | P, ρ | c², P at anchor | ∂ln P/∂s = −Φ_s/c² |
 //! | slab, sphere | P | ρ, P at anchor | ∂P/∂s = −ρΦ_s |
+//! | slab, sphere | ρ, P | K, Γ (P = Kρ^Γ), ρ at anchor | h(ρ) + Φ = const, closed form |
+//! | disk | v_φ | ρ, K, Γ | v_φ² = R(Φ_R + P_R/ρ), P = Kρ^Γ |
 //! | any | — | every law | audit only (`check` reports the imbalance) |
 //!
 //! Owns: building the derived formulas and integrands (`laws`), the
@@ -18,6 +20,7 @@
 //! grid contains (`axis`). Does not own: grids, sampling, files or verdicts.
 
 pub mod axis;
+mod barotropic;
 mod domain;
 pub mod existence;
 pub mod integrate;
@@ -31,7 +34,7 @@ pub use domain::Domain;
 pub use laws::{derived_laws, DerivedLaw, Gradients, Laws, Parts};
 
 pub use solved::Solved;
-pub use table::{closure_for, Closure, Integrated, LawKey, CLOSURES};
+pub use table::{closure_for, closure_of, Closure, Gas, Integrated, LawKey, CLOSURES};
 
 use crate::background::Shape;
 use crate::formula::{FormulaError, Kernel, Program};
@@ -92,7 +95,7 @@ pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, Closur
         })?;
         // An anchor outside the grid is allowed: the integral runs to it
         // (and `pipeline::cautions` says so).
-        let Some(kind) = closure_for(model.shape, model.unknown)?.integrates else {
+        let Some(kind) = closure_of(model)?.integrates else {
             return Err(ClosureError::Incomplete(
                 "this closure has an integrand but integrates nothing".into(),
             ));

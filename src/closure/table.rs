@@ -123,6 +123,33 @@ impl Serves {
     }
 }
 
+/// Which gas an entry is for: the pressure free of the density (a sound
+/// speed given or none), or tied to it by a barotrope P = K ρ^Γ.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Gas {
+    /// No barotrope (c² given, or P found by integration).
+    Free,
+    /// `gas.barotropic`.
+    Barotropic,
+    /// Either (the audit).
+    Any,
+}
+
+impl Gas {
+    /// The gas of a model.
+    pub fn of(m: &Model) -> Gas {
+        if m.barotrope.is_some() {
+            Gas::Barotropic
+        } else {
+            Gas::Free
+        }
+    }
+
+    fn fits(self, gas: Gas) -> bool {
+        self == Gas::Any || self == gas
+    }
+}
+
 /// How an entry builds its formulas into `laws` (the shared ones are there
 /// already), listing what it derives for `derive`.
 pub type Build = fn(&Model, &Parts, &mut Laws, &mut Vec<DerivedLaw>) -> Result<(), ClosureError>;
@@ -133,6 +160,8 @@ pub struct Closure {
     pub serves: Serves,
     /// What it finds (`balance.solve_for`).
     pub unknown: Unknown,
+    /// The gas it is for.
+    pub gas: Gas,
     /// Laws the profile must give, in the order they are asked for.
     pub requires: &'static [LawKey],
     /// Laws the profile must not give.
@@ -149,6 +178,7 @@ pub static CLOSURES: &[Closure] = &[
     Closure {
         serves: Serves::Disk,
         unknown: Unknown::Rotation,
+        gas: Gas::Free,
         requires: &[LawKey::Density, LawKey::SoundSpeed],
         refuses: &[LawKey::Rotation],
         integrates: None,
@@ -157,6 +187,7 @@ pub static CLOSURES: &[Closure] = &[
     Closure {
         serves: Serves::Disk,
         unknown: Unknown::Density,
+        gas: Gas::Free,
         requires: &[LawKey::Rotation, LawKey::SoundSpeed],
         refuses: &[LawKey::Density],
         integrates: Some(Integrated::LogDensity),
@@ -165,6 +196,7 @@ pub static CLOSURES: &[Closure] = &[
     Closure {
         serves: Serves::Disk,
         unknown: Unknown::Pressure,
+        gas: Gas::Free,
         requires: &[LawKey::Rotation, LawKey::Density],
         refuses: &[LawKey::SoundSpeed],
         integrates: Some(Integrated::Pressure),
@@ -173,6 +205,7 @@ pub static CLOSURES: &[Closure] = &[
     Closure {
         serves: Serves::Hydrostatic,
         unknown: Unknown::Density,
+        gas: Gas::Free,
         requires: &[LawKey::SoundSpeed],
         refuses: &[LawKey::Density],
         integrates: Some(Integrated::LogPressure),
@@ -181,14 +214,34 @@ pub static CLOSURES: &[Closure] = &[
     Closure {
         serves: Serves::Hydrostatic,
         unknown: Unknown::Pressure,
+        gas: Gas::Free,
         requires: &[LawKey::Density],
         refuses: &[LawKey::SoundSpeed],
         integrates: Some(Integrated::Pressure),
         build: hydrostatic_pressure,
     },
     Closure {
+        serves: Serves::Hydrostatic,
+        unknown: Unknown::Density,
+        gas: Gas::Barotropic,
+        requires: &[],
+        refuses: &[LawKey::Density],
+        integrates: None,
+        build: super::barotropic::hydrostatic_density,
+    },
+    Closure {
+        serves: Serves::Disk,
+        unknown: Unknown::Rotation,
+        gas: Gas::Barotropic,
+        requires: &[LawKey::Density],
+        refuses: &[LawKey::Rotation],
+        integrates: None,
+        build: super::barotropic::disk_rotation,
+    },
+    Closure {
         serves: Serves::Any,
         unknown: Unknown::Nothing,
+        gas: Gas::Any,
         requires: &[],
         refuses: &[],
         integrates: None,
@@ -196,16 +249,33 @@ pub static CLOSURES: &[Closure] = &[
     },
 ];
 
-/// The entry for a balance and an unknown, or an error saying there is none.
-pub fn closure_for(shape: Shape, unknown: Unknown) -> Result<&'static Closure, ClosureError> {
+/// The entry for a balance, an unknown and a gas, or an error saying there
+/// is none.
+pub fn closure_for(
+    shape: Shape,
+    unknown: Unknown,
+    gas: Gas,
+) -> Result<&'static Closure, ClosureError> {
     CLOSURES
         .iter()
-        .find(|c| c.unknown == unknown && c.serves.serves(shape))
+        .find(|c| c.unknown == unknown && c.serves.serves(shape) && c.gas.fits(gas))
         .ok_or_else(|| {
-            ClosureError::Incomplete(
-                "balance.solve_for: a slab or a sphere has no rotation to solve for".into(),
-            )
+            ClosureError::Incomplete(if gas == Gas::Barotropic && unknown != Unknown::Rotation {
+                "balance.solve_for: gas.barotropic ties P = K rho^Gamma to the density, so \
+                 solve for density (a slab or a sphere), rotation (a disk with a density law) \
+                 or nothing (an audit)"
+                    .into()
+            } else if gas == Gas::Barotropic && shape == Shape::DiskMidplane {
+                "balance.solve_for: a barotropic disk is solved for rotation".into()
+            } else {
+                "balance.solve_for: a slab or a sphere has no rotation to solve for".into()
+            })
         })
+}
+
+/// The entry of a model.
+pub fn closure_of(m: &Model) -> Result<&'static Closure, ClosureError> {
+    closure_for(m.shape, m.unknown, Gas::of(m))
 }
 
 /// Disk, ρ and c² given: v_φ² = R (∂Φ/∂R + (1/ρ) ∂P/∂R), P = ρc².
@@ -215,14 +285,27 @@ fn disk_rotation(
     laws: &mut Laws,
     derived: &mut Vec<DerivedLaw>,
 ) -> Result<(), ClosureError> {
-    let (s, why) = (k.s, k.why);
+    let why = k.why;
     let rho = LawKey::Density.need(m, why)?;
     let c2 = LawKey::SoundSpeed.need(m, why)?;
     let p = (rho.clone() * c2).simplify();
+    derived.push(DerivedLaw::new("P", p.clone(), "P = rho c^2"));
+    rotation_from_pressure(k, laws, derived, &rho, &p);
+    Ok(())
+}
+
+/// v_φ² = R (∂Φ/∂R + (1/ρ) ∂P/∂R) for a disk whose ρ and P are closed form.
+pub(super) fn rotation_from_pressure(
+    k: &Parts,
+    laws: &mut Laws,
+    derived: &mut Vec<DerivedLaw>,
+    rho: &Expr,
+    p: &Expr,
+) {
+    let s = k.s;
     let p_r = p.diff(s);
     let grad = p_r.distribute(&(Expr::num(1.0) / rho.clone()));
     let v2 = (k.phi_s.clone() + grad).distribute(k.r);
-    derived.push(DerivedLaw::new("P", p.clone(), "P = rho c^2"));
     derived.push(DerivedLaw::new(format!("dP/d{s}"), p_r, "exact derivative"));
     derived.push(DerivedLaw::new(
         "v_phi^2",
@@ -230,10 +313,9 @@ fn disk_rotation(
         format!("v_phi^2 = {s} (dPhi/d{s} + (1/rho) dP/d{s})"),
     ));
     laws.watched.push(("pressure".into(), p.clone()));
-    laws.density = Some(rho);
-    laws.pressure = Some(p);
+    laws.density = Some(rho.clone());
+    laws.pressure = Some(p.clone());
     laws.rotation_sq = Some(v2);
-    Ok(())
 }
 
 /// Disk, v_φ and c² given: ∂ln ρ/∂R = (v_φ²/R − Φ_R − ∂c²/∂R)/c².
@@ -336,13 +418,17 @@ fn audit(
 ) -> Result<(), ClosureError> {
     let s = k.s;
     let rho = LawKey::Density.need(m, "auditing a set of laws")?;
-    let p = match (&m.pressure, &m.sound_speed_sq) {
-        (Some(p), None) => p.expr.clone(),
-        (None, Some(c2)) => (rho.clone() * c2.expr.clone()).simplify(),
+    let p = match (&m.pressure, &m.sound_speed_sq, &m.barotrope) {
+        (Some(p), None, None) => p.expr.clone(),
+        (None, Some(c2), None) => (rho.clone() * c2.expr.clone()).simplify(),
+        (None, None, Some(b)) => {
+            laws.sound_speed_sq = Some(b.sound_speed_sq(&rho));
+            b.pressure(&rho)
+        }
         _ => {
             return Err(ClosureError::Incomplete(
-                "auditing needs exactly one of balance.pressure and a sound speed \
-                 (gas.sound_speed_sq or gas.temperature)"
+                "auditing needs exactly one of balance.pressure, a sound speed \
+                 (gas.sound_speed_sq or gas.temperature) and gas.barotropic"
                     .into(),
             ))
         }
@@ -374,15 +460,30 @@ mod tests {
             for (unknown, _) in Unknown::KEYS {
                 let found: Vec<_> = CLOSURES
                     .iter()
-                    .filter(|c| c.unknown == *unknown && c.serves.serves(shape))
+                    .filter(|c| {
+                        c.unknown == *unknown && c.serves.serves(shape) && c.gas.fits(Gas::Free)
+                    })
                     .collect();
                 let expect =
                     usize::from(!(shape != Shape::DiskMidplane && *unknown == Unknown::Rotation));
                 assert_eq!(found.len(), expect, "{shape:?} {unknown:?}");
             }
         }
-        assert!(closure_for(Shape::Slab, Unknown::Rotation).is_err());
-        let c = closure_for(Shape::DiskMidplane, Unknown::Density).unwrap();
+        assert!(closure_for(Shape::Slab, Unknown::Rotation, Gas::Free).is_err());
+        let c = closure_for(Shape::DiskMidplane, Unknown::Density, Gas::Free).unwrap();
         assert_eq!(c.integrates, Some(Integrated::LogDensity));
+    }
+
+    #[test]
+    fn barotropic_entries_are_closed_forms() {
+        for shape in [Shape::Slab, Shape::Spherical] {
+            let c = closure_for(shape, Unknown::Density, Gas::Barotropic).unwrap();
+            assert_eq!(c.integrates, None);
+            assert!(closure_for(shape, Unknown::Pressure, Gas::Barotropic).is_err());
+        }
+        let c = closure_for(Shape::DiskMidplane, Unknown::Rotation, Gas::Barotropic).unwrap();
+        assert_eq!(c.integrates, None);
+        let c = closure_for(Shape::Slab, Unknown::Nothing, Gas::Barotropic).unwrap();
+        assert_eq!(c.gas, Gas::Any);
     }
 }

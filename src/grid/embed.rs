@@ -9,10 +9,16 @@
 //! | layout | frame | frame coordinates | grid components |
 //! |---|---|---|---|
 //! | `[z]` | slab | s = z | z |
-//! | `[r]` | spherical | r | r |
+//! | `[x, y]`, `[x, z]`, `[x, y, z]` | slab | s = the slab axis | the grid's axes |
+//! | `[r]`, `[r, theta]`, `[r, theta, phi]` | spherical | r | r (theta, phi) |
+//! | `[x, y]`, `[x, z]`, `[x, y, z]` | spherical | r = \|x\| | the grid's axes |
 //! | `[R]` | axisymmetric | (R, 0) | R, phi |
 //! | `[R, phi]` | axisymmetric | (R, 0) | R, phi |
 //! | `[x, y]` | axisymmetric | (√(x² + y²), 0) | x, y |
+//! | `[R, z]` | axisymmetric | (R, z) | R, z, phi |
+//! | `[R, phi, z]` | axisymmetric | (R, z) | R, phi, z |
+//! | `[r, theta]`, `[r, theta, phi]` | axisymmetric | (r sin θ, r cos θ) | r, theta, phi |
+//! | `[x, y, z]` | axisymmetric | (√(x² + y²), z) | x, y, z |
 
 use super::{Coord, Grid, Layout};
 use crate::background::Frame;
@@ -23,25 +29,37 @@ pub struct Embedding {
     layout: Layout,
     frame: Frame,
     components: Vec<Coord>,
+    slab_axis: usize,
 }
 
 impl Grid {
     /// The grid placed in `frame`, or None when the frame cannot be sampled
     /// on this layout (a slab on an R line, say).
     pub fn embedding(&self, frame: Frame) -> Option<Embedding> {
-        let fits = matches!(
-            (self.layout(), frame),
-            (Layout::Line(Coord::Z), Frame::Slab)
-                | (Layout::Line(Coord::Sph), Frame::Spherical)
-                | (
-                    Layout::Line(Coord::R) | Layout::Polar | Layout::Cartesian,
-                    Frame::Axisymmetric
-                )
-        );
+        use Layout::*;
+        let fits = match frame {
+            Frame::Slab => matches!(self.layout(), Line(Coord::Z) | Cartesian | Section | Box),
+            Frame::Spherical => matches!(
+                self.layout(),
+                Line(Coord::Sph) | SphericalMeridional | Spherical | Cartesian | Section | Box
+            ),
+            Frame::Axisymmetric => matches!(
+                self.layout(),
+                Line(Coord::R)
+                    | Polar
+                    | Cartesian
+                    | Meridional
+                    | SphericalMeridional
+                    | Cylindrical
+                    | Spherical
+                    | Box
+            ),
+        };
         fits.then(|| Embedding {
             layout: self.layout(),
             frame,
             components: self.velocity_components(),
+            slab_axis: self.slab_axis(),
         })
     }
 }
@@ -60,17 +78,39 @@ impl Embedding {
     /// For each grid axis, whether the state seen on the grid can vary along
     /// it, given which frame coordinates the background depends on. Along an
     /// axis that is not active every value is the same (φ on a polar grid
-    /// holding an axisymmetric state), so a sampler computes it once and
-    /// broadcasts it.
+    /// holding an axisymmetric state, x and y in a box holding a slab along
+    /// z), so a sampler computes it once and broadcasts it.
     pub fn active_axes(&self, depends: [bool; 2]) -> Vec<bool> {
-        match self.layout {
-            Layout::Line(_) => vec![true],
+        use Layout::*;
+        let nd = self.axis_count();
+        match (self.frame, self.layout) {
+            (_, Line(_)) => vec![true],
+            (Frame::Slab, _) => (0..nd).map(|a| a == self.slab_axis).collect(),
+            // r alone: angles are broadcast (the state is at rest).
+            (Frame::Spherical, SphericalMeridional | Spherical) => {
+                (0..nd).map(|a| a == 0).collect()
+            }
+            (Frame::Spherical, _) => vec![true; nd],
             // (v_R, v_φ) are the polar components themselves: nothing
             // depends on φ.
-            Layout::Polar => vec![depends[0], false],
+            (_, Polar) => vec![depends[0], false],
+            (_, Meridional) => vec![depends[0], depends[1]],
+            (_, Cylindrical) => vec![depends[0], false, depends[1]],
+            // r and θ both move R, z and the rotation of (e_R, e_z).
+            (_, SphericalMeridional) => vec![true, true],
+            (_, Spherical) => vec![true, true, false],
             // Every cell has its own R, and the rotation of e_φ into (x, y)
             // depends on both.
-            Layout::Cartesian => vec![true, true],
+            (_, Box) => vec![true, true, depends[1]],
+            _ => vec![true; nd],
+        }
+    }
+
+    fn axis_count(&self) -> usize {
+        match self.layout {
+            Layout::Line(_) => 1,
+            Layout::Cylindrical | Layout::Spherical | Layout::Box => 3,
+            _ => 2,
         }
     }
 
@@ -78,11 +118,31 @@ impl Embedding {
     /// (`grid[a]` the coordinate along axis `a`, each of length ≥ n),
     /// written into `out[k][..n]` for each frame coordinate k.
     pub fn to_frame(&self, grid: &[&[f64]], n: usize, out: &mut [Vec<f64>]) {
-        match self.layout {
-            Layout::Line(_) | Layout::Polar => {
-                out[0][..n].copy_from_slice(&grid[0][..n]);
+        use Layout::*;
+        let copy = |out: &mut Vec<f64>, from: &[f64]| out[..n].copy_from_slice(&from[..n]);
+        match (self.frame, self.layout) {
+            (_, Line(_)) => copy(&mut out[0], grid[0]),
+            (Frame::Slab, _) => copy(&mut out[0], grid[self.slab_axis]),
+            (Frame::Spherical, SphericalMeridional | Spherical) => copy(&mut out[0], grid[0]),
+            (Frame::Spherical, _) => {
+                for i in 0..n {
+                    let mut r = 0.0f64;
+                    for g in grid {
+                        r = r.hypot(g[i]);
+                    }
+                    out[0][i] = r;
+                }
             }
-            Layout::Cartesian => {
+            (_, Polar | Meridional | Cylindrical) => copy(&mut out[0], grid[0]),
+            (_, SphericalMeridional | Spherical) => {
+                let (r, t) = (&grid[0][..n], &grid[1][..n]);
+                for i in 0..n {
+                    let (s, c) = t[i].sin_cos();
+                    out[0][i] = r[i] * s;
+                    out[1][i] = r[i] * c;
+                }
+            }
+            _ => {
                 let (x, y) = (&grid[0][..n], &grid[1][..n]);
                 for ((r, x), y) in out[0][..n].iter_mut().zip(x).zip(y) {
                     *r = (x * x + y * y).sqrt();
@@ -90,7 +150,12 @@ impl Embedding {
             }
         }
         if self.frame == Frame::Axisymmetric {
-            out[1][..n].fill(0.0);
+            match self.layout {
+                Meridional => copy(&mut out[1], grid[1]),
+                Cylindrical | Box => copy(&mut out[1], grid[2]),
+                SphericalMeridional | Spherical => {}
+                _ => out[1][..n].fill(0.0),
+            }
         }
     }
 
@@ -99,7 +164,8 @@ impl Embedding {
     /// frame coordinates (from [`Embedding::to_frame`]), written into
     /// `out[c][..n]` for each component of [`Embedding::components`]. On a
     /// Cartesian grid e_R = (x, y)/R and e_φ = (−y, x)/R, both taken as zero
-    /// on the axis R = 0.
+    /// on the axis R = 0 (and e_r = x/|x| zero at the centre); on a
+    /// spherical grid e_R = sin θ e_r + cos θ e_θ, e_z = cos θ e_r − sin θ e_θ.
     pub fn project(
         &self,
         grid: &[&[f64]],
@@ -108,12 +174,49 @@ impl Embedding {
         n: usize,
         out: &mut [Vec<f64>],
     ) {
-        match (self.layout, self.frame) {
-            (Layout::Line(Coord::R) | Layout::Polar, _) => {
+        use Layout::*;
+        let nc = self.components.len();
+        match (self.frame, self.layout) {
+            (Frame::Slab, _) => {
+                for (c, o) in out[..nc].iter_mut().enumerate() {
+                    if c == self.slab_axis {
+                        o[..n].copy_from_slice(&v[0][..n]);
+                    } else {
+                        o[..n].fill(0.0);
+                    }
+                }
+            }
+            (Frame::Spherical, Line(_) | SphericalMeridional | Spherical) => {
+                for (c, o) in out[..nc].iter_mut().enumerate() {
+                    o[..n].copy_from_slice(&v[c][..n]);
+                }
+            }
+            (Frame::Spherical, _) => self.project_spherical_cartesian(grid, frame, v, n, out),
+            (_, Line(Coord::R) | Polar) => {
                 out[0][..n].copy_from_slice(&v[0][..n]);
                 out[1][..n].copy_from_slice(&v[1][..n]);
             }
-            (Layout::Cartesian, _) => {
+            (_, Meridional) => {
+                out[0][..n].copy_from_slice(&v[0][..n]);
+                out[1][..n].copy_from_slice(&v[2][..n]);
+                out[2][..n].copy_from_slice(&v[1][..n]);
+            }
+            (_, Cylindrical) => {
+                for (c, o) in out[..3].iter_mut().enumerate() {
+                    o[..n].copy_from_slice(&v[c][..n]);
+                }
+            }
+            (_, SphericalMeridional | Spherical) => {
+                let t = &grid[1][..n];
+                for i in 0..n {
+                    let (s, c) = t[i].sin_cos();
+                    let (vr, vp, vz) = (v[0][i], v[1][i], v[2][i]);
+                    out[0][i] = vr * s + vz * c;
+                    out[1][i] = vr * c - vz * s;
+                    out[2][i] = vp;
+                }
+            }
+            _ => {
                 let (x, y, rr) = (&grid[0][..n], &grid[1][..n], &frame[0][..n]);
                 for i in 0..n {
                     let r = rr[i];
@@ -126,8 +229,60 @@ impl Embedding {
                     out[0][i] = vr * c + vp * -s;
                     out[1][i] = vr * s + vp * c;
                 }
+                if self.layout == Box {
+                    out[2][..n].copy_from_slice(&v[2][..n]);
+                }
             }
-            _ => out[0][..n].copy_from_slice(&v[0][..n]),
+        }
+    }
+
+    /// A spherical frame's (e_r, e_θ, e_φ) vectors on a Cartesian grid: the
+    /// grid's axes are a subset of (x, y, z), the missing ones at 0.
+    fn project_spherical_cartesian(
+        &self,
+        grid: &[&[f64]],
+        frame: &[&[f64]],
+        v: &[Vec<f64>; 3],
+        n: usize,
+        out: &mut [Vec<f64>],
+    ) {
+        let at = |c: Coord, i: usize| {
+            self.components
+                .iter()
+                .position(|k| *k == c)
+                .map_or(0.0, |a| grid[a][i])
+        };
+        for i in 0..n {
+            let (x, y, z, r) = (
+                at(Coord::X, i),
+                at(Coord::Y, i),
+                at(Coord::Z, i),
+                frame[0][i],
+            );
+            let rc = x.hypot(y);
+            let (er, et, ep) = if r > 0.0 {
+                let (st, ct) = (rc / r, z / r);
+                let (cp, sp) = if rc > 0.0 {
+                    (x / rc, y / rc)
+                } else {
+                    (1.0, 0.0)
+                };
+                (
+                    [x / r, y / r, z / r],
+                    [ct * cp, ct * sp, -st],
+                    [-sp, cp, 0.0],
+                )
+            } else {
+                ([0.0; 3], [0.0; 3], [0.0; 3])
+            };
+            for (c, k) in self.components.iter().enumerate() {
+                let j = match k {
+                    Coord::X => 0,
+                    Coord::Y => 1,
+                    _ => 2,
+                };
+                out[c][i] = v[0][i] * er[j] + v[1][i] * et[j] + v[2][i] * ep[j];
+            }
         }
     }
 }
@@ -158,7 +313,145 @@ mod tests {
         assert!((out[0][0] + 0.8).abs() < 1e-15 && (out[1][0] - 0.6).abs() < 1e-15);
         assert!(out[0][1].abs() < 1e-300 && out[1][1].abs() < 1e-300);
         assert_eq!(e.active_axes([true, false]), vec![true, true]);
-        assert!(g.embedding(Frame::Slab).is_none());
+        // Issue 7 lets a slab stand in a Cartesian box (along y here, the
+        // last axis); a polar grid still cannot hold one.
+        assert_eq!(
+            g.embedding(Frame::Slab).unwrap().active_axes([true, false]),
+            vec![false, true]
+        );
+        let r = Axis::uniform(Coord::R, 1.0, 2.0, 3).unwrap();
+        let phi = Axis::uniform(Coord::Phi, 0.0, 1.0, 4).unwrap();
+        assert!(Grid::new(vec![r, phi])
+            .unwrap()
+            .embedding(Frame::Slab)
+            .is_none());
+    }
+
+    fn project_one(g: &Grid, frame: Frame, point: &[f64], v: [f64; 3]) -> (Vec<f64>, Vec<f64>) {
+        let e = g.embedding(frame).unwrap();
+        let cols: Vec<Vec<f64>> = point.iter().map(|x| vec![*x]).collect();
+        let grid: Vec<&[f64]> = cols.iter().map(|c| &c[..]).collect();
+        let mut f = vec![vec![0.0], vec![0.0]];
+        e.to_frame(&grid, 1, &mut f);
+        let fr: Vec<&[f64]> = f.iter().map(|v| &v[..]).collect();
+        let v = [vec![v[0]], vec![v[1]], vec![v[2]]];
+        let mut out = vec![vec![0.0]; e.components().len()];
+        e.project(&grid, &fr, &v, 1, &mut out);
+        (
+            f.iter().map(|c| c[0]).collect(),
+            out.iter().map(|c| c[0]).collect(),
+        )
+    }
+
+    fn close(a: &[f64], b: &[f64]) -> bool {
+        a.len() == b.len() && a.iter().zip(b).all(|(a, b)| (a - b).abs() < 1e-14)
+    }
+
+    #[test]
+    fn three_dimensional_embeddings() {
+        let ax = |c, a, b| Axis::uniform(c, a, b, 2).unwrap();
+        let pi = std::f64::consts::PI;
+        // Spherical grid holding a disk: R = r sin θ, z = r cos θ, and
+        // (v_R, v_φ, v_z) = (1, 2, 3) at θ = π/6 gives v_r = sin θ + 3 cos θ,
+        // v_θ = cos θ − 3 sin θ (the spherical unit vectors, e.g. Arfken &
+        // Weber, Mathematical Methods for Physicists, §2.5).
+        let sph = Grid::new(vec![
+            ax(Coord::Sph, 1.0, 3.0),
+            ax(Coord::Theta, 0.0, pi),
+            ax(Coord::Phi, 0.0, 1.0),
+        ])
+        .unwrap();
+        let t = pi / 6.0;
+        let (f, v) = project_one(&sph, Frame::Axisymmetric, &[2.0, t, 0.3], [1.0, 2.0, 3.0]);
+        assert!(close(&f, &[2.0 * t.sin(), 2.0 * t.cos()]), "{f:?}");
+        assert!(
+            close(&v, &[t.sin() + 3.0 * t.cos(), t.cos() - 3.0 * t.sin(), 2.0]),
+            "{v:?}"
+        );
+        assert_eq!(
+            sph.embedding(Frame::Axisymmetric)
+                .unwrap()
+                .active_axes([true, true]),
+            vec![true, true, false]
+        );
+        assert_eq!(
+            sph.embedding(Frame::Spherical)
+                .unwrap()
+                .active_axes([true, false]),
+            vec![true, false, false]
+        );
+        // Cartesian box holding a disk: e_φ = (−y, x, 0)/R, e_z = e_z.
+        let boxed = Grid::new(vec![
+            ax(Coord::X, -1.0, 1.0),
+            ax(Coord::Y, -1.0, 1.0),
+            ax(Coord::Z, -1.0, 1.0),
+        ])
+        .unwrap();
+        let (f, v) = project_one(
+            &boxed,
+            Frame::Axisymmetric,
+            &[3.0, 4.0, -0.5],
+            [0.0, 1.0, 2.0],
+        );
+        assert!(
+            close(&f, &[5.0, -0.5]) && close(&v, &[-0.8, 0.6, 2.0]),
+            "{f:?} {v:?}"
+        );
+        assert_eq!(
+            boxed
+                .embedding(Frame::Axisymmetric)
+                .unwrap()
+                .active_axes([true, false]),
+            vec![true, true, false]
+        );
+        // A sphere in the box: r = |x|, v_r e_r = (x, y, z)/r.
+        let (f, v) = project_one(&boxed, Frame::Spherical, &[1.0, 2.0, 2.0], [3.0, 0.0, 0.0]);
+        assert!(
+            close(&f[..1], &[3.0]) && close(&v, &[1.0, 2.0, 2.0]),
+            "{f:?} {v:?}"
+        );
+        // A slab along y in the box.
+        let along_y = boxed.clone().stratified_along(Coord::Y).unwrap();
+        let (f, v) = project_one(&along_y, Frame::Slab, &[1.0, 2.0, 3.0], [5.0, 0.0, 0.0]);
+        assert!(
+            close(&f[..1], &[2.0]) && close(&v, &[0.0, 5.0, 0.0]),
+            "{f:?} {v:?}"
+        );
+        assert!(boxed.stratified_along(Coord::R).is_err());
+        // Meridional and cylindrical grids: (R, z) as they are; v_φ last on
+        // [R, z], in the middle on [R, phi, z].
+        let mer = Grid::new(vec![ax(Coord::R, 0.0, 2.0), ax(Coord::Z, -1.0, 1.0)]).unwrap();
+        let (f, v) = project_one(&mer, Frame::Axisymmetric, &[1.5, 0.25], [1.0, 2.0, 3.0]);
+        assert!(
+            close(&f, &[1.5, 0.25]) && close(&v, &[1.0, 3.0, 2.0]),
+            "{f:?} {v:?}"
+        );
+        assert_eq!(
+            mer.velocity_components(),
+            vec![Coord::R, Coord::Z, Coord::Phi]
+        );
+        let cyl = Grid::new(vec![
+            ax(Coord::R, 0.5, 2.0),
+            ax(Coord::Phi, 0.0, 1.0),
+            ax(Coord::Z, -1.0, 1.0),
+        ])
+        .unwrap();
+        let (f, v) = project_one(
+            &cyl,
+            Frame::Axisymmetric,
+            &[1.5, 0.3, 0.25],
+            [1.0, 2.0, 3.0],
+        );
+        assert!(
+            close(&f, &[1.5, 0.25]) && close(&v, &[1.0, 2.0, 3.0]),
+            "{f:?} {v:?}"
+        );
+        assert_eq!(
+            cyl.embedding(Frame::Axisymmetric)
+                .unwrap()
+                .active_axes([true, true]),
+            vec![true, false, true]
+        );
     }
 
     #[test]

@@ -6,20 +6,24 @@
 //! in the `axis` submodule. Does not own any sampling rule
 //! (see [`crate::sample`]) or physics: the grid never evaluates a background.
 //!
-//! Supported layouts today are the 1D lines `[R]`, `[z]`, `[r]`, the 2D polar
-//! disk `[R, phi]` and the 2D Cartesian disk `[x, y]`. Meridional `[R, z]`,
-//! 3D layouts and staggered (face) positions are meant to be added as new
-//! [`Layout`] variants and new methods; the enums are `#[non_exhaustive]`.
+//! Supported layouts: the 1D lines `[R]`, `[z]`, `[r]`; in 2D the polar disk
+//! `[R, phi]`, the Cartesian box `[x, y]`, its vertical section `[x, z]`, the
+//! meridional planes `[R, z]` (cylindrical) and `[r, theta]` (spherical); in
+//! 3D the cylindrical `[R, phi, z]`, spherical `[r, theta, phi]` and
+//! Cartesian `[x, y, z]` grids. Staggered (face) positions are meant to be
+//! added as new methods; the enums are `#[non_exhaustive]`.
 
 mod axis;
 mod embed;
 
-use std::f64::consts::PI;
+use std::f64::consts::{FRAC_PI_2, PI};
 
 use thiserror::Error;
 
 pub use axis::{Axis, Spacing};
 pub use embed::Embedding;
+
+use crate::background::Frame;
 
 /// A coordinate a grid axis can run along.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -37,20 +41,24 @@ pub enum Coord {
     Z,
     /// Spherical radius, named `r`.
     Sph,
+    /// Polar angle from the +z axis, named `theta`, in radians (0 to π).
+    Theta,
 }
 
 impl Coord {
     /// Every coordinate, in a fixed order.
-    pub const ALL: [Coord; 6] = [
+    pub const ALL: [Coord; 7] = [
         Coord::R,
         Coord::Phi,
         Coord::X,
         Coord::Y,
         Coord::Z,
         Coord::Sph,
+        Coord::Theta,
     ];
 
-    /// The name used in files and profiles: `R`, `phi`, `x`, `y`, `z`, `r`.
+    /// The name used in files and profiles: `R`, `phi`, `x`, `y`, `z`, `r`,
+    /// `theta`.
     pub fn name(self) -> &'static str {
         match self {
             Coord::R => "R",
@@ -59,6 +67,7 @@ impl Coord {
             Coord::Y => "y",
             Coord::Z => "z",
             Coord::Sph => "r",
+            Coord::Theta => "theta",
         }
     }
 
@@ -69,7 +78,7 @@ impl Coord {
 
     /// Whether the coordinate is an angle (in radians) rather than a length.
     pub fn is_angle(self) -> bool {
-        self == Coord::Phi
+        matches!(self, Coord::Phi | Coord::Theta)
     }
 }
 
@@ -161,7 +170,7 @@ pub enum GridError {
     },
     /// A combination of axes that is not a supported grid.
     #[error(
-        "unsupported grid layout [{}]; supported: [R], [z], [r], [R, phi], [x, y]",
+        "unsupported grid layout [{}]; supported: {SUPPORTED}",
         coords.iter().map(|c| c.name()).collect::<Vec<_>>().join(", ")
     )]
     Layout {
@@ -178,6 +187,10 @@ pub enum GridError {
     },
 }
 
+/// The layouts a grid may have, as written in error messages.
+pub const SUPPORTED: &str = "[R], [z], [r], [R, phi], [x, y], [x, z], [R, z], [r, theta], \
+                             [R, phi, z], [r, theta, phi], [x, y, z]";
+
 /// The arrangement of a grid's axes.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[non_exhaustive]
@@ -186,8 +199,29 @@ pub enum Layout {
     Line(Coord),
     /// `[R, phi]`: a 2D polar disk.
     Polar,
-    /// `[x, y]`: a 2D Cartesian box holding a disk.
+    /// `[x, y]`: a 2D Cartesian box (a disk's midplane, a slab along x or y,
+    /// a sphere's equatorial plane).
     Cartesian,
+    /// `[x, z]`: a 2D Cartesian section (a slab along x or z, a sphere's
+    /// meridional plane).
+    Section,
+    /// `[R, z]`: the meridional plane of an axisymmetric disk (cylindrical).
+    Meridional,
+    /// `[r, theta]`: the meridional plane in spherical coordinates.
+    SphericalMeridional,
+    /// `[R, phi, z]`: 3D cylindrical.
+    Cylindrical,
+    /// `[r, theta, phi]`: 3D spherical.
+    Spherical,
+    /// `[x, y, z]`: a 3D Cartesian box.
+    Box,
+}
+
+impl Layout {
+    /// Whether every axis is Cartesian (x, y or z).
+    pub fn is_cartesian(self) -> bool {
+        matches!(self, Layout::Cartesian | Layout::Section | Layout::Box)
+    }
 }
 
 /// A validated grid: axes in the order the arrays are stored (C order, the
@@ -196,6 +230,7 @@ pub enum Layout {
 pub struct Grid {
     axes: Vec<Axis>,
     layout: Layout,
+    slab_axis: usize,
 }
 
 impl Grid {
@@ -211,22 +246,43 @@ impl Grid {
             [c @ (Coord::R | Coord::Z | Coord::Sph)] => Layout::Line(*c),
             [Coord::R, Coord::Phi] => Layout::Polar,
             [Coord::X, Coord::Y] => Layout::Cartesian,
+            [Coord::X, Coord::Z] => Layout::Section,
+            [Coord::R, Coord::Z] => Layout::Meridional,
+            [Coord::Sph, Coord::Theta] => Layout::SphericalMeridional,
+            [Coord::R, Coord::Phi, Coord::Z] => Layout::Cylindrical,
+            [Coord::Sph, Coord::Theta, Coord::Phi] => Layout::Spherical,
+            [Coord::X, Coord::Y, Coord::Z] => Layout::Box,
             _ => return Err(GridError::Layout { coords }),
         };
         let domain = |coord, message: String| Err(GridError::Domain { coord, message });
         for axis in &axes {
             let (lo, hi) = axis.range();
             match (layout, axis.coord) {
-                (Layout::Line(_), Coord::R | Coord::Sph) if lo < 0.0 => {
+                (
+                    Layout::Line(_) | Layout::Meridional | Layout::SphericalMeridional,
+                    Coord::R | Coord::Sph,
+                ) if lo < 0.0 => {
                     return domain(axis.coord, format!("radii must be ≥ 0, first edge is {lo}"));
                 }
-                (Layout::Polar, Coord::R) if lo <= 0.0 => {
+                (
+                    Layout::Polar | Layout::Cylindrical | Layout::Spherical,
+                    Coord::R | Coord::Sph,
+                ) if lo <= 0.0 => {
                     return domain(
                         axis.coord,
-                        format!("a polar grid needs R > 0 (the axis R = 0 is singular), first edge is {lo}"),
+                        format!(
+                            "a grid with a phi axis needs {} > 0 (the axis is singular), first edge is {lo}",
+                            axis.coord
+                        ),
                     );
                 }
-                (Layout::Polar, Coord::Phi) if hi - lo > 2.0 * PI * (1.0 + 4.0 * f64::EPSILON) => {
+                (_, Coord::Theta) if lo < 0.0 || hi > PI * (1.0 + 4.0 * f64::EPSILON) => {
+                    return domain(
+                        axis.coord,
+                        format!("theta must lie in [0, π], found {lo} to {hi}"),
+                    );
+                }
+                (_, Coord::Phi) if hi - lo > 2.0 * PI * (1.0 + 4.0 * f64::EPSILON) => {
                     return domain(
                         axis.coord,
                         format!(
@@ -238,7 +294,45 @@ impl Grid {
                 _ => {}
             }
         }
-        Ok(Grid { axes, layout })
+        let slab_axis = coords
+            .iter()
+            .position(|c| *c == Coord::Z)
+            .unwrap_or(coords.len() - 1);
+        Ok(Grid {
+            axes,
+            layout,
+            slab_axis,
+        })
+    }
+
+    /// The same grid with a slab's layers stacked along `coord` (one of its
+    /// Cartesian axes). By default a slab is stratified along z when the
+    /// grid has a z axis, else along its last axis (y on `[x, y]`).
+    pub fn stratified_along(mut self, coord: Coord) -> Result<Grid, GridError> {
+        let found = self.axes.iter().position(|a| a.coord == coord);
+        match found {
+            Some(i) if matches!(coord, Coord::X | Coord::Y | Coord::Z) => {
+                self.slab_axis = i;
+                Ok(self)
+            }
+            _ => Err(GridError::Domain {
+                coord,
+                message: format!(
+                    "a slab can be stratified only along one of the grid's Cartesian axes ({})",
+                    self.axes
+                        .iter()
+                        .filter(|a| matches!(a.coord, Coord::X | Coord::Y | Coord::Z))
+                        .map(|a| a.coord.name())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            }),
+        }
+    }
+
+    /// The axis a slab is stratified along (see [`Grid::stratified_along`]).
+    pub fn slab_axis(&self) -> usize {
+        self.slab_axis
     }
 
     /// The axes, in storage order.
@@ -271,48 +365,69 @@ impl Grid {
     /// grid, and √(x² + y²) on a Cartesian grid.
     pub fn background_coordinate(&self, point: &[f64]) -> f64 {
         match self.layout {
-            Layout::Line(_) | Layout::Polar => point[0],
             Layout::Cartesian => point[0].hypot(point[1]),
+            _ => point[0],
         }
     }
 
-    /// The (min, max) of the background coordinate over the whole domain.
-    /// On a Cartesian box the minimum is the distance from the origin to the
-    /// nearest point of the box (0 if it contains the origin), the maximum
-    /// the distance to the farthest corner.
-    pub fn background_range(&self) -> (f64, f64) {
-        match self.layout {
-            Layout::Line(_) | Layout::Polar => self.axes[0].range(),
-            Layout::Cartesian => {
-                let nearest = |(lo, hi): (f64, f64)| if lo > 0.0 { lo } else { (-hi).max(0.0) };
-                let farthest = |(lo, hi): (f64, f64)| lo.abs().max(hi.abs());
-                let (x, y) = (self.axes[0].range(), self.axes[1].range());
-                (nearest(x).hypot(nearest(y)), farthest(x).hypot(farthest(y)))
+    /// The (min, max) of the frame's first coordinate (the line a closure
+    /// is solved along: s of a slab, r of a sphere, R of a disk) over the
+    /// whole domain. On a Cartesian box the minimum is the distance from the
+    /// origin (or the axis) to the nearest point of the box, 0 if it contains
+    /// it, the maximum the distance to the farthest corner; on a spherical
+    /// grid holding a disk R = r sin θ.
+    pub fn background_range(&self, frame: Frame) -> (f64, f64) {
+        let nearest = |(lo, hi): (f64, f64)| if lo > 0.0 { lo } else { (-hi).max(0.0) };
+        let farthest = |(lo, hi): (f64, f64)| lo.abs().max(hi.abs());
+        let norm = |axes: &[Axis]| {
+            let (mut n, mut f) = (0.0f64, 0.0f64);
+            for a in axes {
+                n = n.hypot(nearest(a.range()));
+                f = f.hypot(farthest(a.range()));
             }
+            (n, f)
+        };
+        match (frame, self.layout) {
+            (Frame::Slab, _) => self.axes[self.slab_axis].range(),
+            (Frame::Spherical, l) if l.is_cartesian() => norm(&self.axes),
+            (Frame::Axisymmetric, Layout::Cartesian | Layout::Box) => norm(&self.axes[..2]),
+            (Frame::Axisymmetric, Layout::SphericalMeridional | Layout::Spherical) => {
+                let (r0, r1) = self.axes[0].range();
+                let (t0, t1) = self.axes[1].range();
+                let lo = t0.sin().min(t1.sin()).max(0.0);
+                let hi = if (t0..=t1).contains(&FRAC_PI_2) {
+                    1.0
+                } else {
+                    t0.sin().max(t1.sin())
+                };
+                (r0 * lo, r1 * hi)
+            }
+            _ => self.axes[0].range(),
         }
     }
 
     /// The volume element J at a point (coordinates in axis order), such that
-    /// the volume of a cell is ∫ J d(axis 1) d(axis 2)…:
-    /// `[R]` → R (cylindrical shells per unit height and angle, R dR),
-    /// `[z]` → 1 (per unit area), `[r]` → r² (per unit solid angle),
-    /// `[R, phi]` → R (R dR dφ), `[x, y]` → 1.
+    /// the volume of a cell is ∫ J d(axis 1) d(axis 2)…: the product of the
+    /// per-axis factors of [`Grid::volume_factor`] (R dR on `[R]`, r² dr on
+    /// `[r]`, R dR dφ dz, r² sin θ dr dθ dφ, 1 on Cartesian axes).
     pub fn volume_element(&self, point: &[f64]) -> f64 {
-        match self.layout {
-            Layout::Line(Coord::Sph) => point[0] * point[0],
-            Layout::Line(Coord::R) | Layout::Polar => point[0],
-            _ => 1.0,
-        }
+        point
+            .iter()
+            .enumerate()
+            .map(|(a, x)| self.volume_factor(a, *x))
+            .product()
     }
 
     /// The factor of the volume element that belongs to axis `axis` at
     /// coordinate `x`: every layout's volume element is a product of one
-    /// factor per axis (R on the R axis of `[R]` and `[R, phi]`, r² on `[r]`,
-    /// 1 otherwise), so tensor rules weight each axis on its own.
+    /// factor per axis (R on the R axis of `[R]`, `[R, phi]`, `[R, z]` and
+    /// `[R, phi, z]`; r² on an r axis; sin θ on a theta axis; 1 otherwise),
+    /// so tensor rules weight each axis on its own.
     pub fn volume_factor(&self, axis: usize, x: f64) -> f64 {
-        match (self.layout, axis) {
-            (Layout::Line(Coord::Sph), 0) => x * x,
-            (Layout::Line(Coord::R) | Layout::Polar, 0) => x,
+        match self.axes[axis].coord {
+            Coord::R => x,
+            Coord::Sph => x * x,
+            Coord::Theta => x.sin(),
             _ => 1.0,
         }
     }
@@ -324,40 +439,47 @@ impl Grid {
             Layout::Line(Coord::Sph) => "r^2 dr",
             Layout::Polar => "R dR dphi",
             Layout::Cartesian => "dx dy",
+            Layout::Section => "dx dz",
+            Layout::Meridional => "R dR dz",
+            Layout::SphericalMeridional => "r^2 sin(theta) dr dtheta",
+            Layout::Cylindrical => "R dR dphi dz",
+            Layout::Spherical => "r^2 sin(theta) dr dtheta dphi",
+            Layout::Box => "dx dy dz",
             _ => "dz",
         }
     }
 
     /// The velocity components written for this grid, in order: the grid's
-    /// own axes, plus `phi` on an `[R]` line (the rotation is the point of a
-    /// disk line).
+    /// own axes, plus `phi` on an `[R]` line and on the meridional planes
+    /// `[R, z]` and `[r, theta]` (the rotation is the point of a disk).
     pub fn velocity_components(&self) -> Vec<Coord> {
-        match self.layout {
-            Layout::Line(Coord::R) => vec![Coord::R, Coord::Phi],
-            _ => self.axes.iter().map(|a| a.coord).collect(),
+        let mut c: Vec<Coord> = self.axes.iter().map(|a| a.coord).collect();
+        if matches!(
+            self.layout,
+            Layout::Line(Coord::R) | Layout::Meridional | Layout::SphericalMeridional
+        ) {
+            c.push(Coord::Phi);
         }
+        c
     }
 
     /// The components of the azimuthal unit vector e_φ at a point, in the
     /// order of [`Grid::velocity_components`], written into `out`. Zero on
-    /// slab and sphere lines, and at R = 0 on a Cartesian grid.
+    /// slab and sphere lines, on a section `[x, z]`, and on the axis R = 0
+    /// of a Cartesian grid.
     pub fn azimuthal_unit(&self, point: &[f64], out: &mut [f64]) {
+        out.iter_mut().for_each(|v| *v = 0.0);
         match self.layout {
-            Layout::Line(Coord::R) | Layout::Polar => {
-                out[0] = 0.0;
-                out[1] = 1.0;
-            }
-            Layout::Cartesian => {
+            Layout::Cartesian | Layout::Box => {
                 let r = point[0].hypot(point[1]);
-                let (ex, ey) = if r > 0.0 {
-                    (-point[1] / r, point[0] / r)
-                } else {
-                    (0.0, 0.0)
-                };
-                out[0] = ex;
-                out[1] = ey;
+                if r > 0.0 {
+                    out[0] = -point[1] / r;
+                    out[1] = point[0] / r;
+                }
             }
-            _ => out.iter_mut().for_each(|v| *v = 0.0),
+            Layout::Line(Coord::R) | Layout::Polar | Layout::Cylindrical => out[1] = 1.0,
+            Layout::Meridional | Layout::SphericalMeridional | Layout::Spherical => out[2] = 1.0,
+            _ => {}
         }
     }
 }
@@ -372,7 +494,8 @@ mod tests {
             assert_eq!(Coord::from_name(c.name()), Some(c));
         }
         assert_eq!(Coord::from_name("r"), Some(Coord::Sph));
-        assert_eq!(Coord::from_name("theta"), None);
+        assert_eq!(Coord::from_name("theta"), Some(Coord::Theta));
+        assert_eq!(Coord::from_name("Theta"), None);
     }
     #[test]
     fn layouts_are_validated() {
@@ -400,7 +523,7 @@ mod tests {
             .to_string();
         assert_eq!(
             e,
-            "unsupported grid layout [phi, R]; supported: [R], [z], [r], [R, phi], [x, y]"
+            format!("unsupported grid layout [phi, R]; supported: {SUPPORTED}")
         );
         let sph = Axis::uniform(Coord::Sph, -1.0, 1.0, 2).unwrap();
         assert!(Grid::new(vec![sph])
@@ -408,6 +531,55 @@ mod tests {
             .to_string()
             .contains("radii must be ≥ 0"));
         assert!(Grid::new(vec![r(-1.0, 1.0)]).is_err());
+        let theta = |a, b| Axis::uniform(Coord::Theta, a, b, 4).unwrap();
+        let e = Grid::new(vec![
+            Axis::uniform(Coord::Sph, 1.0, 2.0, 2).unwrap(),
+            theta(0.0, 4.0),
+        ])
+        .unwrap_err()
+        .to_string();
+        assert!(e.contains("theta must lie in [0, π]"), "{e}");
+        let z = Axis::uniform(Coord::Z, -1.0, 1.0, 2).unwrap();
+        let e = Grid::new(vec![r(0.0, 1.0), phi(0.0, 1.0), z])
+            .unwrap_err()
+            .to_string();
+        assert!(e.contains("R > 0"), "{e}");
+    }
+
+    #[test]
+    fn three_dimensional_volume_elements_and_ranges() {
+        let pi = std::f64::consts::PI;
+        let g = Grid::new(vec![
+            Axis::uniform(Coord::Sph, 1.0, 2.0, 2).unwrap(),
+            Axis::uniform(Coord::Theta, pi / 6.0, pi / 3.0, 2).unwrap(),
+            Axis::uniform(Coord::Phi, 0.0, 1.0, 2).unwrap(),
+        ])
+        .unwrap();
+        // r² sin θ (the spherical volume element).
+        let j = g.volume_element(&[2.0, pi / 6.0, 0.5]);
+        assert!((j - 2.0).abs() < 1e-15, "{j}");
+        assert_eq!(g.volume_element_name(), "r^2 sin(theta) dr dtheta dphi");
+        // R = r sin θ over r in [1, 2], θ in [π/6, π/3]: [1/2, √3].
+        let (lo, hi) = g.background_range(Frame::Axisymmetric);
+        assert!(
+            (lo - 0.5).abs() < 1e-15 && (hi - 3f64.sqrt()).abs() < 1e-15,
+            "{lo} {hi}"
+        );
+        let (lo, hi) = g.background_range(Frame::Spherical);
+        assert!((lo - 1.0).abs() < 1e-15 && (hi - 2.0).abs() < 1e-15);
+        let b = |c| Axis::uniform(c, 1.0, 2.0, 2).unwrap();
+        let boxed = Grid::new(vec![b(Coord::X), b(Coord::Y), b(Coord::Z)]).unwrap();
+        let (lo, hi) = boxed.background_range(Frame::Spherical);
+        assert!((lo - 3f64.sqrt()).abs() < 1e-15 && (hi - 12f64.sqrt()).abs() < 1e-15);
+        let (lo, hi) = boxed.background_range(Frame::Slab);
+        assert!((lo - 1.0).abs() < 1e-15 && (hi - 2.0).abs() < 1e-15);
+        let cyl = Grid::new(vec![
+            b(Coord::R),
+            Axis::uniform(Coord::Phi, 0.0, 1.0, 2).unwrap(),
+            b(Coord::Z),
+        ])
+        .unwrap();
+        assert!((cyl.volume_element(&[1.5, 0.2, 1.1]) - 1.5).abs() < 1e-15);
     }
     #[test]
     fn background_coordinate_and_range() {
@@ -415,14 +587,16 @@ mod tests {
         let y = Axis::uniform(Coord::Y, 2.0, 4.0, 4).unwrap();
         let g = Grid::new(vec![x, y]).unwrap();
         assert!((g.background_coordinate(&[3.0, 4.0]) - 5.0).abs() < 1e-15);
-        let (lo, hi) = g.background_range();
+        let (lo, hi) = g.background_range(Frame::Axisymmetric);
         assert!(
             (lo - 2.0).abs() < 1e-15 && (hi - 5.0).abs() < 1e-15,
             "{lo} {hi}"
         );
         let x = Axis::uniform(Coord::X, -1.0, 1.0, 2).unwrap();
         let y = Axis::uniform(Coord::Y, -3.0, -2.0, 2).unwrap();
-        let (lo, _) = Grid::new(vec![x, y]).unwrap().background_range();
+        let (lo, _) = Grid::new(vec![x, y])
+            .unwrap()
+            .background_range(Frame::Axisymmetric);
         assert!((lo - 2.0).abs() < 1e-15, "{lo}");
     }
     #[test]

@@ -26,7 +26,8 @@ use crate::model::{Anchor, Law, Model, Unknown};
 use crate::output::Precision;
 use crate::sample::SamplingRule;
 use crate::units::UnitSystem;
-use json::{closest, Node};
+pub(crate) use json::closest;
+use json::Node;
 
 /// A profile error: the file, the JSON path at fault and what is wrong;
 /// for formulas also the formula with a caret under the fault.
@@ -261,6 +262,7 @@ pub fn from_text(
         "anchor",
         "vertically_integrated",
         "intended_jumps",
+        "axis",
     ])?;
     let shape = balance.require("shape")?.node().choice(Shape::KEYS)?;
     let unknown = balance.require("solve_for")?.node().choice(Unknown::KEYS)?;
@@ -308,7 +310,13 @@ pub fn from_text(
     // Gas.
     let gas_owned = top.require("gas")?;
     let gas = gas_owned.node();
-    gas.only_keys(&["gamma", "sound_speed_sq", "temperature", "molecular_weight"])?;
+    gas.only_keys(&[
+        "gamma",
+        "sound_speed_sq",
+        "temperature",
+        "molecular_weight",
+        "barotropic",
+    ])?;
     let gamma = match gas.child("gamma") {
         Some(g) => g.node().value(&consts, &lookup)?,
         None => 5.0 / 3.0,
@@ -366,9 +374,46 @@ pub fn from_text(
         (None, None) => None,
     };
 
+    let barotrope = match gas.child("barotropic") {
+        None => None,
+        Some(b) => {
+            if let Some(other) = ["sound_speed_sq", "temperature"]
+                .into_iter()
+                .find(|k| gas.child(k).is_some())
+            {
+                return Err(b.node().error(format!(
+                    "a barotropic gas fixes P = K rho^Gamma and so its sound speed: remove gas.{other}"
+                )));
+            }
+            Some(sections::barotrope(b.node(), &consts, &lookup)?)
+        }
+    };
+
     // Grid, sampling, output.
     let grid_owned = top.require("grid")?;
-    let grid = grid(grid_owned.node(), dir, &consts, &lookup)?;
+    let mut grid = grid(grid_owned.node(), dir, &consts, &lookup)?;
+    if let Some(a) = balance.child("axis") {
+        let a = a.node();
+        if shape != Shape::Slab {
+            return Err(a.error("only a slab has an axis to be stratified along"));
+        }
+        let name = a.str()?;
+        let coord = crate::grid::Coord::from_name(name)
+            .filter(|c| grid.axes().iter().any(|ax| ax.coord == *c))
+            .ok_or_else(|| {
+                a.error(format!(
+                    "`{name}` is not an axis of the grid; give one of {}",
+                    grid.axes()
+                        .iter()
+                        .map(|ax| ax.coord.name())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ))
+            })?;
+        grid = grid
+            .stratified_along(coord)
+            .map_err(|e| a.error(e.to_string()))?;
+    }
     check_grid_matches(&grid, shape, label)?;
     let sampling = match top.child("sampling") {
         None => SamplingRule::Center,
@@ -411,6 +456,7 @@ pub fn from_text(
         unknown,
         density,
         sound_speed_sq,
+        barotrope,
         rotation,
         pressure,
         potential,

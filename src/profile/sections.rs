@@ -13,7 +13,7 @@ use super::{OutputSpec, ProfileError};
 use crate::background::Shape;
 use crate::formula::Expr;
 use crate::grid::{Axis, Coord, Grid};
-use crate::model::Law;
+use crate::model::{Barotrope, Law};
 use crate::output::Precision;
 use crate::physics;
 use crate::sample::SamplingRule;
@@ -98,6 +98,37 @@ pub(super) fn potential(
     Ok((law.clone(), law))
 }
 
+/// `gas.barotropic`: `{ "K": formula, "exponent": formula }` for P = K ρ^Γ,
+/// K > 0 and Γ > 1 (Γ = 1 is an isothermal gas: give gas.sound_speed_sq).
+pub(super) fn barotrope(
+    node: Node,
+    consts: &[&str],
+    lookup: &dyn Fn(&str) -> Option<f64>,
+) -> Result<Barotrope, ProfileError> {
+    node.only_keys(&["K", "exponent"])?;
+    let k = node.require("K")?;
+    let k = k.node();
+    let kv = k.value(consts, lookup)?;
+    if kv.is_nan() || kv <= 0.0 {
+        return Err(k.error(format!("K must be positive, found {kv}")));
+    }
+    let g = node.require("exponent")?;
+    let g = g.node();
+    let gv = g.value(consts, lookup)?;
+    if gv.is_nan() || gv <= 1.0 {
+        return Err(g.error(format!(
+            "the exponent Gamma of P = K rho^Gamma must exceed 1, found {gv} \
+             (Gamma = 1 is an isothermal gas: give gas.sound_speed_sq)"
+        )));
+    }
+    Ok(Barotrope {
+        constant: k.formula(consts)?,
+        exponent: g.formula(consts)?,
+        exponent_value: gv,
+        origin: node.path(),
+    })
+}
+
 pub(super) fn grid(
     node: Node,
     dir: &Path,
@@ -106,19 +137,19 @@ pub(super) fn grid(
 ) -> Result<Grid, ProfileError> {
     let map = node.object()?;
     if map.is_empty() {
-        return Err(node.error("expected at least one axis (R, phi, x, y, z or r)"));
+        return Err(node.error("expected at least one axis (R, phi, x, y, z, r or theta)"));
     }
     let mut axes = Vec::new();
     for key in map.keys() {
         let owned = node.require(key)?;
         let ax = owned.node();
         let Some(coord) = Coord::from_name(key) else {
-            let names = ["R", "phi", "x", "y", "z", "r"];
+            let names = ["R", "phi", "x", "y", "z", "r", "theta"];
             let hint = closest(key, &names)
                 .map(|k| format!(" (did you mean `{k}`?)"))
                 .unwrap_or_default();
             return Err(ax.error(format!(
-                "unknown axis `{key}`{hint}; axes are R, phi, x, y, z, r"
+                "unknown axis `{key}`{hint}; axes are R, phi, x, y, z, r, theta"
             )));
         };
         ax.only_keys(&["from", "to", "cells", "spacing", "edges", "edges_file"])?;
@@ -181,22 +212,35 @@ pub(super) fn check_grid_matches(
     label: &str,
 ) -> Result<(), ProfileError> {
     use crate::grid::Layout;
-    let ok = matches!(
-        (grid.layout(), shape),
-        (Layout::Line(Coord::Z), Shape::Slab)
-            | (Layout::Line(Coord::Sph), Shape::Spherical)
-            | (
-                Layout::Line(Coord::R) | Layout::Polar | Layout::Cartesian,
-                Shape::DiskMidplane
-            )
-    );
+    let ok = match shape {
+        Shape::Slab => matches!(
+            grid.layout(),
+            Layout::Line(Coord::Z) | Layout::Cartesian | Layout::Section | Layout::Box
+        ),
+        Shape::Spherical => matches!(
+            grid.layout(),
+            Layout::Line(Coord::Sph)
+                | Layout::SphericalMeridional
+                | Layout::Spherical
+                | Layout::Cartesian
+                | Layout::Section
+                | Layout::Box
+        ),
+        _ => matches!(
+            grid.layout(),
+            Layout::Line(Coord::R) | Layout::Polar | Layout::Cartesian
+        ),
+    };
     if ok {
         Ok(())
     } else {
         let want = match shape {
-            Shape::Slab => "a slab needs a z axis",
-            Shape::Spherical => "a sphere needs an r axis",
-            _ => "a disk needs an R axis, R and phi, or x and y",
+            Shape::Slab => "a slab needs a z axis, or a Cartesian box [x, y], [x, z] or [x, y, z]",
+            Shape::Spherical => {
+                "a sphere needs an r axis, a spherical grid [r, theta] or [r, theta, phi], \
+                 or a Cartesian box [x, y], [x, z] or [x, y, z]"
+            }
+            _ => "a disk's midplane needs an R axis, R and phi, or x and y",
         };
         Err(ProfileError::at(
             label,

@@ -165,6 +165,15 @@ pub fn sample(
     })
 }
 
+/// The fields a build writes on `grid` for `gas`, in file order, known
+/// before the background is solved (what [`Sampler::fields`] returns).
+pub fn field_specs(grid: &Grid, gas: &GasConstants) -> Vec<crate::fields::FieldSpec> {
+    slots::catalogue(grid, gas, &grid.velocity_components())
+        .into_iter()
+        .map(|e| e.spec)
+        .collect()
+}
+
 /// Validates everything that does not depend on a point, and places the grid
 /// in the background's frame.
 fn check_inputs(
@@ -297,6 +306,55 @@ mod tests {
         }
         assert!(data(&set, "velocity_R").iter().all(|v| v.abs() < 1e-300));
         assert!(set.sampling.ends_with("R dR dphi"), "{}", set.sampling);
+    }
+
+    /// ρ = r, P = 1, Φ = 0 (a test law, no balance).
+    struct Shell;
+    impl Background for Shell {
+        fn frame(&self) -> Frame {
+            Frame::Spherical
+        }
+        fn at(&self, x: &[f64]) -> State {
+            State::at_rest(x[0], 1.0, 0.0)
+        }
+    }
+
+    #[test]
+    fn spherical_grid_averages_weighted_by_r2_sin_theta() {
+        // With weight r² sin θ: ⟨r⟩ over [a, b] = (3/4)(b⁴ − a⁴)/(b³ − a³),
+        // whatever the angles (elementary calculus).
+        let pi = std::f64::consts::PI;
+        let grid = Grid::new(vec![
+            Axis::uniform(Coord::Sph, 0.5, 2.0, 3).unwrap(),
+            Axis::uniform(Coord::Theta, 0.1, pi - 0.1, 4).unwrap(),
+            Axis::uniform(Coord::Phi, 0.0, 2.0 * pi, 2).unwrap(),
+        ])
+        .unwrap();
+        let set = sample(&Shell, &grid, &SamplingRule::Average { points: 3 }, &GAS).unwrap();
+        let edges = &grid.axes()[0].edges;
+        let rho = data(&set, "density");
+        for (k, v) in rho.iter().enumerate() {
+            let i = k / 8;
+            let (a, b) = (edges[i], edges[i + 1]);
+            let exact = 0.75 * (b.powi(4) - a.powi(4)) / (b.powi(3) - a.powi(3));
+            assert!((v / exact - 1.0).abs() < 1e-14, "cell {k}: {v} vs {exact}");
+        }
+        assert!(set.sampling.ends_with("r^2 sin(theta) dr dtheta dphi"));
+        // The same law in a box: the cell-centre value is |x|.
+        let b = |c| Axis::uniform(c, 1.0, 3.0, 2).unwrap();
+        let boxed = Grid::new(vec![b(Coord::X), b(Coord::Y), b(Coord::Z)]).unwrap();
+        let set = sample(&Shell, &boxed, &SamplingRule::Center, &GAS).unwrap();
+        let rho = data(&set, "density");
+        assert!(
+            (rho[7] - (3.0f64 * 6.25).sqrt()).abs() < 1e-14,
+            "{}",
+            rho[7]
+        );
+        assert!(
+            (rho[0] - (3.0f64 * 2.25).sqrt()).abs() < 1e-14,
+            "{}",
+            rho[0]
+        );
     }
 
     #[test]

@@ -201,7 +201,7 @@ fn describe(grid: &Grid, point: &[f64]) -> String {
         .zip(point)
         .map(|(a, x)| format!("{} = {x}", a.coord.name()))
         .collect();
-    if grid.layout() == Layout::Cartesian {
+    if matches!(grid.layout(), Layout::Cartesian | Layout::Box) {
         let last = parts.pop().unwrap_or_default();
         let r = (point[0] * point[0] + point[1] * point[1]).sqrt();
         parts.push(format!("{last} (R = {r})"));
