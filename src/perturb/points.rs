@@ -1,5 +1,5 @@
 //! Points in every coordinate a perturbation may be written in: Cartesian
-//! x, y, z, cylindrical R and φ, spherical r — filled from whatever
+//! x, y, z, cylindrical R and φ, spherical r and θ — filled from whatever
 //! coordinates the grid's axes carry.
 //!
 //! Owns: the list of coordinate names perturbations know and the map from
@@ -10,7 +10,7 @@ use crate::grid::Coord;
 
 /// The coordinate names a perturbation's formulas and keys may use, in the
 /// order of [`Points::columns`].
-pub const COORDS: [&str; 6] = ["x", "y", "z", "R", "phi", "r"];
+pub const COORDS: [&str; 7] = ["x", "y", "z", "R", "phi", "r", "theta"];
 
 /// The index in [`COORDS`] of a grid coordinate.
 pub fn column(c: Coord) -> usize {
@@ -20,17 +20,18 @@ pub fn column(c: Coord) -> usize {
         Coord::Z => 2,
         Coord::R => 3,
         Coord::Phi => 4,
+        Coord::Theta => 6,
         _ => 5,
     }
 }
 
-/// A block of up to [`LANES`] points in all six coordinates (structure of
+/// A block of up to [`LANES`] points in all seven coordinates (structure of
 /// arrays). Allocated once per thread and refilled.
 #[derive(Clone, Debug)]
 pub struct Points {
     /// Number of points held.
     pub len: usize,
-    cols: [Vec<f64>; 6],
+    cols: [Vec<f64>; 7],
 }
 
 impl Default for Points {
@@ -53,8 +54,8 @@ impl Points {
         &self.cols[c][..self.len]
     }
 
-    /// All six coordinates, in the order of [`COORDS`].
-    pub fn columns(&self) -> [&[f64]; 6] {
+    /// All seven coordinates, in the order of [`COORDS`].
+    pub fn columns(&self) -> [&[f64]; 7] {
         std::array::from_fn(|c| self.col(c))
     }
 
@@ -62,17 +63,25 @@ impl Points {
     /// (`grid[a]` the coordinate along axis `a`). Coordinates the grid does
     /// not carry follow from the ones it does: a point on an `R` line lies at
     /// φ = 0, z = 0; a point of a slab at x = y = 0; a point on a spherical
-    /// radius `r` on the x axis. φ derived from (x, y) is `atan2(y, x)`.
+    /// radius `r` without θ on the x axis (θ = π/2, φ = 0). φ derived from
+    /// (x, y) is `atan2(y, x)`, θ (from the +z axis) `atan2(R, z)`.
     pub fn fill(&mut self, axes: &[Coord], grid: &[&[f64]], n: usize) {
         self.len = n;
         let given = |c: Coord| axes.iter().position(|a| *a == c).map(|a| &grid[a][..n]);
-        let [x, y, z, cr, phi, r] = &mut self.cols;
+        let [x, y, z, cr, phi, r, th] = &mut self.cols;
         let (x, y, z) = (&mut x[..n], &mut y[..n], &mut z[..n]);
-        let (cr, phi, r) = (&mut cr[..n], &mut phi[..n], &mut r[..n]);
+        let (cr, phi, r, th) = (&mut cr[..n], &mut phi[..n], &mut r[..n], &mut th[..n]);
         if let Some(s) = given(Coord::Sph) {
-            x.copy_from_slice(s);
-            y.fill(0.0);
-            z.fill(0.0);
+            let (gt, gp) = (given(Coord::Theta), given(Coord::Phi));
+            for i in 0..n {
+                let t = gt.map_or(std::f64::consts::FRAC_PI_2, |g| g[i]);
+                let p = gp.map_or(0.0, |g| g[i]);
+                let (st, ct) = t.sin_cos();
+                let (sp, cp) = p.sin_cos();
+                x[i] = s[i] * st * cp;
+                y[i] = s[i] * st * sp;
+                z[i] = s[i] * ct;
+            }
         } else {
             match given(Coord::Z) {
                 Some(g) => z.copy_from_slice(g),
@@ -131,6 +140,14 @@ impl Points {
                 }
             }
         }
+        match given(Coord::Theta) {
+            Some(g) => th.copy_from_slice(g),
+            None => {
+                for i in 0..n {
+                    th[i] = cr[i].atan2(z[i]);
+                }
+            }
+        }
     }
 }
 
@@ -155,5 +172,15 @@ mod tests {
         let mut s = Points::new();
         s.fill(&[Coord::Z], &[&[-3.0]], 1);
         assert!((s.col(5)[0] - 3.0).abs() < 1e-15 && s.col(3)[0].abs() < 1e-300);
+        // A spherical point at θ = π/3, φ = π/2: (0, r sin θ, r cos θ).
+        let mut sp = Points::new();
+        let (t, p) = (std::f64::consts::FRAC_PI_3, std::f64::consts::FRAC_PI_2);
+        sp.fill(
+            &[Coord::Sph, Coord::Theta, Coord::Phi],
+            &[&[2.0], &[t], &[p]],
+            1,
+        );
+        assert!(sp.col(0)[0].abs() < 1e-15 && (sp.col(1)[0] - 3f64.sqrt()).abs() < 1e-15);
+        assert!((sp.col(2)[0] - 1.0).abs() < 1e-15 && (sp.col(3)[0] - 3f64.sqrt()).abs() < 1e-15);
     }
 }

@@ -8,7 +8,7 @@
 use super::json::Node;
 use super::ProfileError;
 use crate::background::Frame;
-use crate::grid::{Coord, Grid, Layout};
+use crate::grid::{Coord, Grid};
 use crate::perturb::{
     Distribution, Field, Keep, Kind, Perturbation, Scale, Softening, Target, COORDS,
 };
@@ -225,9 +225,11 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
                 Some(b) => {
                     let b = b.node();
                     needs_disk("azimuthal band")?;
-                    if names.grid.layout() == Layout::Cartesian {
+                    let axes = names.grid.axes();
+                    let has = |c: Coord| axes.iter().any(|a| a.coord == c);
+                    if !has(Coord::Phi) && (has(Coord::X) || has(Coord::Y)) {
                         return Err(b.error(
-                            "band-limited noise keys its random coefficients on the cells off the azimuth; it needs a grid with a phi axis (or an R line), not [x, y]",
+                            "band-limited noise keys its random coefficients on the cells off the azimuth; it needs a grid with a phi axis (or none that varies in azimuth), not a Cartesian one",
                         ));
                     }
                     let items = b.array()?;

@@ -216,20 +216,6 @@ impl<'a> Sampler<'a> {
         self.entries.iter().map(|e| e.spec.clone()).collect()
     }
 
-    /// Values the reduced array of a slab of `rows` rows holds (for memory
-    /// estimates): slots per point times the cells of the active axes.
-    pub fn reduced_len(&self, rows: usize) -> usize {
-        let shape = self.grid.shape();
-        let cells: usize = (0..shape.len())
-            .map(|a| match (a, self.active[a]) {
-                (_, false) => 1,
-                (0, true) => rows.min(shape[0]),
-                (_, true) => shape[a],
-            })
-            .product();
-        cells * self.slots.len()
-    }
-
     /// Add `p` to the background at every point before the cell's sum.
     /// Slabs then hold three groups: `background` (the equilibrium),
     /// `state` (equilibrium plus perturbations, the same fields) and
@@ -274,6 +260,20 @@ impl<'a> Sampler<'a> {
     /// the perturbed state's and the perturbation's.
     fn value_slots(&self) -> usize {
         self.slots.len() - 1 + self.perturb.as_ref().map_or(0, Perturbed::extra_slots)
+    }
+
+    /// Values the reduced array of a slab of `rows` rows holds (for memory
+    /// estimates): slots per point times the cells of the active axes.
+    pub fn reduced_len(&self, rows: usize) -> usize {
+        let shape = self.grid.shape();
+        let cells: usize = (0..shape.len())
+            .map(|a| match (a, self.active[a]) {
+                (_, false) => 1,
+                (0, true) => rows.min(shape[0]),
+                (_, true) => shape[a],
+            })
+            .product();
+        cells * (self.value_slots() + 1)
     }
 
     /// The description of the sampling rule, for files.
