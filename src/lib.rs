@@ -37,6 +37,8 @@ pub mod grid;
 pub mod keys;
 pub mod model;
 pub mod output;
+#[cfg(feature = "mpi")]
+pub mod parallel;
 pub mod physics;
 pub mod pipeline;
 pub mod profile;

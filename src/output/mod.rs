@@ -10,6 +10,8 @@
 
 mod csv;
 mod h5;
+#[cfg(feature = "mpi")]
+mod h5_mpi;
 
 use std::fs;
 use std::path::{Path, PathBuf};
@@ -21,7 +23,7 @@ use crate::grid::{Axis, Grid};
 use crate::units::{Dim, UnitSystem};
 
 pub use csv::write_csv;
-pub use h5::{chunk_shape, write_hdf5, GroupPlan, H5Stream};
+pub use h5::{chunk_shape, utc_now, write_hdf5, GroupPlan, H5Stream, Parallel};
 
 /// The caution added to a file written in single precision.
 pub const SINGLE_PRECISION_CAUTION: &str = "written in single precision: relative rounding of \
@@ -170,7 +172,7 @@ pub enum OutputError {
 
 impl OutputError {
     /// A file-system error on `path`.
-    fn io(path: &Path, e: std::io::Error) -> OutputError {
+    pub(crate) fn io(path: &Path, e: std::io::Error) -> OutputError {
         OutputError::Io {
             path: path.to_path_buf(),
             message: e.to_string(),
