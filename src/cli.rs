@@ -293,10 +293,13 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 estimate,
             };
             let run = || build(&common, output, &flags, &stream, argv);
-            match stream.threads {
+            let threads = stream.threads.map(|n| n as usize);
+            #[cfg(feature = "mpi")]
+            let threads = threads.or_else(crate::parallel::threads_per_rank);
+            match threads {
                 None => run(),
                 Some(n) => rayon::ThreadPoolBuilder::new()
-                    .num_threads(n as usize)
+                    .num_threads(n)
                     .build()
                     .map_err(|e| Error::Usage(format!("--threads: {e}")))?
                     .install(run),
@@ -521,6 +524,20 @@ fn build(
         precision: loaded.output.precision,
         slab_rows: stream.slab_rows.map(|n| n as usize),
     };
+    #[cfg(feature = "mpi")]
+    if !estimate && crate::parallel::launched() {
+        if want_csv {
+            return Err(Error::Usage(
+                "--csv: a parallel build writes the HDF5 file only; build the CSV table serially"
+                    .into(),
+            ));
+        }
+        let written = crate::parallel::build(&loaded, &h5, force, reproducible, &opts, argv)?;
+        if let Some(meta) = written {
+            report_written(&loaded, &h5, None, &meta.cautions);
+        }
+        return Ok(Outcome::Ok);
+    }
     let dir = crate::estimate::folder_of(&h5);
     if estimate {
         if !dir.is_dir() {

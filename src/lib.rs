@@ -42,6 +42,8 @@ pub mod keys;
 pub mod model;
 pub mod output;
 pub mod perturb;
+#[cfg(feature = "mpi")]
+pub mod parallel;
 pub mod physics;
 pub mod pipeline;
 pub mod profile;

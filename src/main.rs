@@ -13,6 +13,11 @@ fn main() -> ExitCode {
         Ok(Outcome::Ok) => ExitCode::SUCCESS,
         Ok(Outcome::Failed) => ExitCode::from(1),
         Err(e) => {
+            // Under MPI, rank 0 speaks for every rank.
+            #[cfg(feature = "mpi")]
+            if stillpoint::parallel::quiet() {
+                return ExitCode::from(2);
+            }
             eprintln!("error: {e}");
             ExitCode::from(2)
         }

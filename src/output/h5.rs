@@ -41,6 +41,14 @@ use crate::keys::Keyed;
 
 type H5Result<T = ()> = Result<T, Box<dyn Error>>;
 
+#[cfg(feature = "mpi")]
+pub use super::h5_mpi::Parallel;
+
+/// How a file is shared by MPI ranks: without the `mpi` feature, never.
+#[cfg(not(feature = "mpi"))]
+#[derive(Clone, Debug)]
+pub enum Parallel {}
+
 /// Root attribute names the writer sets itself; `extra` may not reuse them.
 const RESERVED: [&str; 6] = [
     "profile",
@@ -77,6 +85,11 @@ pub struct H5Stream {
     n0: usize,
     precision: Precision,
     sampling: String,
+    /// A file shared by MPI ranks: slabs are written collectively.
+    #[cfg_attr(not(feature = "mpi"), allow(dead_code))]
+    collective: bool,
+    /// The creation time every rank records (rank 0's), for a shared file.
+    created: Option<String>,
 }
 
 fn h5_error(path: &Path) -> impl Fn(Box<dyn Error>) -> OutputError + '_ {
@@ -130,7 +143,31 @@ impl H5Stream {
                 });
             }
         }
-        Self::open(path, grid, meta, sampling, groups, (precision, filters)).map_err(h5_error(path))
+        Self::open(path, grid, meta, sampling, groups, (precision, filters), None).map_err(h5_error(path))
+    }
+
+    /// [`H5Stream::create`] by every rank of an MPI communicator at once
+    /// (collective): one file, the grid written by the root rank, each
+    /// slab written collectively by [`H5Stream::write_collective`].
+    pub fn create_parallel(
+        path: &Path,
+        grid: &Grid,
+        meta: &super::Metadata,
+        sampling: &str,
+        groups: &[GroupPlan],
+        precision: Precision,
+        parallel: Parallel,
+    ) -> Result<H5Stream, OutputError> {
+        Self::open(
+            path,
+            grid,
+            meta,
+            sampling,
+            groups,
+            (precision, super::Filters::default()),
+            Some(parallel),
+        )
+        .map_err(h5_error(path))
     }
 
     fn open(
@@ -140,10 +177,19 @@ impl H5Stream {
         sampling: &str,
         groups: &[GroupPlan],
         (precision, filters): (Precision, super::Filters),
+        parallel: Option<Parallel>,
     ) -> H5Result<H5Stream> {
-        let file = File::with_options()
-            .with_fcpl(|p| p.obj_track_times(false))
-            .create(path)?;
+        let mut builder = File::with_options();
+        builder.with_fcpl(|p| p.obj_track_times(false));
+        #[cfg(feature = "mpi")]
+        if let Some(p) = &parallel {
+            builder.with_fapl(|f| {
+                p.access(f);
+                f
+            });
+        }
+        let file = builder.create(path)?;
+        let root = is_root(parallel.as_ref());
         let units = meta.units;
         write_scales(&file, units)?;
         let g = file.create_group("grid")?;
@@ -154,7 +200,9 @@ impl H5Stream {
                     .new_dataset::<f64>()
                     .shape(values.len())
                     .create(format!("{}_{suffix}", axis.coord.name()).as_str())?;
-                ds.write_raw(values.as_slice())?;
+                if root {
+                    ds.write_raw(values.as_slice())?;
+                }
                 string_attr(&ds, "units", &unit)?;
             }
         }
@@ -187,36 +235,71 @@ impl H5Stream {
             n0: cells[0],
             precision,
             sampling: sampling.to_string(),
+            collective: parallel.is_some(),
+            created: created_of(parallel.as_ref()),
         })
     }
 
-    /// Write one slab of the written group `group` (by name).
-    pub fn write(&mut self, group: &str, slab: &Slab) -> Result<(), OutputError> {
-        let err = h5_error(&self.path);
+    /// The datasets of the written group `group`, checked against the
+    /// number of fields of a slab.
+    fn sets(
+        &self,
+        group: &str,
+        fields: Option<usize>,
+    ) -> Result<&[(FieldSpec, Dataset)], OutputError> {
         let Some((_, sets)) = self.groups.iter().find(|(n, _)| n == group) else {
             return Err(OutputError::Inconsistent {
                 path: self.path.clone(),
                 message: format!("no written group `{group}`"),
             });
         };
-        if slab.data.len() != sets.len() {
-            return Err(OutputError::Inconsistent {
+        match fields {
+            Some(n) if n != sets.len() => Err(OutputError::Inconsistent {
                 path: self.path.clone(),
-                message: format!(
-                    "group `{group}` has {} fields, the slab {}",
-                    sets.len(),
-                    slab.data.len()
-                ),
-            });
+                message: format!("group `{group}` has {} fields, the slab {n}", sets.len()),
+            }),
+            _ => Ok(sets),
         }
+    }
+
+    /// Write one slab of the written group `group` (by name).
+    pub fn write(&mut self, group: &str, slab: &Slab) -> Result<(), OutputError> {
+        let err = h5_error(&self.path);
+        let sets = self.sets(group, Some(slab.data.len()))?;
         for ((spec, ds), data) in sets.iter().zip(&slab.data) {
             write_rows(ds, spec, slab.rows.clone(), self.n0, data, self.precision).map_err(&err)?;
         }
         Ok(())
     }
 
+    /// Write one round of a parallel file: this rank's slab of the written
+    /// group `group`, or None when it has no rows this round (every rank
+    /// takes part in every round). A serial file writes the slab as
+    /// [`H5Stream::write`] does.
+    pub fn write_collective(
+        &mut self,
+        group: &str,
+        slab: Option<&Slab>,
+    ) -> Result<(), OutputError> {
+        #[cfg(feature = "mpi")]
+        if self.collective {
+            let err = h5_error(&self.path);
+            let sets = self.sets(group, slab.map(|s| s.data.len()))?;
+            for (k, (spec, ds)) in sets.iter().enumerate() {
+                let rows = slab.map(|s| spec.placement.rows(s.rows.clone(), self.n0));
+                let data = slab.map_or(&[][..], |s| &s.data[k][..]);
+                super::h5_mpi::write_rows(ds, rows, data, self.precision).map_err(&err)?;
+            }
+            return Ok(());
+        }
+        match slab {
+            Some(s) => self.write(group, s),
+            None => Ok(()),
+        }
+    }
+
     /// Write the root attributes from `meta`, then flush and close the file.
-    pub fn finish(self, meta: &super::Metadata) -> Result<(), OutputError> {
+    pub fn finish(mut self, meta: &super::Metadata) -> Result<(), OutputError> {
         for (name, _) in &meta.extra {
             if RESERVED.contains(&name.as_str()) {
                 return Err(OutputError::Inconsistent {
@@ -225,8 +308,12 @@ impl H5Stream {
                 });
             }
         }
-        root_attributes(&self.file, meta, &self.sampling, self.precision)
+        let created = self.created.clone().unwrap_or_else(utc_now);
+        root_attributes(&self.file, meta, &self.sampling, self.precision, &created)
             .map_err(h5_error(&self.path))?;
+        // Every dataset is closed before the file (a shared file refuses
+        // to close with objects open).
+        self.groups.clear();
         self.file
             .flush()
             .map_err(|e| h5_error(&self.path)(Box::new(e)))?;
@@ -241,6 +328,7 @@ fn root_attributes(
     meta: &super::Metadata,
     sampling: &str,
     precision: Precision,
+    created: &str,
 ) -> H5Result {
     string_attr(file, "profile", &meta.profile_json)?;
     if !meta.reproducible {
@@ -254,7 +342,7 @@ fn root_attributes(
     }
     string_attr(file, "cautions", &cautions.join("\n"))?;
     if !meta.reproducible {
-        string_attr(file, "created", &utc_now())?;
+        string_attr(file, "created", created)?;
     }
     for (name, value) in &meta.extra {
         string_attr(file, name, value)?;
@@ -454,8 +542,27 @@ fn string_attr(loc: &Location, name: &str, value: &str) -> H5Result {
     Ok(())
 }
 
+/// Whether this process writes what one process writes (the grid): always,
+/// unless it is a rank other than the root of a parallel file.
+fn is_root(parallel: Option<&Parallel>) -> bool {
+    match parallel {
+        #[cfg(feature = "mpi")]
+        Some(p) => p.root,
+        _ => true,
+    }
+}
+
+/// The creation time a shared file records, chosen by rank 0.
+fn created_of(parallel: Option<&Parallel>) -> Option<String> {
+    match parallel {
+        #[cfg(feature = "mpi")]
+        Some(p) => Some(p.created.clone()),
+        _ => None,
+    }
+}
+
 /// The current UTC time as `YYYY-MM-DDThh:mm:ssZ`.
-fn utc_now() -> String {
+pub fn utc_now() -> String {
     let secs = SystemTime::now()
         .duration_since(UNIX_EPOCH)
         .map_or(0, |d| d.as_secs());

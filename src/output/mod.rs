@@ -14,6 +14,8 @@ pub mod arrays;
 mod csv;
 mod h5;
 pub mod xdmf;
+#[cfg(feature = "mpi")]
+mod h5_mpi;
 
 use std::fs;
 use std::path::{Path, PathBuf};
@@ -26,7 +28,7 @@ use crate::units::{Dim, UnitSystem};
 
 pub use arrays::{commit_dir, write_csv_record, write_npy, write_raw, RawFormat};
 pub use csv::{number as csv_number, write_csv};
-pub use h5::{chunk_shape, write_hdf5, GroupPlan, H5Stream};
+pub use h5::{chunk_shape, utc_now, write_hdf5, GroupPlan, H5Stream, Parallel};
 pub use xdmf::write_xdmf;
 
 /// The caution added to a file written in single precision.
@@ -196,7 +198,7 @@ pub enum OutputError {
 
 impl OutputError {
     /// A file-system error on `path`.
-    fn io(path: &Path, e: std::io::Error) -> OutputError {
+    pub(crate) fn io(path: &Path, e: std::io::Error) -> OutputError {
         OutputError::Io {
             path: path.to_path_buf(),
             message: e.to_string(),
