@@ -16,6 +16,7 @@ use crate::grid::{Axis, Coord, Grid};
 use crate::model::Law;
 use crate::output::Precision;
 use crate::physics;
+use crate::sample::gauss::NodeFamily;
 use crate::sample::SamplingRule;
 
 /// The potential on the balance coordinate, and in every coordinate of the
@@ -229,11 +230,35 @@ pub(super) fn intended_jumps(node: Node, laws: &[&str]) -> Result<Vec<String>, P
 
 pub(super) fn sampling(node: Node) -> Result<SamplingRule, ProfileError> {
     node.only_keys(&["rule", "points", "tolerance"])?;
-    let avg = node
-        .require("rule")?
-        .node()
-        .choice(&[(false, "center"), (true, "average")])?;
-    if !avg {
+    let rule = node.require("rule")?.node().choice(&[
+        (0, "center"),
+        (1, "average"),
+        (2, "gauss-legendre-nodes"),
+        (3, "gauss-lobatto-nodes"),
+    ])?;
+    if rule >= 2 {
+        if let Some(t) = node.child("tolerance") {
+            return Err(t.node().error("tolerance goes with rule \"average\" only"));
+        }
+        let family = if rule == 2 {
+            NodeFamily::Legendre
+        } else {
+            NodeFamily::Lobatto
+        };
+        let points = match node.child("points") {
+            Some(p) => p.node().positive_int()?,
+            None => 4,
+        };
+        if !(family.min_points()..=64).contains(&points) {
+            return Err(node.error(format!(
+                "sampling.points: {} takes {} to 64 nodes per axis",
+                family.name(),
+                family.min_points()
+            )));
+        }
+        return Ok(SamplingRule::Nodes { family, points });
+    }
+    if rule == 0 {
         for key in ["points", "tolerance"] {
             if let Some(p) = node.child(key) {
                 return Err(p
