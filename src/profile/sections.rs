@@ -229,13 +229,41 @@ pub(super) fn intended_jumps(node: Node, laws: &[&str]) -> Result<Vec<String>, P
 }
 
 pub(super) fn sampling(node: Node) -> Result<SamplingRule, ProfileError> {
-    node.only_keys(&["rule", "points", "tolerance"])?;
+    node.only_keys(&["rule", "points", "tolerance", "modes"])?;
     let rule = node.require("rule")?.node().choice(&[
         (0, "center"),
         (1, "average"),
         (2, "gauss-legendre-nodes"),
         (3, "gauss-lobatto-nodes"),
+        (4, "legendre-modes"),
     ])?;
+    if let Some(m) = node.child("modes") {
+        if rule != 4 {
+            return Err(m
+                .node()
+                .error("modes goes with rule \"legendre-modes\" only"));
+        }
+    }
+    if rule == 4 {
+        let modes = match node.child("modes") {
+            Some(m) => m.node().positive_int()?,
+            None => 3,
+        };
+        let points = match node.child("points") {
+            Some(p) => p.node().positive_int()?,
+            None => (modes + 8).min(64),
+        };
+        if modes > 32 || points < modes || points > 64 {
+            return Err(node.error(format!(
+                "sampling: legendre-modes takes 1 to 32 modes and modes to 64 points per axis \
+                 (got {modes} modes, {points} points)"
+            )));
+        }
+        if let Some(t) = node.child("tolerance") {
+            return Err(t.node().error("tolerance goes with rule \"average\" only"));
+        }
+        return Ok(SamplingRule::Modes { modes, points });
+    }
     if rule >= 2 {
         if let Some(t) = node.child("tolerance") {
             return Err(t.node().error("tolerance goes with rule \"average\" only"));

@@ -61,6 +61,17 @@ pub enum SamplingRule {
         /// Nodes per axis.
         points: usize,
     },
+    /// DG modal coefficients: in each cell's reference coordinates
+    /// ξ ∈ [−1, 1]^d, the L2 projection of every field onto tensor Legendre
+    /// polynomials of degree < `modes` per axis, f(ξ) ≈ Σ c_{j…} P_j(ξ₁)…,
+    /// P_j(1) = 1, c_j = (2j + 1)/2 ∫ f P_j dξ per axis (no volume factor),
+    /// computed with `points` Gauss–Legendre nodes per axis.
+    Modes {
+        /// Modes per axis (degree < modes).
+        modes: usize,
+        /// Quadrature nodes per axis (≥ modes).
+        points: usize,
+    },
     /// Cell averages to a requested relative tolerance: the points per axis
     /// are raised by 2 from `start` until the averages with n and n + 2
     /// points differ by at most `tolerance` relative to each field's largest
@@ -99,6 +110,13 @@ impl SamplingRule {
                         .collect::<Vec<_>>()
                         .join(", "))
                     .unwrap_or_default()
+            ),
+            SamplingRule::Modes { modes, points } => format!(
+                "modal coefficients: L2 projection in each cell's reference coordinates \
+                 [-1, 1] per axis (no volume factor) onto tensor Legendre polynomials P_j, \
+                 P_j(1) = 1, of degree < {modes} per axis; f = sum of c_j P_j, \
+                 c_j = (2j+1)/2 times the integral of f P_j; {points}-point Gauss–Legendre \
+                 per axis; modes as trailing dimensions, C order"
             ),
             SamplingRule::AverageTo { tolerance, .. } => format!(
                 "cell averages by tensor Gauss–Legendre to a relative tolerance of \
@@ -320,6 +338,11 @@ fn check_inputs(
         }
         SamplingRule::Nodes { family, points }
             if !(family.min_points()..=MAX_POINTS).contains(&points) =>
+        {
+            return Err(SampleError::Points { points });
+        }
+        SamplingRule::Modes { modes, points }
+            if modes == 0 || points < modes || points > MAX_POINTS =>
         {
             return Err(SampleError::Points { points });
         }
@@ -632,6 +655,71 @@ mod tests {
                     }
                 }
             }
+        }
+    }
+
+    /// Σ_j c_j P_j(ξ) for one cell (Bonnet's recurrence for P_j).
+    fn reconstruct(c: &[f64], xi: f64) -> f64 {
+        let (mut p0, mut p1) = (1.0, xi);
+        let mut sum = c[0];
+        for (j, cj) in c.iter().enumerate().skip(1) {
+            sum += cj * p1;
+            let jf = j as f64;
+            (p0, p1) = (p1, ((2.0 * jf + 1.0) * xi * p1 - jf * p0) / (jf + 1.0));
+        }
+        sum
+    }
+
+    #[test]
+    fn modes_reproduce_polynomials_and_converge() {
+        // A polynomial of degree < modes is its own L2 projection: the
+        // coefficients rebuild it at any ξ (Legendre series, e.g. A&S 22.2.10
+        // orthogonality, from memory).
+        let grid = Grid::new(vec![Axis::uniform(Coord::Z, 0.5, 2.0, 3).unwrap()]).unwrap();
+        let edges = grid.axes()[0].edges.clone();
+        let rule = SamplingRule::Modes {
+            modes: 4,
+            points: 6,
+        };
+        for k in 0..4 {
+            let set = sample(&Poly(k), &grid, &rule, &GAS).unwrap();
+            let c = &set.get("density").unwrap().data;
+            for i in 0..3 {
+                for xi in [-1.0, -0.37, 0.0, 0.81, 1.0] {
+                    let z = 0.5 * (edges[i] + edges[i + 1]) + 0.5 * (edges[i + 1] - edges[i]) * xi;
+                    let f = reconstruct(&c[i * 4..i * 4 + 4], xi);
+                    assert!(
+                        (f / (2.0 + z.powi(k)) - 1.0).abs() < 1e-14,
+                        "z^{k} cell {i} ξ {xi}"
+                    );
+                }
+            }
+        }
+        // Smooth law e^(−z): the projection of degree < 3 errs by O(h³)
+        // (L2 projection onto degree p: error O(h^(p+1)), common practice,
+        // no source); observed order from 8, 16, 32 cells within 0.15 of 3.
+        let mut errs = Vec::new();
+        for cells in [8, 16, 32] {
+            let grid = Grid::new(vec![Axis::uniform(Coord::Z, 0.0, 2.0, cells).unwrap()]).unwrap();
+            let rule = SamplingRule::Modes {
+                modes: 3,
+                points: 10,
+            };
+            let set = sample(&Slab, &grid, &rule, &GAS).unwrap();
+            let c = &set.get("density").unwrap().data;
+            let edges = &grid.axes()[0].edges;
+            let mut worst = 0.0f64;
+            for i in 0..cells {
+                for xi in [-1.0, -0.5, 0.0, 0.5, 1.0] {
+                    let z = 0.5 * (edges[i] + edges[i + 1]) + 0.5 * (edges[i + 1] - edges[i]) * xi;
+                    worst = worst.max((reconstruct(&c[i * 3..i * 3 + 3], xi) - (-z).exp()).abs());
+                }
+            }
+            errs.push(worst);
+        }
+        for w in errs.windows(2) {
+            let order = (w[0] / w[1]).log2();
+            assert!((order - 3.0).abs() < 0.15, "order {order} from {errs:?}");
         }
     }
 }

@@ -158,6 +158,9 @@ pub struct Sampler<'a> {
     /// Nodes per axis of a nodal rule (values at each node of each cell),
     /// None otherwise.
     nodal: Option<usize>,
+    /// A modal rule: modes per axis and the projection matrix of the nodal
+    /// values (see [`super::gauss::projection`]).
+    modal: Option<(usize, Vec<f64>)>,
     /// Points per axis the lines run over: the cells, or cells × nodes.
     shape: Vec<usize>,
     axes: Vec<AxisNodes>,
@@ -199,6 +202,7 @@ impl<'a> Sampler<'a> {
                 return super::converge(bg, grid, *tolerance, *start, gas, cuts)
             }
             SamplingRule::Nodes { family, points } => (family.rule(*points), Some(*points)),
+            SamplingRule::Modes { points, .. } => (GaussLegendre::new(*points), Some(*points)),
             SamplingRule::Center => (None, None),
         };
         let axes = (0..grid.axes().len())
@@ -214,8 +218,14 @@ impl<'a> Sampler<'a> {
         let slots = Slots {
             ncomp: embed.components().len(),
         };
+        let modal = match (rule, gauss.as_ref()) {
+            (SamplingRule::Modes { modes, .. }, Some(r)) => {
+                Some((*modes, super::gauss::projection(*modes, r)))
+            }
+            _ => None,
+        };
         let mut entries = slots::catalogue(grid, gas, embed.components());
-        if let Some(n) = nodal {
+        if let Some(n) = modal.as_ref().map(|m| m.0).or(nodal) {
             for e in &mut entries {
                 e.spec.placement.extra = vec![n; grid.axes().len()];
             }
@@ -227,6 +237,7 @@ impl<'a> Sampler<'a> {
             gas: *gas,
             averaged: gauss.is_some() && nodal.is_none(),
             nodal,
+            modal,
             shape,
             axes,
             active,
@@ -298,6 +309,11 @@ impl<'a> Sampler<'a> {
                     j = j * out_shape[a] * n + cell[a] * n + node[a];
                 }
                 *v = src[j];
+            }
+        }
+        if let Some((modes, m)) = &self.modal {
+            for d in &mut data {
+                *d = project(d, nd, n, *modes, m);
             }
         }
         Ok(Slab { rows, data })
@@ -595,4 +611,38 @@ impl<'a> Sampler<'a> {
             });
         Slab { rows, data }
     }
+}
+
+/// The modal coefficients of every cell from its q^nd node values (cells
+/// one after another): c[j…] = Σ_k Π_a m[j_a q + k_a] f[k…], in one fixed
+/// order of terms.
+fn project(values: &[f64], nd: usize, q: usize, modes: usize, m: &[f64]) -> Vec<f64> {
+    let per_node = q.pow(nd as u32);
+    let per_mode = modes.pow(nd as u32);
+    let mut out = Vec::with_capacity(values.len() / per_node * per_mode);
+    let (mut j, mut k) = (vec![0usize; nd], vec![0usize; nd]);
+    for cell in values.chunks(per_node) {
+        for jm in 0..per_mode {
+            let mut rest = jm;
+            for a in (0..nd).rev() {
+                j[a] = rest % modes;
+                rest /= modes;
+            }
+            let mut sum = 0.0;
+            for (kn, f) in cell.iter().enumerate() {
+                let mut rest = kn;
+                for a in (0..nd).rev() {
+                    k[a] = rest % q;
+                    rest /= q;
+                }
+                let mut w = *f;
+                for a in 0..nd {
+                    w *= m[j[a] * q + k[a]];
+                }
+                sum += w;
+            }
+            out.push(sum);
+        }
+    }
+    out
 }
