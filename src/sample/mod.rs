@@ -721,5 +721,26 @@ mod tests {
             let order = (w[0] / w[1]).log2();
             assert!((order - 3.0).abs() < 0.15, "order {order} from {errs:?}");
         }
+        // Polar grid, a state of R alone: coefficients [cell R, cell phi,
+        // mode R, mode phi]; every mode with j_phi > 0 vanishes, and the
+        // R modes rebuild 1/R at the cell's nodes.
+        let r = Axis::uniform(Coord::R, 1.0, 2.0, 3).unwrap();
+        let phi = Axis::uniform(Coord::Phi, 0.0, 1.0, 2).unwrap();
+        let grid = Grid::new(vec![r, phi]).unwrap();
+        let rule = SamplingRule::Modes {
+            modes: 3,
+            points: 12,
+        };
+        let set = sample(&Disk, &grid, &rule, &GAS).unwrap();
+        let c = &set.get("density").unwrap().data;
+        assert_eq!(c.len(), 3 * 2 * 3 * 3);
+        for (idx, v) in c.iter().enumerate() {
+            if idx % 3 != 0 {
+                assert!(v.abs() < 1e-14, "index {idx}: {v}"); // round-off of ~0.7
+            }
+        }
+        let radial: Vec<f64> = (0..3).map(|jr| c[18 + jr * 3]).collect(); // cell (1, 0)
+        let rr = 1.0 + (1.0 + 0.5 * (1.0 + 0.3)) / 3.0;
+        assert!((reconstruct(&radial, 0.3) * rr - 1.0).abs() < 1e-3);
     }
 }
