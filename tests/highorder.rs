@@ -140,3 +140,48 @@ fn a_kink_no_cut_removes_is_said_plainly() {
         set.sampling
     );
 }
+
+/// A smooth law (a power law with a Gaussian ring) on a 1D radial grid:
+/// cell averages to a tolerance of 1e-14 against mpmath quadrature
+/// (tests/highorder_check.py).
+#[test]
+fn smooth_law_averages_match_mpmath() {
+    let text = r#"{
+      "name": "ring", "units": "code",
+      "parameters": { "rho0": 1.0, "R0": 1.0, "p": 1.5, "A": 2.0, "Rr": 2.0, "w": 0.3, "cs2": 0.01 },
+      "gravity": { "point_mass": "1" },
+      "gas": { "gamma": 1.4, "sound_speed_sq": "cs2" },
+      "balance": {
+        "shape": "disk", "solve_for": "rotation",
+        "density": "rho0*(R/R0)^(-p)*(1 + A*exp(-(R - Rr)^2/(2*w^2)))"
+      },
+      "grid": { "R": { "from": 1, "to": 3, "cells": 16 } },
+      "sampling": { "rule": "average", "tolerance": 1e-14 }
+    }"#;
+    let l = load(text);
+    let built = pipeline::build(&l, "test", true).unwrap();
+    let set = built.sample_all().unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("averages.json");
+    let json = format!(
+        r#"{{"params": {{"rho0": 1.0, "R0": 1.0, "p": 1.5, "A": 2.0, "Rr": 2.0, "w": 0.3}},
+            "edges": {:?}, "density": {:?}}}"#,
+        l.grid.axes()[0].edges,
+        set.get("density").unwrap().data
+    );
+    std::fs::write(&path, json).unwrap();
+    let script = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/highorder_check.py");
+    let out = std::process::Command::new("python3")
+        .arg(script)
+        .arg(&path)
+        .output()
+        .expect("this test needs python3 with mpmath (.ci/run installs it)");
+    let report = format!(
+        "{}{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(out.status.success(), "{report}");
+    assert!(report.contains("agree with mpmath"), "{report}");
+    eprintln!("{report}");
+}

@@ -30,6 +30,21 @@ pub fn write_csv(doc: &Document, path: &Path) -> Result<(), OutputError> {
             });
         }
     };
+    if let Some(f) = doc
+        .state
+        .fields
+        .iter()
+        .find(|f| f.placement.per_location() != 1)
+    {
+        return Err(OutputError::Unsupported {
+            path: path.to_path_buf(),
+            message: format!(
+                "CSV output holds one value per cell; `{}` has {} per cell (nodes): write HDF5 instead",
+                f.name,
+                f.placement.per_location()
+            ),
+        });
+    }
     let units = doc.metadata.units;
     // One header line and the rows: `#` lines would be taken for the header
     // by numpy.genfromtxt(names=True) and for rows by pandas.read_csv. The

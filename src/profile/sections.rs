@@ -16,6 +16,7 @@ use crate::grid::{Axis, Coord, Grid};
 use crate::model::{Barotrope, Law, TorusLaws, Unknown};
 use crate::output::Precision;
 use crate::physics;
+use crate::sample::gauss::NodeFamily;
 use crate::sample::SamplingRule;
 use crate::torus::{Edge, RotationLaw};
 
@@ -391,12 +392,64 @@ pub(super) fn intended_jumps(node: Node, laws: &[&str]) -> Result<Vec<String>, P
 }
 
 pub(super) fn sampling(node: Node) -> Result<SamplingRule, ProfileError> {
-    node.only_keys(&["rule", "points", "tolerance"])?;
-    let avg = node
-        .require("rule")?
-        .node()
-        .choice(&[(false, "center"), (true, "average")])?;
-    if !avg {
+    node.only_keys(&["rule", "points", "tolerance", "modes"])?;
+    let rule = node.require("rule")?.node().choice(&[
+        (0, "center"),
+        (1, "average"),
+        (2, "gauss-legendre-nodes"),
+        (3, "gauss-lobatto-nodes"),
+        (4, "legendre-modes"),
+    ])?;
+    if let Some(m) = node.child("modes") {
+        if rule != 4 {
+            return Err(m
+                .node()
+                .error("modes goes with rule \"legendre-modes\" only"));
+        }
+    }
+    if rule == 4 {
+        let modes = match node.child("modes") {
+            Some(m) => m.node().positive_int()?,
+            None => 3,
+        };
+        let points = match node.child("points") {
+            Some(p) => p.node().positive_int()?,
+            None => (modes + 8).min(64),
+        };
+        if modes > 32 || points < modes || points > 64 {
+            return Err(node.error(format!(
+                "sampling: legendre-modes takes 1 to 32 modes and modes to 64 points per axis \
+                 (got {modes} modes, {points} points)"
+            )));
+        }
+        if let Some(t) = node.child("tolerance") {
+            return Err(t.node().error("tolerance goes with rule \"average\" only"));
+        }
+        return Ok(SamplingRule::Modes { modes, points });
+    }
+    if rule >= 2 {
+        if let Some(t) = node.child("tolerance") {
+            return Err(t.node().error("tolerance goes with rule \"average\" only"));
+        }
+        let family = if rule == 2 {
+            NodeFamily::Legendre
+        } else {
+            NodeFamily::Lobatto
+        };
+        let points = match node.child("points") {
+            Some(p) => p.node().positive_int()?,
+            None => 4,
+        };
+        if !(family.min_points()..=64).contains(&points) {
+            return Err(node.error(format!(
+                "sampling.points: {} takes {} to 64 nodes per axis",
+                family.name(),
+                family.min_points()
+            )));
+        }
+        return Ok(SamplingRule::Nodes { family, points });
+    }
+    if rule == 0 {
         for key in ["points", "tolerance"] {
             if let Some(p) = node.child(key) {
                 return Err(p

@@ -200,6 +200,22 @@ fn eigen_pairs(jacobi: DMatrix<f64>) -> (Vec<f64>, Vec<f64>) {
     pairs.into_iter().unzip()
 }
 
+/// The L2 projection of a rule's node values onto Legendre polynomials of
+/// degree < `modes` on [−1, 1]: `m[j * q + k] = (2j + 1)/2 · w_k P_j(x_k)`,
+/// so that c_j = Σ_k m[j q + k] f(x_k) is the coefficient of P_j (P_j(1) = 1)
+/// in f ≈ Σ_j c_j P_j — exact when f P_j has degree ≤ 2q − 1.
+pub fn projection(modes: usize, rule: &GaussLegendre) -> Vec<f64> {
+    let q = rule.nodes.len();
+    let mut m = vec![0.0; modes * q];
+    for (k, (x, w)) in rule.nodes.iter().zip(&rule.weights).enumerate() {
+        for j in 0..modes {
+            let p = if j == 0 { 1.0 } else { legendre(j, *x).0 };
+            m[j * q + k] = (2 * j + 1) as f64 / 2.0 * w * p;
+        }
+    }
+    m
+}
+
 /// P_n(x) and P_n′(x) by the three-term recurrence
 /// (k+1) P_{k+1} = (2k+1) x P_k − k P_{k−1}.
 fn legendre(n: usize, x: f64) -> (f64, f64) {

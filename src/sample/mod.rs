@@ -52,6 +52,27 @@ pub enum SamplingRule {
         /// Nodes per axis.
         points: usize,
     },
+    /// Values at the nodes of a tensor rule in every cell, for nodal
+    /// discontinuous-Galerkin codes: `points` nodes per axis of `family`
+    /// (Gauss–Legendre 1 to 64, Gauss–Lobatto 2 to 64), the nodes of each
+    /// cell as trailing dimensions of the dataset, axis by axis in C order.
+    Nodes {
+        /// Gauss–Legendre or Gauss–Lobatto nodes.
+        family: gauss::NodeFamily,
+        /// Nodes per axis.
+        points: usize,
+    },
+    /// DG modal coefficients: in each cell's reference coordinates
+    /// ξ ∈ [−1, 1]^d, the L2 projection of every field onto tensor Legendre
+    /// polynomials of degree < `modes` per axis, f(ξ) ≈ Σ c_{j…} P_j(ξ₁)…,
+    /// P_j(1) = 1, c_j = (2j + 1)/2 ∫ f P_j dξ per axis (no volume factor),
+    /// computed with `points` Gauss–Legendre nodes per axis.
+    Modes {
+        /// Modes per axis (degree < modes).
+        modes: usize,
+        /// Quadrature nodes per axis (≥ modes).
+        points: usize,
+    },
     /// Cell averages to a requested relative tolerance: the points per axis
     /// are raised by 2 from `start` until the averages with n and n + 2
     /// points differ by at most `tolerance` relative to each field's largest
@@ -76,6 +97,27 @@ impl SamplingRule {
                  weighted by the volume element {}",
                 if *points == 1 { "" } else { "s" },
                 grid.volume_element_name()
+            ),
+            SamplingRule::Nodes { family, points } => format!(
+                "values at the {points} {} nodes per axis of each cell (tensor product, \
+                 C order, nodes as trailing dimensions); reference nodes on [-1, 1]: {}",
+                family.name(),
+                family
+                    .rule(*points)
+                    .map(|r| r
+                        .nodes
+                        .iter()
+                        .map(|x| format!("{x}"))
+                        .collect::<Vec<_>>()
+                        .join(", "))
+                    .unwrap_or_default()
+            ),
+            SamplingRule::Modes { modes, points } => format!(
+                "modal coefficients: L2 projection in each cell's reference coordinates \
+                 [-1, 1] per axis (no volume factor) onto tensor Legendre polynomials P_j, \
+                 P_j(1) = 1, of degree < {modes} per axis; f = sum of c_j P_j, \
+                 c_j = (2j+1)/2 times the integral of f P_j; {points}-point Gauss–Legendre \
+                 per axis; modes as trailing dimensions, C order"
             ),
             SamplingRule::AverageTo { tolerance, .. } => format!(
                 "cell averages by tensor Gauss–Legendre to a relative tolerance of \
@@ -133,7 +175,7 @@ pub enum SampleError {
         axes: String,
     },
     /// A number of quadrature points out of range.
-    #[error("cell averages need 1 to {MAX_POINTS} points per axis, got {points}")]
+    #[error("cell averages and nodes need 1 to {MAX_POINTS} points per axis (Gauss–Lobatto at least 2; a tolerance's first try at most 62), got {points}")]
     Points {
         /// The number asked for.
         points: usize,
@@ -302,6 +344,16 @@ fn check_inputs(
     };
     match *rule {
         SamplingRule::Average { points } if !(1..=MAX_POINTS).contains(&points) => {
+            return Err(SampleError::Points { points });
+        }
+        SamplingRule::Nodes { family, points }
+            if !(family.min_points()..=MAX_POINTS).contains(&points) =>
+        {
+            return Err(SampleError::Points { points });
+        }
+        SamplingRule::Modes { modes, points }
+            if modes == 0 || points < modes || points > MAX_POINTS =>
+        {
             return Err(SampleError::Points { points });
         }
         SamplingRule::AverageTo { start, .. } if !(1..=MAX_POINTS - 2).contains(&start) => {
@@ -568,5 +620,186 @@ mod tests {
                 "potential"
             ]
         );
+    }
+
+    /// ρ = 2 + z^k (a test law; P = ρ, Φ = z).
+    struct Poly(i32);
+    impl Background for Poly {
+        fn frame(&self) -> Frame {
+            Frame::Slab
+        }
+        fn at(&self, x: &[f64]) -> State {
+            let rho = 2.0 + x[0].powi(self.0);
+            State::at_rest(rho, rho, x[0])
+        }
+    }
+
+    #[test]
+    fn nodal_values_sit_at_the_rule_nodes() {
+        // Slab: node k of cell i is at mid + half·x_k; the value is the law
+        // there, and Lobatto end nodes are the cell edges, so neighbouring
+        // cells agree at their shared edge.
+        let grid = Grid::new(vec![Axis::uniform(Coord::Z, 0.0, 3.0, 5).unwrap()]).unwrap();
+        for family in [gauss::NodeFamily::Legendre, gauss::NodeFamily::Lobatto] {
+            let rule = SamplingRule::Nodes { family, points: 5 };
+            let set = sample(&Slab, &grid, &rule, &GAS).unwrap();
+            let f = set.get("density").unwrap();
+            assert_eq!(f.placement.extra, vec![5]);
+            assert_eq!(f.placement.shape(&grid.shape()), vec![5, 5]);
+            let r = family.rule(5).unwrap();
+            let edges = &grid.axes()[0].edges;
+            for i in 0..5 {
+                let (mid, half) = (
+                    0.5 * (edges[i] + edges[i + 1]),
+                    0.5 * (edges[i + 1] - edges[i]),
+                );
+                for k in 0..5 {
+                    let z = mid + half * r.nodes[k];
+                    assert!(
+                        (f.data[i * 5 + k] / (-z).exp() - 1.0).abs() < 1e-15,
+                        "{family:?} {i} {k}"
+                    );
+                }
+            }
+            if family == gauss::NodeFamily::Lobatto {
+                for i in 0..4 {
+                    assert_eq!(f.data[i * 5 + 4].to_bits(), f.data[(i + 1) * 5].to_bits());
+                }
+            }
+            assert!(set.sampling.contains(family.name()), "{}", set.sampling);
+        }
+        // Polar grid: nodes as trailing dimensions [cell R, cell phi, node R,
+        // node phi]; the state varies with R only.
+        let r = Axis::uniform(Coord::R, 1.0, 2.0, 3).unwrap();
+        let phi = Axis::uniform(Coord::Phi, 0.0, 1.0, 2).unwrap();
+        let grid = Grid::new(vec![r, phi]).unwrap();
+        let rule = SamplingRule::Nodes {
+            family: gauss::NodeFamily::Lobatto,
+            points: 3,
+        };
+        let set = sample(&Disk, &grid, &rule, &GAS).unwrap();
+        let f = set.get("density").unwrap();
+        assert_eq!(f.data.len(), 3 * 2 * 3 * 3);
+        for (idx, v) in f.data.iter().enumerate() {
+            let (kr, i) = ((idx / 3) % 3, idx / 18);
+            let rr = 1.0 + (i as f64 + 0.5 * (1.0 + [-1.0, 0.0, 1.0][kr])) / 3.0;
+            assert!((v * rr - 1.0).abs() < 1e-15, "index {idx}: {v} at R = {rr}");
+        }
+    }
+
+    #[test]
+    fn node_sums_exact_to_degree_of_the_family() {
+        // Σ_k w_k ρ(x_k) · half / h is the cell average: exact for z^k up to
+        // degree 2n − 1 (Gauss–Legendre) and 2n − 3 (Gauss–Lobatto);
+        // ∫ z^k dz = (b^(k+1) − a^(k+1))/(k+1).
+        let grid = Grid::new(vec![Axis::uniform(Coord::Z, 0.5, 2.0, 3).unwrap()]).unwrap();
+        let edges = grid.axes()[0].edges.clone();
+        for family in [gauss::NodeFamily::Legendre, gauss::NodeFamily::Lobatto] {
+            for n in family.min_points()..=8 {
+                let r = family.rule(n).unwrap();
+                let rule = SamplingRule::Nodes { family, points: n };
+                for k in 0..=family.exact_degree(n) as i32 {
+                    let set = sample(&Poly(k), &grid, &rule, &GAS).unwrap();
+                    let d = &set.get("density").unwrap().data;
+                    for i in 0..3 {
+                        let (a, b) = (edges[i], edges[i + 1]);
+                        let sum: f64 =
+                            (0..n).map(|q| r.weights[q] * d[i * n + q]).sum::<f64>() / 2.0;
+                        let exact =
+                            2.0 + (b.powi(k + 1) - a.powi(k + 1)) / ((k + 1) as f64 * (b - a));
+                        assert!(
+                            (sum / exact - 1.0).abs() < 1e-14,
+                            "{family:?} n {n} z^{k} cell {i}"
+                        );
+                    }
+                }
+            }
+        }
+    }
+
+    /// Σ_j c_j P_j(ξ) for one cell (Bonnet's recurrence for P_j).
+    fn reconstruct(c: &[f64], xi: f64) -> f64 {
+        let (mut p0, mut p1) = (1.0, xi);
+        let mut sum = c[0];
+        for (j, cj) in c.iter().enumerate().skip(1) {
+            sum += cj * p1;
+            let jf = j as f64;
+            (p0, p1) = (p1, ((2.0 * jf + 1.0) * xi * p1 - jf * p0) / (jf + 1.0));
+        }
+        sum
+    }
+
+    #[test]
+    fn modes_reproduce_polynomials_and_converge() {
+        // A polynomial of degree < modes is its own L2 projection: the
+        // coefficients rebuild it at any ξ (Legendre series, e.g. A&S 22.2.10
+        // orthogonality, from memory).
+        let grid = Grid::new(vec![Axis::uniform(Coord::Z, 0.5, 2.0, 3).unwrap()]).unwrap();
+        let edges = grid.axes()[0].edges.clone();
+        let rule = SamplingRule::Modes {
+            modes: 4,
+            points: 6,
+        };
+        for k in 0..4 {
+            let set = sample(&Poly(k), &grid, &rule, &GAS).unwrap();
+            let c = &set.get("density").unwrap().data;
+            for i in 0..3 {
+                for xi in [-1.0, -0.37, 0.0, 0.81, 1.0] {
+                    let z = 0.5 * (edges[i] + edges[i + 1]) + 0.5 * (edges[i + 1] - edges[i]) * xi;
+                    let f = reconstruct(&c[i * 4..i * 4 + 4], xi);
+                    assert!(
+                        (f / (2.0 + z.powi(k)) - 1.0).abs() < 1e-14,
+                        "z^{k} cell {i} ξ {xi}"
+                    );
+                }
+            }
+        }
+        // Smooth law e^(−z): the projection of degree < 3 errs by O(h³)
+        // (L2 projection onto degree p: error O(h^(p+1)), common practice,
+        // no source); observed order from 8, 16, 32 cells within 0.15 of 3.
+        let mut errs = Vec::new();
+        for cells in [8, 16, 32] {
+            let grid = Grid::new(vec![Axis::uniform(Coord::Z, 0.0, 2.0, cells).unwrap()]).unwrap();
+            let rule = SamplingRule::Modes {
+                modes: 3,
+                points: 10,
+            };
+            let set = sample(&Slab, &grid, &rule, &GAS).unwrap();
+            let c = &set.get("density").unwrap().data;
+            let edges = &grid.axes()[0].edges;
+            let mut worst = 0.0f64;
+            for i in 0..cells {
+                for xi in [-1.0, -0.5, 0.0, 0.5, 1.0] {
+                    let z = 0.5 * (edges[i] + edges[i + 1]) + 0.5 * (edges[i + 1] - edges[i]) * xi;
+                    worst = worst.max((reconstruct(&c[i * 3..i * 3 + 3], xi) - (-z).exp()).abs());
+                }
+            }
+            errs.push(worst);
+        }
+        for w in errs.windows(2) {
+            let order = (w[0] / w[1]).log2();
+            assert!((order - 3.0).abs() < 0.15, "order {order} from {errs:?}");
+        }
+        // Polar grid, a state of R alone: coefficients [cell R, cell phi,
+        // mode R, mode phi]; every mode with j_phi > 0 vanishes, and the
+        // R modes rebuild 1/R at the cell's nodes.
+        let r = Axis::uniform(Coord::R, 1.0, 2.0, 3).unwrap();
+        let phi = Axis::uniform(Coord::Phi, 0.0, 1.0, 2).unwrap();
+        let grid = Grid::new(vec![r, phi]).unwrap();
+        let rule = SamplingRule::Modes {
+            modes: 3,
+            points: 12,
+        };
+        let set = sample(&Disk, &grid, &rule, &GAS).unwrap();
+        let c = &set.get("density").unwrap().data;
+        assert_eq!(c.len(), 3 * 2 * 3 * 3);
+        for (idx, v) in c.iter().enumerate() {
+            if idx % 3 != 0 {
+                assert!(v.abs() < 1e-14, "index {idx}: {v}"); // round-off of ~0.7
+            }
+        }
+        let radial: Vec<f64> = (0..3).map(|jr| c[18 + jr * 3]).collect(); // cell (1, 0)
+        let rr = 1.0 + (1.0 + 0.5 * (1.0 + 0.3)) / 3.0;
+        assert!((reconstruct(&radial, 0.3) * rr - 1.0).abs() < 1e-3);
     }
 }

@@ -48,6 +48,26 @@ struct AxisNodes {
 }
 
 impl AxisNodes {
+    /// The nodes of `rule` in every cell of one axis as points of their own
+    /// (one per "cell" of the refined axis), for nodal values.
+    fn nodal(grid: &Grid, axis: usize, rule: &GaussLegendre) -> AxisNodes {
+        let mut nodes = Vec::new();
+        for w in grid.axes()[axis].edges.windows(2) {
+            let (mid, half) = (0.5 * (w[0] + w[1]), 0.5 * (w[1] - w[0]));
+            // The ends of a Lobatto rule are the edges themselves.
+            nodes.extend(rule.nodes.iter().map(|x| match *x {
+                x if x <= -1.0 => w[0],
+                x if x >= 1.0 => w[1],
+                x => mid + half * x,
+            }));
+        }
+        AxisNodes {
+            per_cell: 1,
+            weights: vec![1.0; nodes.len()],
+            nodes,
+        }
+    }
+
     fn new(grid: &Grid, axis: usize, rule: Option<&GaussLegendre>, cuts: &[f64]) -> AxisNodes {
         let edges = &grid.axes()[axis].edges;
         let inside = |w: &[f64]| cuts.iter().filter(|c| **c > w[0] && **c < w[1]).count();
@@ -138,6 +158,14 @@ pub struct Sampler<'a> {
     embed: Embedding,
     gas: GasConstants,
     averaged: bool,
+    /// Nodes per axis of a nodal rule (values at each node of each cell),
+    /// None otherwise.
+    nodal: Option<usize>,
+    /// A modal rule: modes per axis and the projection matrix of the nodal
+    /// values (see [`super::gauss::projection`]).
+    modal: Option<(usize, Vec<f64>)>,
+    /// Points per axis the lines run over: the cells, or cells × nodes.
+    shape: Vec<usize>,
     axes: Vec<AxisNodes>,
     active: Vec<bool>,
     lane: usize,
@@ -175,29 +203,50 @@ impl<'a> Sampler<'a> {
         cuts: &Cuts,
     ) -> Result<Sampler<'a>, SampleError> {
         let embed = check_inputs(bg, grid, rule, gas)?;
-        let gauss = match rule {
-            SamplingRule::Average { points } => GaussLegendre::new(*points),
+        let (gauss, nodal) = match rule {
+            SamplingRule::Average { points } => (GaussLegendre::new(*points), None),
             SamplingRule::AverageTo { tolerance, start } => {
                 return super::converge(bg, grid, *tolerance, *start, gas, cuts)
             }
-            SamplingRule::Center => None,
+            SamplingRule::Nodes { family, points } => (family.rule(*points), Some(*points)),
+            SamplingRule::Modes { points, .. } => (GaussLegendre::new(*points), Some(*points)),
+            SamplingRule::Center => (None, None),
         };
         let axes = (0..grid.axes().len())
-            .map(|a| AxisNodes::new(grid, a, gauss.as_ref(), cuts.on_axis(grid, a)))
+            .map(|a| match (nodal, gauss.as_ref()) {
+                (Some(_), Some(r)) => AxisNodes::nodal(grid, a, r),
+                _ => AxisNodes::new(grid, a, gauss.as_ref(), cuts.on_axis(grid, a)),
+            })
             .collect();
+        let k = nodal.unwrap_or(1);
+        let shape = grid.shape().iter().map(|c| c * k).collect();
         let active = embed.active_axes(bg.depends_on());
         let lane = active.iter().rposition(|a| *a).unwrap_or(0);
         let slots = Slots {
             ncomp: embed.components().len(),
         };
-        let entries = slots::catalogue(grid, gas, embed.components());
+        let modal = match (rule, gauss.as_ref()) {
+            (SamplingRule::Modes { modes, .. }, Some(r)) => {
+                Some((*modes, super::gauss::projection(*modes, r)))
+            }
+            _ => None,
+        };
+        let mut entries = slots::catalogue(grid, gas, embed.components());
+        if let Some(n) = modal.as_ref().map(|m| m.0).or(nodal) {
+            for e in &mut entries {
+                e.spec.placement.extra = vec![n; grid.axes().len()];
+            }
+        }
         let groups = vec![("background", entries.len())];
         Ok(Sampler {
             bg,
             grid,
             embed,
             gas: *gas,
-            averaged: gauss.is_some(),
+            averaged: gauss.is_some() && nodal.is_none(),
+            nodal,
+            modal,
+            shape,
             axes,
             active,
             lane,
@@ -296,7 +345,55 @@ impl<'a> Sampler<'a> {
     /// the `data` of a slab that was written) so that a stream of slabs
     /// allocates its memory once.
     pub fn slab_into(&self, rows: Range<usize>, reuse: Vec<Vec<f64>>) -> Result<Slab, SampleError> {
-        let shape = self.grid.shape();
+        let Some(n) = self.nodal else {
+            return self.points_into(rows, reuse);
+        };
+        // Nodal values: the lines run over every node as a point of its own
+        // (cells × n per axis); the values are then regrouped cell by cell,
+        // nodes as trailing dimensions.
+        let points = self.points_into(rows.start * n..rows.end * n, Vec::new())?;
+        let mut out_shape = self.grid.shape();
+        out_shape[0] = rows.len();
+        let nd = out_shape.len();
+        let per_cell = n.pow(nd as u32);
+        let total: usize = out_shape.iter().product::<usize>() * per_cell;
+        let mut data = reuse;
+        data.resize_with(points.data.len(), Vec::new);
+        for (d, src) in data.iter_mut().zip(&points.data) {
+            d.clear();
+            d.resize(total, 0.0);
+            let mut cell = vec![0usize; nd];
+            let mut node = vec![0usize; nd];
+            for (i, v) in d.iter_mut().enumerate() {
+                // i = (cell multi-index, node multi-index) in C order.
+                let mut rest = i;
+                for a in (0..nd).rev() {
+                    node[a] = rest % n;
+                    rest /= n;
+                }
+                for a in (0..nd).rev() {
+                    cell[a] = rest % out_shape[a];
+                    rest /= out_shape[a];
+                }
+                let mut j = 0;
+                for a in 0..nd {
+                    j = j * out_shape[a] * n + cell[a] * n + node[a];
+                }
+                *v = src[j];
+            }
+        }
+        if let Some((modes, m)) = &self.modal {
+            for d in &mut data {
+                *d = project(d, nd, n, *modes, m);
+            }
+        }
+        Ok(Slab { rows, data })
+    }
+
+    /// The slot values at the points `rows` of the first axis (cells, or
+    /// nodes of a nodal rule), one value per point.
+    fn points_into(&self, rows: Range<usize>, reuse: Vec<Vec<f64>>) -> Result<Slab, SampleError> {
+        let shape = self.shape.clone();
         let nd = shape.len();
         // The reduced grid: active axes keep their cells (the first axis only
         // the slab's rows), inactive ones have one.
@@ -556,7 +653,7 @@ impl<'a> Sampler<'a> {
         red: &[Range<usize>],
         mut data: Vec<Vec<f64>>,
     ) -> Slab {
-        let shape = self.grid.shape();
+        let shape = self.shape.clone();
         let nd = shape.len();
         let last = nd - 1;
         let run = if last == 0 { rows.len() } else { shape[last] };
@@ -608,4 +705,38 @@ impl<'a> Sampler<'a> {
             });
         Slab { rows, data }
     }
+}
+
+/// The modal coefficients of every cell from its q^nd node values (cells
+/// one after another): c[j…] = Σ_k Π_a m[j_a q + k_a] f[k…], in one fixed
+/// order of terms.
+fn project(values: &[f64], nd: usize, q: usize, modes: usize, m: &[f64]) -> Vec<f64> {
+    let per_node = q.pow(nd as u32);
+    let per_mode = modes.pow(nd as u32);
+    let mut out = Vec::with_capacity(values.len() / per_node * per_mode);
+    let (mut j, mut k) = (vec![0usize; nd], vec![0usize; nd]);
+    for cell in values.chunks(per_node) {
+        for jm in 0..per_mode {
+            let mut rest = jm;
+            for a in (0..nd).rev() {
+                j[a] = rest % modes;
+                rest /= modes;
+            }
+            let mut sum = 0.0;
+            for (kn, f) in cell.iter().enumerate() {
+                let mut rest = kn;
+                for a in (0..nd).rev() {
+                    k[a] = rest % q;
+                    rest /= q;
+                }
+                let mut w = *f;
+                for a in 0..nd {
+                    w *= m[j[a] * q + k[a]];
+                }
+                sum += w;
+            }
+            out.push(sum);
+        }
+    }
+    out
 }
