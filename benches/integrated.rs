@@ -33,7 +33,7 @@ const ACCURACY: f64 = 1e-12;
 fn main() {
     let loaded = stillpoint::profile::load("layered-atmosphere", &[]).expect("bundled profile");
     let m = &loaded.model;
-    let (lo, hi) = loaded.grid.background_range();
+    let (lo, hi) = loaded.grid.background_range(loaded.model.shape.frame());
     // Points spread over the grid, ends excluded, not on the knots.
     let zs: Vec<f64> = (0..N)
         .map(|i| lo + (hi - lo) * (i as f64 + 0.5) / N as f64)

@@ -41,9 +41,9 @@ pub mod grid;
 pub mod keys;
 pub mod model;
 pub mod output;
-pub mod perturb;
 #[cfg(feature = "mpi")]
 pub mod parallel;
+pub mod perturb;
 pub mod physics;
 pub mod pipeline;
 pub mod profile;

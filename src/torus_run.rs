@@ -31,7 +31,10 @@ pub fn torus(loaded: &Loaded) -> Result<Torus, Error> {
     let look = |e: &crate::formula::Expr| e.eval(&|n| m.lookup(n)).unwrap_or(f64::NAN);
     let mut names = m.parameters.clone();
     names.extend(crate::model::Model::builtin_names(m.units));
-    let hi = loaded.grid.background_range(crate::background::Frame::Axisymmetric).1;
+    let hi = loaded
+        .grid
+        .background_range(crate::background::Frame::Axisymmetric)
+        .1;
     Torus::new(TorusSpec {
         potential: m.potential_field.expr.clone(),
         k: look(&b.constant),

@@ -143,7 +143,16 @@ impl H5Stream {
                 });
             }
         }
-        Self::open(path, grid, meta, sampling, groups, (precision, filters), None).map_err(h5_error(path))
+        Self::open(
+            path,
+            grid,
+            meta,
+            sampling,
+            groups,
+            (precision, filters),
+            None,
+        )
+        .map_err(h5_error(path))
     }
 
     /// [`H5Stream::create`] by every rank of an MPI communicator at once

@@ -13,9 +13,9 @@
 pub mod arrays;
 mod csv;
 mod h5;
-pub mod xdmf;
 #[cfg(feature = "mpi")]
 mod h5_mpi;
+pub mod xdmf;
 
 use std::fs;
 use std::path::{Path, PathBuf};
