@@ -526,15 +526,16 @@ fn build(
     };
     #[cfg(feature = "mpi")]
     if !estimate && crate::parallel::launched() {
-        if want_csv {
+        if want_csv || npy.is_some() || raw.is_some() {
             return Err(Error::Usage(
-                "--csv: a parallel build writes the HDF5 file only; build the CSV table serially"
+                "--csv, --npy, --raw: a parallel build writes the HDF5 file only; build the \
+                 CSV table and the plain arrays serially"
                     .into(),
             ));
         }
         let written = crate::parallel::build(&loaded, &h5, force, reproducible, &opts, argv)?;
         if let Some(meta) = written {
-            report_written(&loaded, &h5, None, &meta.cautions);
+            report_written(&loaded, std::slice::from_ref(&h5), &meta.cautions);
         }
         return Ok(Outcome::Ok);
     }
