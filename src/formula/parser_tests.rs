@@ -278,3 +278,63 @@ fn known_names_and_suggestions() {
         }
     ));
 }
+
+/// Printed text parses back to a tree that prints as the same text, with
+/// the same value: unary minus binds tighter than `*` and `/` and looser
+/// than `^` (`-x^2` is `-(x^2)`, `-x*y` is `(-x)*y`), and a minus is never
+/// printed against another minus, since `--1.5` folds into `1.5`.
+#[test]
+fn unary_minus_prints_back_as_itself() {
+    let x = || Expr::Name("x".into());
+    let n = Expr::Num;
+    let neg = |e: Expr| Expr::Mul(vec![n(-1.0), e]);
+    let cases = [
+        // Trees the property test found (tests/formula_props.rs).
+        (
+            Expr::Mul(vec![Expr::Mul(vec![n(-1.0), x(), x()]), x()]),
+            "(-x*x)*x",
+        ),
+        (Expr::Mul(vec![n(-1.0), x(), x()]), "-x*x"),
+        (
+            neg(Expr::Mul(vec![Expr::Mul(vec![x(), x()]), x()])),
+            "-((x*x)*x)",
+        ),
+        (neg(Expr::Mul(vec![n(1.0), n(-1.5)])), "-(1*(-1.5))"),
+        (neg(Expr::Mul(vec![n(1.0), x()])), "-(1*x)"),
+        // Negation of a negative literal, of a negation, of powers.
+        (neg(n(-1.5)), "-1*(-1.5)"),
+        (neg(neg(n(0.5))), "-1*(-0.5)"),
+        (neg(neg(x())), "-(-x)"),
+        (neg(Expr::Mul(vec![n(-1.5), x()])), "-(-1.5*x)"),
+        (
+            Expr::Mul(vec![neg(Expr::Mul(vec![n(-1.5), x()])), x()]),
+            "-(-1.5*x)*x",
+        ),
+        (neg(Expr::Pow(Box::new(x()), Box::new(n(2.0)))), "-x^2"),
+        (Expr::Pow(Box::new(neg(x())), Box::new(n(2.0))), "(-x)^2"),
+        (Expr::Pow(Box::new(x()), Box::new(neg(x()))), "x^(-x)"),
+        (Expr::Pow(Box::new(x()), Box::new(neg(n(0.5)))), "1/x^0.5"),
+        (Expr::Mul(vec![x(), neg(x())]), "x*(-x)"),
+        (Expr::Add(vec![x(), neg(neg(x()))]), "x - (-x)"),
+        (
+            Expr::Add(vec![x(), Expr::Mul(vec![neg(x()), x()])]),
+            "x + (-x*x)",
+        ),
+        (Expr::Add(vec![x(), neg(n(-1.5))]), "x + (-1*(-1.5))"),
+    ];
+    for (tree, want) in cases {
+        let text = tree.to_string();
+        assert_eq!(text, want, "{tree:?}");
+        let back = parse(&text, None).unwrap_or_else(|e| panic!("{}", e.render(&text)));
+        assert_eq!(back.to_string(), text, "{back:?}");
+        let at = |e: &Expr| e.eval(&|v| (v == "x").then_some(0.7)).unwrap();
+        assert_eq!(at(&back).to_bits(), at(&tree).to_bits(), "{text}");
+    }
+    // Text with a minus prints as it was written.
+    for s in [
+        "-x*x", "-x/y", "(-x*x)*x", "-(x*y)", "-2*x", "x*-y", "-(-x)", "--x", "x - -x",
+    ] {
+        let once = parse(s, None).unwrap().to_string();
+        assert_eq!(parse(&once, None).unwrap().to_string(), once, "{s}");
+    }
+}

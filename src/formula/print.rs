@@ -70,6 +70,57 @@ fn wrap(p: (String, u8), min: u8) -> String {
     }
 }
 
+/// `wrap` for the operand right after an operator or a minus: text that
+/// starts with a minus goes in parentheses too, so that a minus is never
+/// printed against another (`--1.5` reads back as `1.5`, a literal).
+fn wrap_after(p: (String, u8), min: u8) -> String {
+    if p.0.starts_with('-') {
+        format!("({})", p.0)
+    } else {
+        wrap(p, min)
+    }
+}
+
+/// The literal number this text reads back as, if it is one (`1.5`,
+/// `-(0.5)`, `-0`): the parser folds a minus into a literal, so a minus in
+/// front of a negative one would change the number, not negate a tree.
+fn reads_as_number(t: &str) -> Option<f64> {
+    let mut s = t;
+    let mut negative = false;
+    loop {
+        if let Some(r) = s.strip_prefix('-') {
+            negative = !negative;
+            s = r;
+        } else if let Some(r) = s.strip_prefix('(').and_then(|r| r.strip_suffix(')')) {
+            // A wrong split, as in `(a)*(b)`, leaves a parenthesis behind
+            // and so no number.
+            s = r;
+        } else {
+            break;
+        }
+    }
+    if !s.starts_with(|c: char| c.is_ascii_digit()) {
+        return None;
+    }
+    let v: f64 = s.parse().ok()?;
+    Some(if negative { -v } else { v })
+}
+
+fn reads_as_negative_number(t: &str) -> bool {
+    reads_as_number(t).is_some_and(f64::is_sign_negative)
+}
+
+/// A power's exponent when it reads back as a negative literal: `x^(-n)`
+/// then prints as `1/x^n`, however the tree spells `-n`.
+fn negative_exponent(x: &Expr) -> Option<f64> {
+    match x {
+        Expr::Num(v) => Some(*v),
+        Expr::Mul(_) => reads_as_number(&text(x)),
+        _ => None,
+    }
+    .filter(|v| *v < 0.0)
+}
+
 /// Is this term printed with a leading minus (negative number or coefficient)?
 pub(super) fn negated(e: &Expr) -> Option<Expr> {
     match e {
@@ -79,6 +130,13 @@ pub(super) fn negated(e: &Expr) -> Option<Expr> {
                 let mut rest = fs.clone();
                 #[allow(clippy::float_cmp)] // exactly -1 is printed as a bare minus
                 if *c == -1.0 {
+                    // `-(-1.5)` would read back as the literal 1.5: the
+                    // product prints as `-1*(-1.5)` instead.
+                    if let [r] = &fs[1..] {
+                        if reads_as_negative_number(&text(r)) {
+                            return None;
+                        }
+                    }
                     rest.remove(0);
                 } else {
                     rest[0] = Expr::Num(-c);
@@ -111,7 +169,9 @@ pub(super) fn positive_first(ts: &[Expr]) -> Vec<&Expr> {
 /// Text and binding strength.
 fn piece(e: &Expr) -> (String, u8) {
     match e {
-        Expr::Num(v) if v.is_finite() => (number(*v), if *v < 0.0 { NEG } else { ATOM }),
+        Expr::Num(v) if v.is_finite() => {
+            (number(*v), if v.is_sign_negative() { NEG } else { ATOM })
+        }
         Expr::Num(v) => (number(*v), ATOM),
         Expr::Name(n) => (n.clone(), ATOM),
         Expr::Add(ts) if ts.is_empty() => ("0".into(), ATOM),
@@ -122,11 +182,11 @@ fn piece(e: &Expr) -> (String, u8) {
                     (0, _) => s += &wrap(piece(t), SUM),
                     (_, Some(pos)) => {
                         s += " - ";
-                        s += &wrap(piece(&pos), PRODUCT);
+                        s += &wrap_after(piece(&pos), PRODUCT);
                     }
                     (_, None) => {
                         s += " + ";
-                        s += &wrap(piece(t), PRODUCT);
+                        s += &wrap_after(piece(t), PRODUCT);
                     }
                 }
             }
@@ -135,14 +195,24 @@ fn piece(e: &Expr) -> (String, u8) {
         Expr::Mul(fs) if fs.is_empty() => ("1".into(), ATOM),
         Expr::Mul(_) => {
             if let Some(pos) = negated(e) {
-                return (format!("-{}", wrap(piece(&pos), PRODUCT)), PRODUCT);
+                // `-` applies to a unary (a power or another minus), and
+                // the result is a unary that can lead a product bare:
+                // `-x^2`, `-(-x)`, `-(x + 1)`. A product after the minus
+                // prints as one product, `-x*y`, which reads back as
+                // `(-x)*y` and prints the same.
+                let p = piece(&pos);
+                // `-1*x` would read back as the coefficient -1, printed `-x`.
+                let bare_product = p.1 == PRODUCT
+                    && !p.0.starts_with('-')
+                    && !p.0.starts_with("1*")
+                    && !leads_with_product(&pos);
+                let level = if bare_product { PRODUCT } else { NEG };
+                return (format!("-{}", wrap_after(p, level)), level);
             }
             product(e)
         }
         // x^(-n) reads as 1/x^n.
-        Expr::Pow(_, x) if x.as_number().is_some_and(|v| v < 0.0) => {
-            product(&Expr::Mul(vec![e.clone()]))
-        }
+        Expr::Pow(_, x) if negative_exponent(x).is_some() => product(&Expr::Mul(vec![e.clone()])),
         Expr::Pow(b, x) => {
             let base = wrap(piece(b), ATOM);
             (format!("{base}^{}", wrap(piece(x), POWER)), POWER)
@@ -163,6 +233,16 @@ fn piece(e: &Expr) -> (String, u8) {
     }
 }
 
+/// Does the product print with a product in parentheses first, as in
+/// `(x*y)*z`? A minus in front, `-(x*y)*z`, would read back as the factor
+/// `-x*y` in parentheses, so that negation keeps its own parentheses.
+fn leads_with_product(e: &Expr) -> bool {
+    let Expr::Mul(fs) = e else { return false };
+    fs.iter()
+        .find(|f| !matches!(f, Expr::Pow(_, x) if negative_exponent(x).is_some()))
+        .is_some_and(|f| piece(f).1 == PRODUCT)
+}
+
 /// A product split into numerator and denominator (`x^(-n)` goes below).
 fn product(e: &Expr) -> (String, u8) {
     let Expr::Mul(fs) = e else { return piece(e) };
@@ -170,8 +250,8 @@ fn product(e: &Expr) -> (String, u8) {
     let mut bottom = Vec::new();
     for f in fs {
         match f {
-            Expr::Pow(b, x) if matches!(**x, Expr::Num(v) if v < 0.0) => {
-                let v = x.as_number().unwrap_or(-1.0);
+            Expr::Pow(b, x) if negative_exponent(x).is_some() => {
+                let v = negative_exponent(x).unwrap_or(-1.0);
                 #[allow(clippy::float_cmp)] // exactly -1 means a plain divisor
                 let d = if v == -1.0 {
                     (**b).clone()
