@@ -16,7 +16,7 @@ use crate::output::{GroupPlan, H5Stream, Metadata, OutputError, Precision};
 use crate::perturb::report::Peaks;
 use crate::perturb::Perturbations;
 use crate::profile::{Loaded, ProfileError};
-use crate::sample::{self, Cuts, GasConstants, SampleError, Sampler};
+use crate::sample::{self, Cuts, GasConstants, SampleError, Sampler, SamplingRule};
 
 /// Anything that can stop a command.
 #[derive(Debug, thiserror::Error)]
@@ -177,6 +177,10 @@ pub struct Built<'a> {
     background: Solved,
     domain: Domain,
     perturbations: Perturbations,
+    /// A rule to a tolerance, resolved the first time a sampler is made
+    /// (resolving samples the grid twice per step; every sampler of the
+    /// build uses the same rule).
+    resolved: std::sync::OnceLock<sample::Resolved>,
     /// File metadata, without cautions: they come with the verification
     /// ([`Built::verify`], which [`Built::write_hdf5`] runs).
     pub metadata: Metadata,
@@ -222,6 +226,7 @@ pub fn build<'a>(
         background: bg,
         domain,
         perturbations,
+        resolved: std::sync::OnceLock::new(),
         metadata,
     })
 }
@@ -256,17 +261,38 @@ impl Built<'_> {
         Ok(meta)
     }
 
-    /// The sampler of the background on the profile's grid and rule.
+    /// The sampler of the state (background and perturbations) on the
+    /// profile's grid and rule.
     pub fn sampler(&self) -> Result<Sampler<'_>, Error> {
-        Sampler::with_cuts(
-            &self.background,
-            &self.loaded.grid,
-            &self.loaded.sampling,
-            &gas_constants(self.loaded),
-            &self.cuts(),
-        )
-        .map(|s| s.perturbed(&self.perturbations))
-        .map_err(|e| self.sample_error(e))
+        Ok(self.background_sampler()?.perturbed(&self.perturbations))
+    }
+
+    /// The sampler of the background alone; a rule to a tolerance is
+    /// resolved once per build.
+    fn background_sampler(&self) -> Result<Sampler<'_>, Error> {
+        let (grid, gas, cuts) = (&self.loaded.grid, gas_constants(self.loaded), self.cuts());
+        let sampler = match &self.loaded.sampling {
+            SamplingRule::AverageTo { tolerance, start } => {
+                let resolved = match self.resolved.get() {
+                    Some(r) => r,
+                    None => {
+                        let r = sample::resolve_tolerance(
+                            &self.background,
+                            grid,
+                            *tolerance,
+                            *start,
+                            &gas,
+                            &cuts,
+                        )
+                        .map_err(|e| self.sample_error(e))?;
+                        self.resolved.get_or_init(|| r)
+                    }
+                };
+                resolved.sampler(&self.background, grid, &gas, &cuts)
+            }
+            rule => Sampler::with_cuts(&self.background, grid, rule, &gas, &cuts),
+        };
+        sampler.map_err(|e| self.sample_error(e))
     }
 
     /// The switch points of the piecewise laws, in the balance coordinate:
@@ -303,14 +329,8 @@ impl Built<'_> {
     }
 
     fn sample_every_field(&self) -> Result<FieldSet, Error> {
-        sample::sample_with_cuts(
-            &self.background,
-            &self.loaded.grid,
-            &self.loaded.sampling,
-            &gas_constants(self.loaded),
-            &self.cuts(),
-        )
-        .map_err(|e| self.sample_error(e))
+        sample::sample_whole(&self.background_sampler()?, &self.loaded.grid)
+            .map_err(|e| self.sample_error(e))
     }
 
     /// The groups of the file: `/background` with the sampled fields, and

@@ -2,24 +2,9 @@
 //! checks, and bad input of each kind gives a clear message, a non-zero exit
 //! and no output file. Regression tests are named after the issue they pin.
 
-use std::path::Path;
-use std::process::{Command, Output};
-
-fn stillpoint(dir: &Path, args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_stillpoint"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("run stillpoint")
-}
-
-fn text(o: &Output) -> String {
-    format!(
-        "{}{}",
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    )
-}
+mod common;
+use common::{stillpoint, text};
+use std::process::Command;
 
 fn tmp() -> tempfile::TempDir {
     tempfile::tempdir().unwrap()

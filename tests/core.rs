@@ -4,28 +4,14 @@
 //! path agrees with its point path to the bit. Files are read back with
 //! h5py (`tests/core_check.py`), an HDF5 reader outside the project.
 
+mod common;
+use common::{stillpoint, text};
 use std::path::Path;
-use std::process::{Command, Output};
+use std::process::Command;
 
 use stillpoint::background::{Background, StateBlock, Want};
 use stillpoint::pipeline;
 use stillpoint::profile::{self, bundled};
-
-fn stillpoint(dir: &Path, args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_stillpoint"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("run stillpoint")
-}
-
-fn text(o: &Output) -> String {
-    format!(
-        "{}{}",
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    )
-}
 
 /// Run `tests/core_check.py VERB ARGS…` in `dir`; panics with its report
 /// unless it passes.

@@ -5,26 +5,11 @@
 //! from the same machine in the same test, the best of three runs each so
 //! that other work on the machine disturbs them least.
 
+mod common;
+use common::{stillpoint_with as stillpoint, text};
 use std::path::Path;
-use std::process::{Command, Output, Stdio};
+use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
-
-fn stillpoint(dir: &Path, args: &[&str], env: &[(&str, &str)]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_stillpoint"))
-        .args(args)
-        .envs(env.iter().copied())
-        .current_dir(dir)
-        .output()
-        .expect("run stillpoint")
-}
-
-fn text(o: &Output) -> String {
-    format!(
-        "{}{}",
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    )
-}
 
 /// Run the binary to the end; its wall time and peak resident bytes
 /// (`ru_maxrss` of `wait4`, in KiB on Linux). The child is reaped by

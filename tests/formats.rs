@@ -2,24 +2,10 @@
 //! binary in a temporary folder; outside readers (h5py, meshio, NumPy,
 //! pandas, astropy) check the files through `tests/formats_check.py`.
 
+mod common;
+use common::{stillpoint, text};
 use std::path::Path;
-use std::process::{Command, Output};
-
-fn stillpoint(dir: &Path, args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_stillpoint"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("run stillpoint")
-}
-
-fn text(o: &Output) -> String {
-    format!(
-        "{}{}",
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    )
-}
+use std::process::Command;
 
 fn ok(dir: &Path, args: &[&str]) -> String {
     let o = stillpoint(dir, args);

@@ -7,16 +7,10 @@
 //! `cargo test --features mpi --test mpi` (see `.ci/run`).
 #![cfg(feature = "mpi")]
 
+mod common;
+use common::text;
 use std::path::Path;
 use std::process::{Command, Output};
-
-fn text(o: &Output) -> String {
-    format!(
-        "{}{}",
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    )
-}
 
 fn serial(dir: &Path, args: &[&str]) -> Output {
     Command::new(env!("CARGO_BIN_EXE_stillpoint"))

@@ -4,24 +4,10 @@
 //! `/perturbation`. Files are read back with h5py (`tests/core_check.py`,
 //! `tests/perturb_check.py`).
 
+mod common;
+use common::{stillpoint, text};
 use std::path::Path;
-use std::process::{Command, Output};
-
-fn stillpoint(dir: &Path, args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_stillpoint"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("run stillpoint")
-}
-
-fn text(o: &Output) -> String {
-    format!(
-        "{}{}",
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    )
-}
+use std::process::Command;
 
 fn python(dir: &Path, script: &str, args: &[&str]) {
     let script = Path::new(env!("CARGO_MANIFEST_DIR"))

@@ -1,6 +1,8 @@
 //! Disks with their vertical structure and the 2D/3D geometries of issue 7,
 //! against outside references (each named beside its check).
 
+mod common;
+
 use std::path::Path;
 use std::process::Command;
 
@@ -127,17 +129,8 @@ fn stratified_disk_checks_both_balances_as_identities() {
 }
 
 fn stillpoint(dir: &Path, args: &[&str]) -> (Option<i32>, String) {
-    let o = Command::new(env!("CARGO_BIN_EXE_stillpoint"))
-        .current_dir(dir)
-        .args(args)
-        .output()
-        .unwrap();
-    let t = format!(
-        "{}{}",
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    );
-    (o.status.code(), t)
+    let o = common::stillpoint(dir, args);
+    (o.status.code(), common::text(&o))
 }
 
 fn with_grid(profile: &str, grid: &str) -> String {

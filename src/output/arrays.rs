@@ -185,8 +185,7 @@ pub fn description(
     }
     let mut out = json!({
         "generator": meta.generator,
-        "unit_system": units.key(),
-        "G": units.constants().g,
+        "scales": { "system": units.key(), "G": units.constants().g },
         "sampling": doc.state.sampling,
         "axis_order": names,
         "axes": axes,

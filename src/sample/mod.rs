@@ -220,7 +220,11 @@ pub fn sample_with_cuts(
     gas: &GasConstants,
     cuts: &Cuts,
 ) -> Result<FieldSet, SampleError> {
-    let sampler = Sampler::with_cuts(bg, grid, rule, gas, cuts)?;
+    sample_whole(&Sampler::with_cuts(bg, grid, rule, gas, cuts)?, grid)
+}
+
+/// Every field of `sampler` on the whole of `grid` (its grid), in memory.
+pub fn sample_whole(sampler: &Sampler<'_>, grid: &Grid) -> Result<FieldSet, SampleError> {
     let slab = sampler.slab(0..grid.shape()[0])?;
     Ok(FieldSet {
         shape: grid.shape(),
@@ -266,13 +270,57 @@ pub(crate) fn converge<'a>(
     gas: &GasConstants,
     cuts: &Cuts,
 ) -> Result<Sampler<'a>, SampleError> {
+    let resolved = resolve_tolerance(bg, grid, tolerance, start, gas, cuts)?;
+    resolved.sampler(bg, grid, gas, cuts)
+}
+
+/// A rule to a tolerance, resolved: the fixed number of points per axis it
+/// converged to, and the description that states what it met. Resolving
+/// costs two samplings of the grid per step; callers that need several
+/// samplers of one build resolve once and keep this.
+#[derive(Clone, Debug)]
+pub struct Resolved {
+    /// Gauss–Legendre points per axis (the n + 2 of the last comparison).
+    pub points: usize,
+    /// The rule, the tolerance and the estimate per field, for files.
+    pub description: String,
+}
+
+impl Resolved {
+    /// The sampler with the resolved rule and its description.
+    pub fn sampler<'a>(
+        &self,
+        bg: &'a dyn Background,
+        grid: &'a Grid,
+        gas: &GasConstants,
+        cuts: &Cuts,
+    ) -> Result<Sampler<'a>, SampleError> {
+        let rule = SamplingRule::Average {
+            points: self.points,
+        };
+        let mut s = Sampler::with_cuts(bg, grid, &rule, gas, cuts)?;
+        s.describe_as(self.description.clone());
+        Ok(s)
+    }
+}
+
+/// Resolves a rule to a tolerance (see [`converge`]) without keeping the
+/// sampler.
+pub fn resolve_tolerance(
+    bg: &dyn Background,
+    grid: &Grid,
+    tolerance: f64,
+    start: usize,
+    gas: &GasConstants,
+    cuts: &Cuts,
+) -> Result<Resolved, SampleError> {
     let shape = grid.shape();
     let row: usize = shape[1..].iter().product();
     let rows = (ESTIMATE_CELLS / row.max(1)).max(1);
     let mut n = start;
     loop {
         let lo = Sampler::with_cuts(bg, grid, &SamplingRule::Average { points: n }, gas, cuts)?;
-        let mut hi = Sampler::with_cuts(
+        let hi = Sampler::with_cuts(
             bg,
             grid,
             &SamplingRule::Average { points: n + 2 },
@@ -319,8 +367,10 @@ pub(crate) fn converge<'a>(
                 SamplingRule::Average { points: n + 2 }.describe(grid),
                 per_field.join(", ")
             );
-            hi.describe_as(text);
-            return Ok(hi);
+            return Ok(Resolved {
+                points: n + 2,
+                description: text,
+            });
         }
         n += 2;
     }

@@ -331,7 +331,7 @@ impl<'a> Sampler<'a> {
     }
 
     /// Replaces the description (a rule to a tolerance adds what it met).
-    pub(super) fn describe_as(&mut self, text: String) {
+    pub(crate) fn describe_as(&mut self, text: String) {
         self.sampling = text;
     }
 
