@@ -497,6 +497,13 @@ fn build(
         .unwrap_or_else(|| PathBuf::from(format!("{}.h5", loaded.model.name)));
     let want_csv = csv || loaded.output.csv;
     let csv_path = want_csv.then(|| h5.with_extension("csv"));
+    if h5.is_dir() {
+        return Err(Error::Usage(format!(
+            "{}: is a folder; name the output file inside it (for instance {})",
+            h5.display(),
+            h5.join(format!("{}.h5", loaded.model.name)).display()
+        )));
+    }
     let xmf = h5.with_extension("xmf");
     if [Some("xmf"), Some("csv"), Some("json")].contains(&h5.extension().and_then(|e| e.to_str())) {
         return Err(Error::Usage(format!(

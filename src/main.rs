@@ -9,6 +9,11 @@ use stillpoint::cli::{run, Cli, Outcome};
 fn main() -> ExitCode {
     let argv: Vec<String> = std::env::args().collect();
     let cli = Cli::parse();
+    // A build stopped by Ctrl-C or SIGTERM removes its temporary file.
+    if let Err(e) = stillpoint::output::partial::stop_on_signals() {
+        eprintln!("error: cannot watch for stopping signals: {e}");
+        return ExitCode::from(3);
+    }
     match run(cli, &argv.join(" ")) {
         Ok(Outcome::Ok) => ExitCode::SUCCESS,
         Ok(Outcome::Failed) => ExitCode::from(1),

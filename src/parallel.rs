@@ -111,6 +111,10 @@ pub fn build(
     meta.cautions = cautions;
     let created = agree(&world, rank, || Ok(vec![crate::output::utc_now()]))?;
     let temp = temp_name(&world, rank, h5)?;
+    if rank == 0 {
+        crate::output::partial::remove_stale(h5);
+    }
+    let _pending = crate::output::partial::register(&temp);
     let result = write(
         &world, rank, ranks, &built, loaded, &temp, &meta, opts, created,
     );
@@ -118,7 +122,10 @@ pub fn build(
     let ok = all_ok(&world, result.is_ok());
     if rank == 0 {
         if ok {
-            std::fs::rename(&temp, h5).map_err(|e| crate::output::OutputError::io(h5, e))?;
+            crate::output::partial::flush(&temp)
+                .and_then(|()| std::fs::rename(&temp, h5))
+                .map_err(|e| crate::output::OutputError::io(h5, e))?;
+            crate::output::partial::flush_parent(h5);
         } else {
             let _ = std::fs::remove_file(&temp);
         }
@@ -187,13 +194,10 @@ fn temp_name(world: &SimpleCommunicator, rank: usize, h5: &Path) -> Result<PathB
     let mut pid = std::process::id();
     world.process_at_rank(0).broadcast_into(&mut pid);
     let _ = rank;
-    let name = h5
-        .file_name()
-        .ok_or_else(|| Error::Usage(format!("{}: not a file name", h5.display())))?;
-    let mut t = std::ffi::OsString::from(".");
-    t.push(name);
-    t.push(format!(".partial-{pid}"));
-    Ok(h5.with_file_name(t))
+    if h5.file_name().is_none() {
+        return Err(Error::Usage(format!("{}: not a file name", h5.display())));
+    }
+    Ok(crate::output::partial::temp_path(h5, pid))
 }
 
 /// Create the file on every rank, sample this rank's block slab by slab

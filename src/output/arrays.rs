@@ -343,13 +343,18 @@ pub fn commit_dir<E: super::AtPath + From<OutputError>>(
         }
         .into());
     }
-    let name = path.file_name().unwrap_or_default().to_string_lossy();
-    let temp = path.with_file_name(format!(".{name}.partial-{}", std::process::id()));
+    super::partial::remove_stale(path);
+    let temp = super::partial::temp_path(path, std::process::id());
     let _ = fs::remove_dir_all(&temp);
+    let _pending = super::partial::register(&temp);
     if let Err(mut e) = write(&temp) {
         let _ = fs::remove_dir_all(&temp);
         e.at_path(path);
         return Err(e);
+    }
+    if let Err(e) = super::partial::flush(&temp) {
+        let _ = fs::remove_dir_all(&temp);
+        return Err(OutputError::io(path, e).into());
     }
     if force && path.is_dir() {
         fs::remove_dir_all(path).map_err(|e| OutputError::io(path, e))?;

@@ -15,6 +15,7 @@ mod csv;
 mod h5;
 #[cfg(feature = "mpi")]
 mod h5_mpi;
+pub mod partial;
 pub mod xdmf;
 
 use std::fs;
@@ -217,9 +218,12 @@ impl OutputError {
 }
 
 /// Writes an output all-or-nothing: refuses to replace an existing `path`
-/// unless `force`, lets `write` fill a temporary file `.<name>.partial-<pid>`
-/// in the same directory, removes it if `write` fails, and renames it onto
-/// `path` on success. Errors from `write` are reported against `path`.
+/// unless `force`, removes temporary files of `path` left by builds that
+/// were killed ([`partial::remove_stale`]), lets `write` fill a temporary
+/// file `.<name>.partial-<pid>` in the same directory (registered so that
+/// a stopping signal removes it, [`partial::stop_on_signals`]), removes it
+/// if `write` fails, flushes it to the disk and renames it onto `path` on
+/// success. Errors from `write` are reported against `path`.
 pub fn commit<E: AtPath + From<OutputError>>(
     path: &Path,
     force: bool,
@@ -232,13 +236,23 @@ pub fn commit<E: AtPath + From<OutputError>>(
         }
         .into());
     }
-    let Some(name) = path.file_name() else {
+    if path.is_dir() {
+        return Err(OutputError::Io {
+            path: path.to_path_buf(),
+            message: format!(
+                "is a folder; name the output file inside it (for instance {})",
+                path.join("out.h5").display()
+            ),
+        }
+        .into());
+    }
+    if path.file_name().is_none() {
         return Err(OutputError::Io {
             path: path.to_path_buf(),
             message: "not a file name".to_string(),
         }
         .into());
-    };
+    }
     // Say plainly when the folder is missing, rather than let the writer
     // fail on the temporary file's name.
     let dir = path
@@ -255,14 +269,17 @@ pub fn commit<E: AtPath + From<OutputError>>(
         }
         .into());
     }
-    let mut temp_name = std::ffi::OsString::from(".");
-    temp_name.push(name);
-    temp_name.push(format!(".partial-{}", std::process::id()));
-    let temp = path.with_file_name(temp_name);
+    partial::remove_stale(path);
+    let temp = partial::temp_path(path, std::process::id());
+    let _pending = partial::register(&temp);
     if let Err(mut e) = write(&temp) {
         let _ = fs::remove_file(&temp);
         e.at_path(path);
         return Err(e);
+    }
+    if let Err(e) = partial::flush(&temp) {
+        let _ = fs::remove_file(&temp);
+        return Err(OutputError::io(path, e).into());
     }
     let placed = if force {
         fs::rename(&temp, path).map_err(io)
@@ -279,6 +296,8 @@ pub fn commit<E: AtPath + From<OutputError>>(
     };
     if placed.is_err() {
         let _ = fs::remove_file(&temp);
+    } else {
+        partial::flush_parent(path);
     }
     placed.map_err(E::from)
 }
