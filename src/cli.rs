@@ -129,6 +129,22 @@ pub enum Command {
         #[arg(long)]
         csv: bool,
     },
+    /// Confirm a written HDF5 file: every field dataset against its recorded
+    /// checksum, then a rebuild of the profile it records compared dataset
+    /// by dataset; exits 1 when anything differs.
+    #[command(
+        after_help = "Checksums are SHA-256 of each field dataset's values as stored (C order, \
+                      little-endian, the file's precision), in its attribute `checksum`. The \
+                      creation time and the command line are not compared.\n\n\
+                      Examples:\n  stillpoint confirm quiet-slab.h5\n  stillpoint confirm disk.h5 --no-rebuild"
+    )]
+    Confirm {
+        /// The HDF5 file.
+        file: PathBuf,
+        /// Only compare the checksums; do not build the profile again.
+        #[arg(long)]
+        no_rebuild: bool,
+    },
     /// Print the derived laws and the derivatives used, as formulas.
     #[command(after_help = "Example:\n  stillpoint derive profiles/ring-disk.json --latex")]
     Derive {
@@ -364,6 +380,16 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 );
             }
             Ok(Outcome::Ok)
+        }
+        Command::Confirm { file, no_rebuild } => {
+            let report = crate::confirm::confirm(&file, !no_rebuild, rebuild_into)?;
+            say!("{}", file.display());
+            say!("{report}");
+            Ok(if report.passed() {
+                Outcome::Ok
+            } else {
+                Outcome::Failed
+            })
         }
         Command::Derive { common, latex } => {
             let loaded = common.load()?;
@@ -692,6 +718,24 @@ fn check_torus(loaded: &Loaded, tolerance: f64) -> Result<Outcome, Error> {
     } else {
         Outcome::Failed
     })
+}
+
+/// Build `loaded` into the HDF5 file `path` (no XDMF, CSV or arrays), as
+/// `build` would: what `confirm` compares a file with.
+fn rebuild_into(loaded: &Loaded, path: &Path) -> Result<(), Error> {
+    let opts = pipeline::StreamOptions {
+        precision: loaded.output.precision,
+        slab_rows: None,
+    };
+    if loaded.model.torus.is_some() {
+        let t = crate::torus_run::torus(loaded)?;
+        let v = crate::torus_run::verdict(loaded, &t, check::DEFAULT_TOLERANCE)?;
+        let meta = crate::torus_run::metadata(loaded, &t, &v, "", true);
+        return crate::torus_run::write_hdf5(loaded, &t, &meta, path, &opts);
+    }
+    pipeline::build(loaded, "", true)?
+        .write_hdf5(path, &opts)
+        .map(|_| ())
 }
 
 fn report_written(loaded: &Loaded, written: &[PathBuf], cautions: &[String]) {

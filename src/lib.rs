@@ -34,6 +34,7 @@ pub mod background;
 pub mod check;
 pub mod cli;
 pub mod closure;
+pub mod confirm;
 pub mod estimate;
 pub mod fields;
 pub mod formula;

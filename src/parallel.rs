@@ -118,19 +118,29 @@ pub fn build(
     let result = write(
         &world, rank, ranks, &built, loaded, &temp, &meta, opts, created,
     );
-    // Everyone has closed the file (or failed): rank 0 commits it.
+    // Everyone has closed the file (or failed): rank 0 adds the checksums
+    // and commits it; every rank waits for that before it returns.
     let ok = all_ok(&world, result.is_ok());
+    let mut committed: Result<(), Error> = Ok(());
     if rank == 0 {
         if ok {
-            crate::output::partial::flush(&temp)
-                .and_then(|()| std::fs::rename(&temp, h5))
-                .map_err(|e| crate::output::OutputError::io(h5, e))?;
-            crate::output::partial::flush_parent(h5);
-        } else {
+            committed = crate::output::checksum::add_to_file(&temp)
+                .and_then(|()| {
+                    crate::output::partial::flush(&temp)
+                        .and_then(|()| std::fs::rename(&temp, h5))
+                        .map_err(|e| crate::output::OutputError::io(h5, e))
+                })
+                .map_err(Error::from);
+            if committed.is_ok() {
+                crate::output::partial::flush_parent(h5);
+            }
+        }
+        if !ok || committed.is_err() {
             let _ = std::fs::remove_file(&temp);
         }
     }
     world.barrier();
+    committed?;
     match (result, ok) {
         (Err(e), _) => Err(e),
         (Ok(()), false) => Err(Error::Usage(

@@ -82,6 +82,8 @@ pub struct H5Stream {
     file: File,
     path: std::path::PathBuf,
     groups: Vec<(String, Vec<(FieldSpec, Dataset)>)>,
+    /// The running checksum of each dataset of `groups`.
+    sums: Vec<Vec<super::checksum::Running>>,
     n0: usize,
     precision: Precision,
     sampling: String,
@@ -237,10 +239,19 @@ impl H5Stream {
             }
             written.push((plan.name.clone(), sets));
         }
+        let sums = written
+            .iter()
+            .map(|(_, sets)| {
+                sets.iter()
+                    .map(|_| super::checksum::Running::new())
+                    .collect()
+            })
+            .collect();
         Ok(H5Stream {
             file,
             path: path.to_path_buf(),
             groups: written,
+            sums,
             n0: cells[0],
             precision,
             sampling: sampling.to_string(),
@@ -277,6 +288,16 @@ impl H5Stream {
         let sets = self.sets(group, Some(slab.data.len()))?;
         for ((spec, ds), data) in sets.iter().zip(&slab.data) {
             write_rows(ds, spec, slab.rows.clone(), self.n0, data, self.precision).map_err(&err)?;
+        }
+        if let Some(g) = self.groups.iter().position(|(n, _)| n == group) {
+            let (n0, precision) = (self.n0, self.precision);
+            for ((spec, _), (sum, data)) in self.groups[g]
+                .1
+                .iter()
+                .zip(self.sums[g].iter_mut().zip(&slab.data))
+            {
+                sum.rows(spec.placement.rows(slab.rows.clone(), n0), data, precision);
+            }
         }
         Ok(())
     }
@@ -320,6 +341,23 @@ impl H5Stream {
         let created = self.created.clone().unwrap_or_else(utc_now);
         root_attributes(&self.file, meta, &self.sampling, self.precision, &created)
             .map_err(h5_error(&self.path))?;
+        // Checksums of a serial file: from the rows as written, or read
+        // back where they did not come in order. A shared file gets them
+        // from rank 0 after it is closed (`checksum::add_to_file`).
+        if !self.collective {
+            let sums = std::mem::take(&mut self.sums);
+            for ((_, sets), sums) in self.groups.iter().zip(sums) {
+                for ((_, ds), sum) in sets.iter().zip(sums) {
+                    let text = match sum.finish(ds.shape().first().copied().unwrap_or(1)) {
+                        Some(t) => t,
+                        None => super::checksum::of_dataset(ds)
+                            .map_err(|e| h5_error(&self.path)(Box::new(e)))?,
+                    };
+                    string_attr(ds, super::checksum::ATTRIBUTE, &text)
+                        .map_err(h5_error(&self.path))?;
+                }
+            }
+        }
         // Every dataset is closed before the file (a shared file refuses
         // to close with objects open).
         self.groups.clear();

@@ -11,6 +11,7 @@
 //! arranges numbers it is given and writes their units.
 
 pub mod arrays;
+pub mod checksum;
 mod csv;
 mod h5;
 #[cfg(feature = "mpi")]
