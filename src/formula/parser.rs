@@ -37,6 +37,7 @@ pub(crate) fn parse(src: &str, known: Option<&[&str]>) -> Result<Expr, FormulaEr
         pos: 0,
         known,
         legacy: Legacy::default(),
+        depth: 0,
     };
     let result = p.whole();
     // The old form is reported first: its rewrite is what the user needs
@@ -81,15 +82,45 @@ impl Item {
 
 const A_CONDITIONAL: &str = "a conditional reads `a if condition else b`";
 
+/// The deepest nesting a formula may have (parentheses, call arguments,
+/// `else` branches, `-`, `^`, `not`, each one level): the parser and every
+/// walk over the tree recurse, and a deeper formula would exhaust the
+/// stack. Hand-written laws stay far below.
+pub(crate) const MAX_NESTING: usize = 200;
+
 struct Parser<'a> {
     src: &'a str,
     toks: Vec<Token>,
     pos: usize,
     known: Option<&'a [&'a str]>,
     legacy: Legacy,
+    /// Current nesting (see [`MAX_NESTING`]).
+    depth: usize,
 }
 
 impl Parser<'_> {
+    /// Runs `inner` one level deeper, refusing a formula nested deeper
+    /// than [`MAX_NESTING`] at the token where it happens.
+    fn nested(
+        &mut self,
+        inner: fn(&mut Self) -> Result<Item, FormulaError>,
+    ) -> Result<Item, FormulaError> {
+        if self.depth >= MAX_NESTING {
+            return Err(syntax(
+                self.here().span.clone(),
+                format!(
+                    "the formula is nested more than {MAX_NESTING} levels deep here (parentheses, \
+                     call arguments, conditionals, `-`, `^`, `not`); give inner parts names of \
+                     their own under `parameters`"
+                ),
+            ));
+        }
+        self.depth += 1;
+        let r = inner(self);
+        self.depth -= 1;
+        r
+    }
+
     fn peek(&self) -> &Tok {
         &self.toks[self.pos].tok
     }
@@ -208,7 +239,7 @@ impl Parser<'_> {
         if self.peek() == &Tok::End {
             return Err(self.expected("a formula after `else`", ""));
         }
-        let other = self.formula()?;
+        let other = self.nested(Self::formula)?;
         self.legacy.slot(&other.span);
         let end = other.span.end;
         let other = self.value(other, "after `else`")?;
@@ -253,7 +284,7 @@ impl Parser<'_> {
             return self.chain();
         }
         let start = self.bump().span.start;
-        let it = self.negation()?;
+        let it = self.nested(Self::negation)?;
         let end = it.span.end;
         let c = self.test(it, "after `not`")?;
         Ok(Item::test(Cond::Not(Box::new(c)), start..end))
@@ -356,7 +387,7 @@ impl Parser<'_> {
             return self.power();
         }
         let start = self.bump().span.start;
-        let it = self.unary()?;
+        let it = self.nested(Self::unary)?;
         let end = it.span.end;
         Ok(Item::value(
             negate(self.value(it, "after `-`")?),
@@ -372,7 +403,7 @@ impl Parser<'_> {
         self.bump();
         let start = base.span.start;
         let base = self.value(base, "before `^`")?;
-        let exp = self.unary()?;
+        let exp = self.nested(Self::unary)?;
         let end = exp.span.end;
         let exp = self.value(exp, "after `^`")?;
         Ok(Item::value(base.pow(exp), start..end))
@@ -383,7 +414,7 @@ impl Parser<'_> {
         match t.tok {
             Tok::Num(v) => Ok(Item::value(Expr::Num(v), t.span)),
             Tok::LParen => {
-                let inner = self.formula()?;
+                let inner = self.nested(Self::formula)?;
                 self.legacy.slot(&inner.span);
                 let end = self.close(t.span.start)?;
                 Ok(Item {
@@ -442,11 +473,11 @@ impl Parser<'_> {
         let c_span = c.span.clone();
         let c = self.test(c, "as the first argument of `if(...)`")?;
         self.comma("the condition")?;
-        let a = self.formula()?;
+        let a = self.nested(Self::formula)?;
         let a_span = a.span.clone();
         let a = self.value(a, "as the second argument of `if(...)`")?;
         self.comma("the second argument")?;
-        let b = self.formula()?;
+        let b = self.nested(Self::formula)?;
         self.legacy.slot(&b.span);
         let b_span = b.span.clone();
         let b = self.value(b, "as the third argument of `if(...)`")?;
@@ -498,7 +529,7 @@ impl Parser<'_> {
         let mut args = Vec::new();
         if self.peek() != &Tok::RParen {
             loop {
-                let a = self.formula()?;
+                let a = self.nested(Self::formula)?;
                 self.legacy.slot(&a.span);
                 args.push(self.value(a, &format!("as an argument of `{n}`"))?);
                 if self.peek() != &Tok::Comma {

@@ -338,3 +338,26 @@ fn unary_minus_prints_back_as_itself() {
         assert_eq!(parse(&once, None).unwrap().to_string(), once, "{s}");
     }
 }
+
+#[test]
+fn nesting_deeper_than_the_limit_is_refused_at_its_token() {
+    let ok = format!("{}x{}", "(".repeat(MAX_NESTING), ")".repeat(MAX_NESTING));
+    assert!(parse(&ok, None).is_ok());
+    for deep in [
+        format!("{}x{}", "(".repeat(20_000), ")".repeat(20_000)),
+        format!("{}x", "-".repeat(20_000)),
+        format!("{}x", "2^".repeat(20_000)),
+        format!(
+            "sin({}x{})",
+            "(".repeat(MAX_NESTING),
+            ")".repeat(MAX_NESTING)
+        ),
+    ] {
+        match parse(&deep, None) {
+            Err(FormulaError::Syntax { message, .. }) => {
+                assert!(message.contains("nested more than 200 levels"), "{message}")
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+}

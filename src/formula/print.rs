@@ -16,25 +16,54 @@ pub(super) const NEG: u8 = 3;
 pub(super) const POWER: u8 = 4;
 pub(super) const ATOM: u8 = 5;
 
+/// Longest formula text an error shows; a longer one is cut to a window
+/// around the caret, with `…` where text was left out.
+const SHOWN: usize = 120;
+
 /// Render an error: the formula, a caret line, the message.
 pub(crate) fn render_error(err: &FormulaError, source: &str) -> String {
-    let line: String = source
+    let chars: Vec<char> = source
         .chars()
         .map(|c| if c.is_whitespace() { ' ' } else { c })
         .collect();
-    match err.span() {
-        Some(span) => {
-            let start = source
-                .get(..span.start.min(source.len()))
-                .map_or(0, |s| s.chars().count());
-            let width = source
-                .get(span.start.min(source.len())..span.end.min(source.len()))
-                .map_or(0, |s| s.chars().count())
-                .max(1);
-            format!("{line}\n{}{}\n{err}", " ".repeat(start), "^".repeat(width))
-        }
-        None => format!("{line}\n{err}"),
+    let Some(span) = err.span() else {
+        let line: String = if chars.len() > SHOWN {
+            chars[..SHOWN].iter().chain(['…'].iter()).collect()
+        } else {
+            chars.iter().collect()
+        };
+        return format!("{line}\n{err}");
+    };
+    let start = source
+        .get(..span.start.min(source.len()))
+        .map_or(0, |s| s.chars().count());
+    let width = source
+        .get(span.start.min(source.len())..span.end.min(source.len()))
+        .map_or(0, |s| s.chars().count())
+        .max(1);
+    // The window of text shown: all of it, or SHOWN characters around the caret.
+    let (from, to) = if chars.len() <= SHOWN {
+        (0, chars.len())
+    } else {
+        let from = start.saturating_sub(SHOWN / 2).min(chars.len() - SHOWN);
+        (from, from + SHOWN)
+    };
+    let mut line = String::new();
+    let mut caret_at = start - from.min(start);
+    if from > 0 {
+        line.push('…');
+        caret_at += 1;
     }
+    line.extend(&chars[from..to]);
+    if to < chars.len() {
+        line.push('…');
+    }
+    let width = width.min(to.saturating_sub(start).max(1));
+    format!(
+        "{line}\n{}{}\n{err}",
+        " ".repeat(caret_at),
+        "^".repeat(width)
+    )
 }
 
 /// A number as text that parses back to the same f64.

@@ -12,7 +12,8 @@
 //! left out of reproducible files) and the metadata's extra pairs; on every
 //! dataset `units`, `placement` and (fields) `sampling`, `chunks` (the
 //! chunk shape, `64 x 384`) and `filters` (`none`, `deflate 4`,
-//! `shuffle, deflate 4`). Object time stamps
+//! `shuffle, deflate 4`), and on field datasets `checksum` (see
+//! [`super::checksum`]). Object time stamps
 //! are off, so two builds of one profile give identical datasets. Does not
 //! own the all-or-nothing placement of the file (see [`super::commit`]) nor
 //! any physics.
