@@ -9,7 +9,7 @@
 //! | layout | frame | frame coordinates | grid components |
 //! |---|---|---|---|
 //! | `[z]` | slab | s = z | z |
-//! | `[x, y]`, `[x, z]`, `[x, y, z]` | slab | s = the slab axis | the grid's axes |
+//! | `[x, y]`, `[x, z]`, `[x, y, z]` | slab | s = the slab axis | the grid's axes (frame vectors: across the layers, then the other axes in order) |
 //! | `[r]`, `[r, theta]`, `[r, theta, phi]` | spherical | r | r (theta, phi) |
 //! | `[x, y]`, `[x, z]`, `[x, y, z]` | spherical | r = \|x\| | the grid's axes |
 //! | `[R]` | axisymmetric | (R, 0) | R, phi |
@@ -178,11 +178,15 @@ impl Embedding {
         let nc = self.components.len();
         match (self.frame, self.layout) {
             (Frame::Slab, _) => {
+                // v[0] across the layers, v[1] and v[2] along the grid's
+                // other axes in order (a slab at rest has them zero).
+                let mut other = 1;
                 for (c, o) in out[..nc].iter_mut().enumerate() {
                     if c == self.slab_axis {
                         o[..n].copy_from_slice(&v[0][..n]);
                     } else {
-                        o[..n].fill(0.0);
+                        o[..n].copy_from_slice(&v[other][..n]);
+                        other += 1;
                     }
                 }
             }
