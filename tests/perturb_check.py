@@ -15,6 +15,12 @@ Usage:
       dv = A c cos(k z + phase), c^2 = gamma P/rho (the linear acoustic
       eigenfunction, e.g. Landau & Lifshitz, Fluid Mechanics, section 64),
       and the peak of drho/rho is A to the cell-averaging factor.
+  perturb_check.py alone FILE INDEX FIELD PEAK
+      the root attribute `perturbations_alone` (JSON) holds one entry per
+      perturbation; entry INDEX has peaks[FIELD] = PEAK to 1e-3, `largest`
+      is the largest of its peaks, and `standing` is "larger" or "smaller"
+      as `largest` is above `discrete_imbalance` or not; a perturbation
+      below it appears among the `cautions`.
 Exits 1 on any disagreement, naming it.
 """
 import json
@@ -86,10 +92,37 @@ def wave(path, a, k, phase, gamma, g, cs2, p0):
     return bad
 
 
+def alone(path, index, field, peak):
+    bad = []
+    with h5py.File(path, "r") as f:
+        entries = json.loads(f.attrs["perturbations_alone"])
+        count = len(json.loads(f.attrs["perturbations"]))
+        cautions = f.attrs["cautions"]
+        cautions = cautions if isinstance(cautions, str) else " ".join(map(str, cautions))
+    if len(entries) != count:
+        bad.append(f"{len(entries)} entries for {count} perturbations")
+    e = entries[int(index)]
+    got = e["peaks"].get(field)
+    if got is None or not abs(got / peak - 1) < 1e-3:
+        bad.append(f"peaks[{field}] = {got}, expected {peak}")
+    largest = max(e["peaks"].values())
+    if largest != e["largest"]:
+        bad.append(f"largest {e['largest']} is not the largest peak {largest}")
+    x = e["discrete_imbalance"]
+    want = "larger" if largest > x else "smaller"
+    if e["standing"] != want:
+        bad.append(f"standing {e['standing']}, expected {want} ({largest} vs {x})")
+    if want == "smaller" and e["origin"] not in cautions:
+        bad.append(f"no caution for {e['origin']} below the imbalance")
+    return bad
+
+
 def main():
     verb = sys.argv[1]
     if verb == "sum":
         bad = sum_check(sys.argv[2])
+    elif verb == "alone":
+        bad = alone(sys.argv[2], sys.argv[3], sys.argv[4], float(sys.argv[5]))
     elif verb == "wave":
         bad = wave(sys.argv[2], *map(float, sys.argv[3:]))
     else:
