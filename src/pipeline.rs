@@ -145,6 +145,7 @@ pub fn solve_unverified(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
 /// perturbation's entry.
 pub fn perturbations_alone(loaded: &Loaded, bg: &dyn Background) -> Vec<Result<Alone, Error>> {
     let gas = gas_constants(loaded);
+    let gamma = loaded.model.gamma;
     let grid = &loaded.grid;
     let shape = grid.shape();
     let per_row: usize = shape[1..].iter().product::<usize>().max(1);
@@ -167,7 +168,7 @@ pub fn perturbations_alone(loaded: &Loaded, bg: &dyn Background) -> Vec<Result<A
                 .perturbed(&one);
             let groups = sampler.groups();
             let (nb, ns) = (groups[0].1.len(), groups[1].1.len());
-            let mut peaks = Peaks::default();
+            let mut peaks = Peaks::new(gamma);
             for r in slab_ranges(shape[0], rows) {
                 let slab = sampler.slab(r).map_err(label)?;
                 peaks.update(
@@ -495,13 +496,14 @@ impl Built<'_> {
         };
         let shape = grid.shape();
         let rows = slab_rows(&shape, fields.len(), opts);
+        let gamma = self.loaded.model.gamma;
         if rayon::current_num_threads() == 1 {
             // One thread: verify (a refused state stops before any work),
             // then sample and write in turn.
             let meta = self.verify()?;
             let mut out = create()?;
             let mut reuse = Vec::new();
-            let mut peaks = Peaks::default();
+            let mut peaks = Peaks::new(gamma);
             for r in slab_ranges(shape[0], rows) {
                 let slab = sampler
                     .slab_into(r, reuse)
@@ -527,7 +529,7 @@ impl Built<'_> {
             let (back, spent) = std::sync::mpsc::channel::<Vec<Vec<f64>>>();
             let split = &split;
             let writer = scope.spawn(move || -> Result<(H5Stream, Peaks), OutputError> {
-                let mut peaks = Peaks::default();
+                let mut peaks = Peaks::new(gamma);
                 for slab in rx {
                     let data = split.write(&mut out, slab, &mut peaks)?;
                     let _ = back.send(data);

@@ -126,7 +126,7 @@ fn number_after(line: &str, key: &str) -> f64 {
         .find(key)
         .unwrap_or_else(|| panic!("no `{key}` in {line:?}"));
     line[at + key.len()..]
-        .split(|c: char| c == ' ' || c == ',' || c == ')')
+        .split([' ', ',', ')'])
         .find(|s| !s.is_empty())
         .and_then(|s| s.parse().ok())
         .unwrap_or_else(|| panic!("no number after `{key}` in {line:?}"))

@@ -18,8 +18,9 @@ use crate::model::Model;
 /// The directions a velocity perturbation may point along on `grid`: those
 /// that lie, at every point of the grid, in the span of the velocity
 /// components the file writes (so nothing asked for is dropped by the
-/// projection onto them). A line writes its own direction (and an `R` line
-/// `phi` too, at φ = 0 where x = R); a plane `[R, phi]` or `[x, y]` the
+/// projection onto them). A line writes its own direction (an `R` line
+/// `phi` too; the points of an `R` or `r` line lie on the x axis, where
+/// e_x = e_R = e_r); a plane `[R, phi]` or `[x, y]` the
 /// directions in the midplane; a section `[x, z]` those in the plane y = 0;
 /// every grid with three components any direction.
 pub fn velocity_directions(grid: &Grid) -> Vec<Coord> {
@@ -27,6 +28,7 @@ pub fn velocity_directions(grid: &Grid) -> Vec<Coord> {
     use Coord::*;
     match grid.layout() {
         Layout::Line(Coord::R) => vec![R, Phi, X, Y],
+        Layout::Line(Coord::Sph) => vec![Sph, X, R],
         Layout::Line(c) => vec![c],
         Layout::Polar | Layout::Cartesian => vec![R, Phi, X, Y, Sph],
         Layout::Section => vec![X, Z, R, Sph, Theta],

@@ -10,10 +10,13 @@
 use crate::fields::FieldSpec;
 
 /// The largest |δq|/|q| of density and pressure, and |δv|/c of the
-/// velocity components (c the background's sound speed field), over the
-/// cells seen so far.
-#[derive(Clone, Debug, Default, PartialEq)]
+/// velocity components (c = √γ × the background's `sound_speed` field, the
+/// adiabatic sound speed √(γP/ρ) that `relative_to: "sound_speed"` means),
+/// over the cells seen so far.
+#[derive(Clone, Debug, PartialEq)]
 pub struct Peaks {
+    /// √γ: the adiabatic over the isothermal sound speed.
+    pub adiabatic: f64,
     /// (field, peak) of density, pressure and the velocity components.
     pub fields: Vec<(String, f64)>,
     /// (field, max |δΦ|, max |Φ| of the background) of the potential and
@@ -22,7 +25,22 @@ pub struct Peaks {
     pub potentials: Vec<(String, f64, f64)>,
 }
 
+impl Default for Peaks {
+    fn default() -> Self {
+        Peaks::new(1.0)
+    }
+}
+
 impl Peaks {
+    /// No cells seen yet, for a gas of adiabatic index `gamma`.
+    pub fn new(gamma: f64) -> Peaks {
+        Peaks {
+            adiabatic: gamma.sqrt(),
+            fields: Vec::new(),
+            potentials: Vec::new(),
+        }
+    }
+
     /// Fold in one slab: `background` and `alone` are the data of the two
     /// groups (fields in the order of `bg_fields` and `alone_fields`).
     pub fn update(
@@ -57,10 +75,11 @@ impl Peaks {
                 continue;
             }
             let Some(r) = reference else { continue };
+            let scale = if Some(r) == cs { self.adiabatic } else { 1.0 };
             let peak = alone[k]
                 .iter()
                 .zip(&background[r])
-                .map(|(d, q)| (d / q).abs())
+                .map(|(d, q)| (d / (q * scale)).abs())
                 .fold(0.0, f64::max);
             match self.fields.iter_mut().find(|(n, _)| *n == f.name) {
                 Some((_, p)) => *p = p.max(peak),
@@ -105,7 +124,7 @@ impl Peaks {
             .filter(|(_, p)| keep(*p))
             .map(|(n, p)| {
                 let of = if n.starts_with("velocity_") {
-                    " of the sound speed"
+                    " of the sound speed (gamma P/rho)^(1/2)"
                 } else {
                     ""
                 };

@@ -127,7 +127,7 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
             Ok(())
         } else {
             Err(node.error(format!(
-                "a {what} needs an azimuth: it works on a disk (balance.shape \"disk\") only"
+                "{what} needs an azimuth: it works on a disk (balance.shape \"disk\") only"
             )))
         }
     };
@@ -224,7 +224,7 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
                 None => None,
                 Some(b) => {
                     let b = b.node();
-                    needs_disk("azimuthal band")?;
+                    needs_disk("an azimuthal band")?;
                     let axes = names.grid.axes();
                     let has = |c: Coord| axes.iter().any(|a| a.coord == c);
                     if !has(Coord::Phi) && (has(Coord::X) || has(Coord::Y)) {
@@ -251,7 +251,7 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
             }
         }
         3 => {
-            needs_disk("mode")?;
+            needs_disk("a mode")?;
             let t = target(node, names, true)?;
             let m_node = node.require("m")?;
             let m = m_node
