@@ -459,6 +459,27 @@ mod tests {
     }
 
     #[test]
+    fn a_slab_carries_horizontal_vectors_on_the_other_axes() {
+        // The slab frame's vectors: across the layers, then the grid's
+        // other axes in order (a perturbation's horizontal velocity).
+        let ax = |c, a, b| Axis::uniform(c, a, b, 2).unwrap();
+        let boxed = Grid::new(vec![
+            ax(Coord::X, -1.0, 1.0),
+            ax(Coord::Y, -1.0, 1.0),
+            ax(Coord::Z, 0.0, 1.0),
+        ])
+        .unwrap();
+        let (_, v) = project_one(&boxed, Frame::Slab, &[0.5, 0.5, 0.5], [1.0, 2.0, 3.0]);
+        assert!(close(&v, &[2.0, 3.0, 1.0]), "{v:?}");
+        let along_y = boxed.stratified_along(Coord::Y).unwrap();
+        let (_, v) = project_one(&along_y, Frame::Slab, &[0.5, 0.5, 0.5], [1.0, 2.0, 3.0]);
+        assert!(close(&v, &[2.0, 1.0, 3.0]), "{v:?}");
+        let section = Grid::new(vec![ax(Coord::X, 0.0, 1.0), ax(Coord::Z, 0.0, 1.0)]).unwrap();
+        let (_, v) = project_one(&section, Frame::Slab, &[0.5, 0.5], [1.0, 2.0, 0.0]);
+        assert!(close(&v, &[2.0, 1.0]), "{v:?}");
+    }
+
+    #[test]
     fn polar_grids_broadcast_over_phi() {
         let r = Axis::uniform(Coord::R, 1.0, 2.0, 3).unwrap();
         let phi = Axis::uniform(Coord::Phi, 0.0, 1.0, 4).unwrap();
