@@ -332,7 +332,26 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 .map_err(|e| Error::closure(&loaded, e))?;
             say!("{} ({})", loaded.model.name, loaded.source);
             say!("{report}");
-            for c in pipeline::cautions(&loaded, &bg, &domain) {
+            let mut more = Vec::new();
+            if !loaded.perturbations.is_empty() {
+                let discrete = report.discrete.map(|d| d.0);
+                say!("perturbations (each alone at the cell centres; peak relative to the background)");
+                for a in pipeline::perturbations_alone(&loaded, &bg) {
+                    match a {
+                        Ok(a) => {
+                            let [peaks, verdict] = a.lines(discrete);
+                            say!("  {peaks}");
+                            say!("    {verdict}");
+                            more.extend(a.caution(discrete));
+                        }
+                        Err(e) => say!("  cannot be sampled alone: {e}"),
+                    }
+                }
+            }
+            for c in pipeline::cautions(&loaded, &bg, &domain)
+                .into_iter()
+                .chain(more)
+            {
                 say!("caution: {c}");
             }
             Ok(if report.passed() {

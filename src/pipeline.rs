@@ -13,7 +13,7 @@ use crate::fields::{slab_ranges, FieldSet, FieldSpec, Slab};
 use crate::grid::{Grid, Layout};
 use crate::keys::Keyed;
 use crate::output::{GroupPlan, H5Stream, Metadata, OutputError, Precision};
-use crate::perturb::report::Peaks;
+use crate::perturb::report::{alone_json, Alone, Peaks};
 use crate::perturb::Perturbations;
 use crate::profile::{Loaded, ProfileError};
 use crate::sample::{self, Cuts, GasConstants, SampleError, Sampler, SamplingRule};
@@ -137,6 +137,56 @@ pub fn solve_unverified(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
     Ok((bg, domain))
 }
 
+/// Each perturbation of the profile bound alone to `bg` and sampled at the
+/// cell centres, with its peaks relative to the background (see
+/// [`Peaks`]): what `check` prints and a build records beside the discrete
+/// imbalance. Memory is bounded by a slab of about 65 536 cells; an error
+/// (a perturbation that cannot be bound, a non-positive ρ or P) is that
+/// perturbation's entry.
+pub fn perturbations_alone(loaded: &Loaded, bg: &dyn Background) -> Vec<Result<Alone, Error>> {
+    let gas = gas_constants(loaded);
+    let gamma = loaded.model.gamma;
+    let grid = &loaded.grid;
+    let shape = grid.shape();
+    let per_row: usize = shape[1..].iter().product::<usize>().max(1);
+    let rows = (65_536 / per_row).max(1);
+    let label = |e| Error::Sample {
+        source_label: loaded.source.clone(),
+        error: e,
+    };
+    loaded
+        .perturbations
+        .iter()
+        .map(|p| {
+            let one = Perturbations::bind(std::slice::from_ref(p), &loaded.model, grid, bg)
+                .map_err(|error| Error::Perturb {
+                    source_label: loaded.source.clone(),
+                    error,
+                })?;
+            let sampler = Sampler::new(bg, grid, &sample::SamplingRule::Center, &gas)
+                .map_err(label)?
+                .perturbed(&one);
+            let groups = sampler.groups();
+            let (nb, ns) = (groups[0].1.len(), groups[1].1.len());
+            let mut peaks = Peaks::new(gamma);
+            for r in slab_ranges(shape[0], rows) {
+                let slab = sampler.slab(r).map_err(label)?;
+                peaks.update(
+                    &groups[0].1,
+                    &slab.data[..nb],
+                    &groups[2].1,
+                    &slab.data[nb + ns..],
+                );
+            }
+            Ok(Alone {
+                origin: p.origin.clone(),
+                kind: p.kind_name(),
+                peaks,
+            })
+        })
+        .collect()
+}
+
 /// The gas constants the sampler needs.
 pub fn gas_constants(loaded: &Loaded) -> GasConstants {
     GasConstants {
@@ -258,6 +308,23 @@ impl Built<'_> {
         meta.cautions = verdict_cautions(loaded, &report)?;
         meta.cautions
             .extend(cautions(loaded, &self.background, &self.domain));
+        if !loaded.perturbations.is_empty() {
+            let discrete = report.discrete.map(|d| d.0);
+            let mut alone = Vec::new();
+            for a in perturbations_alone(loaded, &self.background) {
+                match a {
+                    Ok(a) => {
+                        meta.cautions.extend(a.caution(discrete));
+                        alone.push(a);
+                    }
+                    Err(e) => meta
+                        .cautions
+                        .push(format!("a perturbation could not be sampled alone: {e}")),
+                }
+            }
+            meta.extra
+                .push(("perturbations_alone".into(), alone_json(&alone, discrete)));
+        }
         Ok(meta)
     }
 
@@ -449,13 +516,14 @@ impl Built<'_> {
         };
         let shape = grid.shape();
         let rows = slab_rows(&shape, fields.len(), opts);
+        let gamma = self.loaded.model.gamma;
         if rayon::current_num_threads() == 1 {
             // One thread: verify (a refused state stops before any work),
             // then sample and write in turn.
             let meta = self.verify()?;
             let mut out = create()?;
             let mut reuse = Vec::new();
-            let mut peaks = Peaks::default();
+            let mut peaks = Peaks::new(gamma);
             for r in slab_ranges(shape[0], rows) {
                 let slab = sampler
                     .slab_into(r, reuse)
@@ -481,7 +549,7 @@ impl Built<'_> {
             let (back, spent) = std::sync::mpsc::channel::<Vec<Vec<f64>>>();
             let split = &split;
             let writer = scope.spawn(move || -> Result<(H5Stream, Peaks), OutputError> {
-                let mut peaks = Peaks::default();
+                let mut peaks = Peaks::new(gamma);
                 for slab in rx {
                     let data = split.write(&mut out, slab, &mut peaks)?;
                     let _ = back.send(data);

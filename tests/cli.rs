@@ -10,7 +10,7 @@ fn tmp() -> tempfile::TempDir {
     tempfile::tempdir().unwrap()
 }
 
-const BUNDLED: [&str; 9] = [
+const BUNDLED: [&str; 14] = [
     "quiet-slab",
     "layered-atmosphere",
     "powerlaw-disk",
@@ -20,6 +20,11 @@ const BUNDLED: [&str; 9] = [
     "flared-disk-spherical",
     "softened-disk-box",
     "stratified-box-2d",
+    "pulsed-slab",
+    "planet-disk",
+    "mode-disk",
+    "noisy-disk",
+    "noisy-disk-3d",
 ];
 
 #[test]

@@ -105,3 +105,90 @@ fn issue9_sampled_sound_wave_has_the_chosen_amplitude() {
     );
     python(d.path(), "perturb_check.py", &["sum", "wave.h5"]);
 }
+
+/// The number after `key` in `line` (`pressure 9.759e-7` → 9.759e-7).
+fn number_after(line: &str, key: &str) -> f64 {
+    let at = line
+        .find(key)
+        .unwrap_or_else(|| panic!("no `{key}` in {line:?}"));
+    line[at + key.len()..]
+        .split([' ', ',', ')'])
+        .find(|s| !s.is_empty())
+        .and_then(|s| s.parse().ok())
+        .unwrap_or_else(|| panic!("no number after `{key}` in {line:?}"))
+}
+
+#[test]
+fn issue9_check_reports_each_perturbation_against_the_imbalance() {
+    // The bundled pulsed slab: an adiabatic pressure pulse of δP/P = 1e-6,
+    // centred at (x, z) = (0, 1.5) with widths 0.1, on a 128 × 128 grid of
+    // [−2, 2] × [0, 4]. Both centre coordinates fall on cell edges, so the
+    // nearest cell centres lie 1/64 off in x and z and the sampled peak is
+    // the Gaussian's closed form 1e-6 exp(−2 (1/64)²/(2 · 0.1²)) there.
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let o = stillpoint(root, &["check", "profiles/pulsed-slab.json"]);
+    let out = text(&o);
+    assert!(o.status.success(), "{out}");
+    let lines: Vec<&str> = out.lines().collect();
+    let at = lines
+        .iter()
+        .position(|l| l.contains("perturbations[0] (pulse)"))
+        .unwrap_or_else(|| panic!("no line for the pulse in {out}"));
+    let want = 1e-6 * (-2.0 * (1.0f64 / 64.0).powi(2) / (2.0 * 0.01)).exp();
+    let got = number_after(lines[at], "pressure");
+    assert!((got / want - 1.0).abs() < 1e-3, "{got} vs {want}: {out}");
+    // Keeping entropy, δρ/ρ = (1 + δP/P)^(1/γ) − 1 ≈ (δP/P)/γ (γ = 1.4).
+    let rho = number_after(lines[at], "density");
+    assert!((rho / (want / 1.4) - 1.0).abs() < 1e-3, "{rho}: {out}");
+    // The verdict beside the discrete imbalance `check` prints above.
+    let imbalance = lines
+        .iter()
+        .skip_while(|l| !l.starts_with("discrete imbalance"))
+        .find(|l| l.trim_start().starts_with("max"))
+        .map(|l| number_after(l, "max"))
+        .unwrap_or_else(|| panic!("no discrete imbalance in {out}"));
+    let verdict = lines[at + 1].trim();
+    let word = if got > imbalance { "larger" } else { "smaller" };
+    assert!(
+        verdict.starts_with(&format!("{word} than the discretisation imbalance (")),
+        "{verdict} (peak {got}, imbalance {imbalance})"
+    );
+    assert!((number_after(verdict, "imbalance (") / imbalance - 1.0).abs() < 1e-3);
+    if word == "smaller" {
+        assert!(
+            out.contains("caution: perturbations[0] (pulse)") && out.contains("swamp"),
+            "{out}"
+        );
+    }
+    // A build records the same comparison in its metadata.
+    let d = tempfile::tempdir().unwrap();
+    let profile = root.join("profiles/pulsed-slab.json");
+    build(d.path(), profile.to_str().unwrap(), "slab.h5", &[]);
+    python(
+        d.path(),
+        "perturb_check.py",
+        &["alone", "slab.h5", "0", "pressure", &format!("{want:e}")],
+    );
+}
+
+#[test]
+fn issue9_bundled_3d_disk_has_uniform_velocity_noise() {
+    // noisy-disk-3d: uniform noise of 1e-2 of the sound speed in v_R, v_φ
+    // and v_z on 24 × 32 × 12 cells, checked against the moments of the
+    // uniform distribution (tests/perturb_check.py names the source).
+    let d = tempfile::tempdir().unwrap();
+    build(d.path(), "noisy-disk-3d", "n3.h5", &[]);
+    python(
+        d.path(),
+        "perturb_check.py",
+        &[
+            "uniform",
+            "n3.h5",
+            "1e-2",
+            "velocity_R",
+            "velocity_phi",
+            "velocity_z",
+        ],
+    );
+    python(d.path(), "perturb_check.py", &["sum", "n3.h5"]);
+}

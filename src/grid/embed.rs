@@ -9,7 +9,7 @@
 //! | layout | frame | frame coordinates | grid components |
 //! |---|---|---|---|
 //! | `[z]` | slab | s = z | z |
-//! | `[x, y]`, `[x, z]`, `[x, y, z]` | slab | s = the slab axis | the grid's axes |
+//! | `[x, y]`, `[x, z]`, `[x, y, z]` | slab | s = the slab axis | the grid's axes (frame vectors: across the layers, then the other axes in order) |
 //! | `[r]`, `[r, theta]`, `[r, theta, phi]` | spherical | r | r (theta, phi) |
 //! | `[x, y]`, `[x, z]`, `[x, y, z]` | spherical | r = \|x\| | the grid's axes |
 //! | `[R]` | axisymmetric | (R, 0) | R, phi |
@@ -178,11 +178,15 @@ impl Embedding {
         let nc = self.components.len();
         match (self.frame, self.layout) {
             (Frame::Slab, _) => {
+                // v[0] across the layers, v[1] and v[2] along the grid's
+                // other axes in order (a slab at rest has them zero).
+                let mut other = 1;
                 for (c, o) in out[..nc].iter_mut().enumerate() {
                     if c == self.slab_axis {
                         o[..n].copy_from_slice(&v[0][..n]);
                     } else {
-                        o[..n].fill(0.0);
+                        o[..n].copy_from_slice(&v[other][..n]);
+                        other += 1;
                     }
                 }
             }
@@ -452,6 +456,27 @@ mod tests {
                 .active_axes([true, true]),
             vec![true, false, true]
         );
+    }
+
+    #[test]
+    fn a_slab_carries_horizontal_vectors_on_the_other_axes() {
+        // The slab frame's vectors: across the layers, then the grid's
+        // other axes in order (a perturbation's horizontal velocity).
+        let ax = |c, a, b| Axis::uniform(c, a, b, 2).unwrap();
+        let boxed = Grid::new(vec![
+            ax(Coord::X, -1.0, 1.0),
+            ax(Coord::Y, -1.0, 1.0),
+            ax(Coord::Z, 0.0, 1.0),
+        ])
+        .unwrap();
+        let (_, v) = project_one(&boxed, Frame::Slab, &[0.5, 0.5, 0.5], [1.0, 2.0, 3.0]);
+        assert!(close(&v, &[2.0, 3.0, 1.0]), "{v:?}");
+        let along_y = boxed.stratified_along(Coord::Y).unwrap();
+        let (_, v) = project_one(&along_y, Frame::Slab, &[0.5, 0.5, 0.5], [1.0, 2.0, 3.0]);
+        assert!(close(&v, &[2.0, 1.0, 3.0]), "{v:?}");
+        let section = Grid::new(vec![ax(Coord::X, 0.0, 1.0), ax(Coord::Z, 0.0, 1.0)]).unwrap();
+        let (_, v) = project_one(&section, Frame::Slab, &[0.5, 0.5], [1.0, 2.0, 0.0]);
+        assert!(close(&v, &[2.0, 1.0]), "{v:?}");
     }
 
     #[test]

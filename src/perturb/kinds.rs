@@ -15,31 +15,96 @@ use crate::formula::Kernel;
 use crate::grid::{Coord, Grid};
 use crate::model::Model;
 
-/// The unit vector along coordinate direction `c` at azimuth `phi` in the
-/// frame's basis ([`Frame::basis`]), or None when the frame has no such
-/// direction.
-pub(super) fn basis_weights(frame: Frame, c: Coord, phi: f64) -> Option<[f64; 3]> {
-    match (frame, c) {
-        (Frame::Axisymmetric, Coord::R)
-        | (Frame::Slab, Coord::Z)
-        | (Frame::Spherical, Coord::Sph) => Some([1.0, 0.0, 0.0]),
-        (Frame::Axisymmetric, Coord::Phi) => Some([0.0, 1.0, 0.0]),
-        (Frame::Axisymmetric, Coord::Z) => Some([0.0, 0.0, 1.0]),
-        (Frame::Axisymmetric, Coord::X) => {
-            let (s, c) = phi.sin_cos();
-            Some([c, -s, 0.0])
+/// The directions a velocity perturbation may point along on `grid`: those
+/// that lie, at every point of the grid, in the span of the velocity
+/// components the file writes (so nothing asked for is dropped by the
+/// projection onto them). A line writes its own direction (an `R` line
+/// `phi` too; the points of an `R` or `r` line lie on the x axis, where
+/// e_x = e_R = e_r); a plane `[R, phi]` or `[x, y]` the
+/// directions in the midplane; a section `[x, z]` those in the plane y = 0;
+/// every grid with three components any direction.
+pub fn velocity_directions(grid: &Grid) -> Vec<Coord> {
+    use crate::grid::Layout;
+    use Coord::*;
+    match grid.layout() {
+        Layout::Line(Coord::R) => vec![R, Phi, X, Y],
+        Layout::Line(Coord::Sph) => vec![Sph, X, R],
+        Layout::Line(c) => vec![c],
+        Layout::Polar | Layout::Cartesian => vec![R, Phi, X, Y, Sph],
+        Layout::Section => vec![X, Z, R, Sph, Theta],
+        _ => Coord::ALL.to_vec(),
+    }
+}
+
+/// The frame's three basis vectors as coordinate directions (see
+/// [`Frame::basis`]); a slab's are its axis across the layers, then the
+/// grid's other axes in order (None where the grid has none).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(super) struct Basis {
+    slots: [Option<Coord>; 3],
+}
+
+impl Basis {
+    pub(super) fn new(frame: Frame, grid: &Grid) -> Basis {
+        let slots = match frame {
+            Frame::Axisymmetric => [Some(Coord::R), Some(Coord::Phi), Some(Coord::Z)],
+            Frame::Spherical => [Some(Coord::Sph), Some(Coord::Theta), Some(Coord::Phi)],
+            Frame::Slab => {
+                let axes = grid.axes();
+                let s = grid.slab_axis().min(axes.len() - 1);
+                let mut slots = [None; 3];
+                slots[0] = Some(axes[s].coord);
+                let others = axes.iter().enumerate().filter(|(k, _)| *k != s);
+                for (slot, (_, a)) in slots[1..].iter_mut().zip(others) {
+                    *slot = Some(a.coord);
+                }
+                slots
+            }
+        };
+        Basis { slots }
+    }
+
+    /// The unit vector along direction `c` at point `i` of `pts` in the
+    /// frame's basis: exactly a basis vector where `c` is one, else the
+    /// dot products of the Cartesian unit vectors.
+    pub(super) fn weights(&self, c: Coord, pts: &Points, i: usize) -> [f64; 3] {
+        let mut w = [0.0; 3];
+        if let Some(k) = self.slots.iter().position(|s| *s == Some(c)) {
+            w[k] = 1.0;
+            return w;
         }
-        (Frame::Axisymmetric, Coord::Y) => {
-            let (s, c) = phi.sin_cos();
-            Some([s, c, 0.0])
+        let e = unit(c, pts, i);
+        for (w, s) in w.iter_mut().zip(self.slots) {
+            if let Some(s) = s {
+                let b = unit(s, pts, i);
+                *w = e[0] * b[0] + e[1] * b[1] + e[2] * b[2];
+            }
         }
-        _ => None,
+        w
+    }
+}
+
+/// The Cartesian unit vector along coordinate direction `c` at point `i`
+/// (e_R = (cos φ, sin φ, 0), e_φ = (−sin φ, cos φ, 0), e_r and e_θ the
+/// spherical unit vectors, e.g. Arfken & Weber, Mathematical Methods for
+/// Physicists, §2.5).
+fn unit(c: Coord, pts: &Points, i: usize) -> [f64; 3] {
+    let (sp, cp) = pts.col(4)[i].sin_cos();
+    let (st, ct) = pts.col(6)[i].sin_cos();
+    match c {
+        Coord::X => [1.0, 0.0, 0.0],
+        Coord::Y => [0.0, 1.0, 0.0],
+        Coord::Z => [0.0, 0.0, 1.0],
+        Coord::R => [cp, sp, 0.0],
+        Coord::Phi => [-sp, cp, 0.0],
+        Coord::Sph => [st * cp, st * sp, ct],
+        Coord::Theta => [ct * cp, ct * sp, -st],
     }
 }
 
 /// What every kind reads while it is applied to a block.
 pub(super) struct Ctx<'a> {
-    pub frame: Frame,
+    pub basis: Basis,
     pub gamma: f64,
     pub pts: &'a Points,
     pub cells: &'a [u64],
@@ -334,10 +399,9 @@ fn sound_speed(gamma: f64, bg: &StateBlock, i: usize) -> f64 {
 /// pressure, the density change that keeps density, entropy or temperature.
 fn deposit(ctx: &Ctx, target: &Target, shape: &[f64], delta: &mut StateBlock) {
     let (bg, a) = (ctx.bg, target.amplitude);
-    let phi = ctx.pts.col(4);
     for (i, s) in shape.iter().enumerate() {
         let w = match target.field {
-            Field::Velocity(c) => basis_weights(ctx.frame, c, phi[i]).unwrap_or([0.0; 3]),
+            Field::Velocity(c) => ctx.basis.weights(c, ctx.pts, i),
             _ => [0.0; 3],
         };
         let scale = match target.scale {
@@ -376,12 +440,7 @@ fn deposit(ctx: &Ctx, target: &Target, shape: &[f64], delta: &mut StateBlock) {
 /// The linear sound wave: δρ = Aρ cos θ, δP = c²δρ, δv = A c k̂ cos θ in
 /// the frame basis, θ = k·x + phase, c² = γP/ρ of the local background.
 fn sound_wave(ctx: &Ctx, amp: f64, k: &[f64; 3], phase: f64, delta: &mut StateBlock) {
-    let (x, y, z, phi) = (
-        ctx.pts.col(0),
-        ctx.pts.col(1),
-        ctx.pts.col(2),
-        ctx.pts.col(4),
-    );
+    let (x, y, z) = (ctx.pts.col(0), ctx.pts.col(1), ctx.pts.col(2));
     let kn = (k[0] * k[0] + k[1] * k[1] + k[2] * k[2]).sqrt();
     let khat = [k[0] / kn, k[1] / kn, k[2] / kn];
     let bg = ctx.bg;
@@ -395,7 +454,7 @@ fn sound_wave(ctx: &Ctx, amp: f64, k: &[f64; 3], phase: f64, delta: &mut StateBl
         // k̂ in the frame basis: its Cartesian components along e_x, e_y, e_z.
         for (comp, kc) in [Coord::X, Coord::Y, Coord::Z].into_iter().zip(khat) {
             if kc.abs() > 0.0 {
-                let w = basis_weights(ctx.frame, comp, phi[i]).unwrap_or([0.0; 3]);
+                let w = ctx.basis.weights(comp, ctx.pts, i);
                 for (v, w) in delta.velocity.iter_mut().zip(w) {
                     v[i] += w * kc * u;
                 }

@@ -24,13 +24,14 @@ mod points;
 pub mod report;
 pub mod rng;
 
+pub use kinds::velocity_directions;
 pub use points::{column, Points, COORDS};
 
-use crate::background::{Background, Frame, StateBlock};
+use crate::background::{Background, StateBlock};
 use crate::formula::Expr;
 use crate::grid::{Coord, Grid};
 use crate::model::Model;
-use kinds::Bound;
+use kinds::{Basis, Bound};
 
 /// A field a perturbation acts on.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -57,29 +58,31 @@ impl Field {
         }
     }
 
-    /// The field named `name`, if it is one a perturbation can act on in
-    /// `frame` (a velocity component must have a direction in the frame's
-    /// basis).
-    pub fn parse(name: &str, frame: Frame) -> Option<Field> {
+    /// The field named `name`, if it is one a perturbation can act on on
+    /// `grid` (a velocity component must lie in the span of the components
+    /// the grid writes, see [`velocity_directions`]).
+    pub fn parse(name: &str, grid: &Grid) -> Option<Field> {
         match name {
             "density" => Some(Field::Density),
             "pressure" => Some(Field::Pressure),
             "potential" => Some(Field::Potential),
             _ => {
                 let c = Coord::from_name(name.strip_prefix("velocity_")?)?;
-                kinds::basis_weights(frame, c, 0.0).map(|_| Field::Velocity(c))
+                velocity_directions(grid)
+                    .contains(&c)
+                    .then_some(Field::Velocity(c))
             }
         }
     }
 
-    /// The names of the fields a perturbation can act on in `frame`.
-    pub fn names(frame: Frame) -> Vec<String> {
+    /// The names of the fields a perturbation can act on on `grid`.
+    pub fn names(grid: &Grid) -> Vec<String> {
         let mut out = vec!["density".into(), "pressure".into(), "potential".into()];
-        for c in Coord::ALL {
-            if kinds::basis_weights(frame, c, 0.0).is_some() {
-                out.push(Field::Velocity(c).name());
-            }
-        }
+        out.extend(
+            velocity_directions(grid)
+                .into_iter()
+                .map(|c| Field::Velocity(c).name()),
+        );
         out
     }
 
@@ -262,7 +265,7 @@ pub const PLANET_POTENTIAL: &str = "planet_potential";
 /// applied to blocks of points.
 pub struct Perturbations {
     items: Vec<Bound>,
-    frame: Frame,
+    basis: Basis,
     gamma: f64,
     extras: Vec<&'static str>,
 }
@@ -307,7 +310,7 @@ impl Perturbations {
         };
         Ok(Perturbations {
             items,
-            frame: bg.frame(),
+            basis: Basis::new(bg.frame(), grid),
             gamma: model.gamma,
             extras,
         })
@@ -358,7 +361,7 @@ impl Perturbations {
         scratch.shape.resize(n.max(scratch.shape.len()), 0.0);
         scratch.env.resize(n.max(scratch.env.len()), 0.0);
         let ctx = kinds::Ctx {
-            frame: self.frame,
+            basis: self.basis,
             gamma: self.gamma,
             pts,
             cells,

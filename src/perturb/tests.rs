@@ -2,7 +2,7 @@
 #![allow(clippy::needless_range_loop)]
 
 use super::*;
-use crate::background::{Background, StateBlock};
+use crate::background::{Background, Frame, StateBlock};
 use crate::closure::Solved;
 use crate::profile::{from_text, Loaded};
 

@@ -33,6 +33,10 @@ pub const BUNDLED: &[(&str, &str)] = &[
     ("mode-disk", include_str!("../../profiles/mode-disk.json")),
     ("noisy-disk", include_str!("../../profiles/noisy-disk.json")),
     (
+        "noisy-disk-3d",
+        include_str!("../../profiles/noisy-disk-3d.json"),
+    ),
+    (
         "flared-disk-spherical",
         include_str!("../../profiles/flared-disk-spherical.json"),
     ),

@@ -127,7 +127,7 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
             Ok(())
         } else {
             Err(node.error(format!(
-                "a {what} needs an azimuth: it works on a disk (balance.shape \"disk\") only"
+                "{what} needs an azimuth: it works on a disk (balance.shape \"disk\") only"
             )))
         }
     };
@@ -224,7 +224,7 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
                 None => None,
                 Some(b) => {
                     let b = b.node();
-                    needs_disk("azimuthal band")?;
+                    needs_disk("an azimuthal band")?;
                     let axes = names.grid.axes();
                     let has = |c: Coord| axes.iter().any(|a| a.coord == c);
                     if !has(Coord::Phi) && (has(Coord::X) || has(Coord::Y)) {
@@ -251,7 +251,7 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
             }
         }
         3 => {
-            needs_disk("mode")?;
+            needs_disk("a mode")?;
             let t = target(node, names, true)?;
             let m_node = node.require("m")?;
             let m = m_node
@@ -277,10 +277,10 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
                 if let Some(n) = kv.child(c.name()) {
                     k[i] = n.node().value(names.consts, names.lookup)?;
                     if k[i].abs() > 0.0
-                        && Field::parse(&Field::Velocity(c).name(), names.frame).is_none()
+                        && Field::parse(&Field::Velocity(c).name(), names.grid).is_none()
                     {
                         return Err(n.node().error(format!(
-                            "this frame has no velocity along {c}: the wave cannot travel along it"
+                            "this grid writes no velocity along {c} (its directions are {}): the wave cannot travel along it", crate::perturb::velocity_directions(names.grid).iter().map(|c| c.name()).collect::<Vec<_>>().join(", ")
                         )));
                     }
                 }
@@ -310,10 +310,10 @@ fn target(node: Node, names: &Names, amplitude: bool) -> Result<Target, ProfileE
     let f = node.require("field")?;
     let f = f.node();
     let name = f.str()?;
-    let field = Field::parse(name, names.frame).ok_or_else(|| {
+    let field = Field::parse(name, names.grid).ok_or_else(|| {
         f.error(format!(
             "`{name}` is not a field a perturbation can change here; the fields are {}",
-            Field::names(names.frame).join(", ")
+            Field::names(names.grid).join(", ")
         ))
     })?;
     let amp = if amplitude {
