@@ -28,6 +28,29 @@ factor=1.5).
 
 from harness import Case, Competitor, Faster, PeakMemory, Variant, Within  # noqa: F401 (for new cases)
 
+BOX_FIELDS = (
+    "density",
+    "pressure",
+    "velocity_x",
+    "velocity_y",
+    "velocity_z",
+    "momentum_x",
+    "momentum_y",
+    "momentum_z",
+    "energy",
+)
+SPHERE_FIELDS = (
+    "density",
+    "pressure",
+    "velocity_r",
+    "velocity_theta",
+    "velocity_phi",
+    "momentum_r",
+    "momentum_theta",
+    "momentum_phi",
+    "energy",
+)
+
 CASES = [
     # Issue 6, item 8: the bundled tapered Cartesian disk, 1024 × 1024
     # cells, 3-point Gauss–Legendre cell averages per axis, float64.
@@ -44,5 +67,57 @@ CASES = [
             Faster("stillpoint-2t", than="stillpoint-1t", factor=1.7),
             PeakMemory("stillpoint-2t", fraction=0.25, plus_mib=64),
         ],
+    ),
+    # Issue 11, benchmark B: a vertically isothermal disk around a softened
+    # star on a 3D Cartesian grid (every cell its own R and z, nothing
+    # separable), 3-point averages per axis, nine fields in float64.
+    Case(
+        name="disk-box-3d",
+        about="softened stratified disk, Cartesian 192 × 192 × 96, 3-point averages, 9 fields, float64",
+        profile=Variant(
+            "profiles/softened-disk-box.json",
+            {
+                "grid.x.cells": 192,
+                "grid.y.cells": 192,
+                "grid.z.cells": 96,
+                "sampling.points": 3,
+            },
+            additions={"output.fields": list(BOX_FIELDS)},
+        ),
+        competitors=[Competitor("numpy", "benches/numpy_disk_box.py")],
+        targets=[
+            Faster("stillpoint-2t", than="numpy", factor=5),
+            Faster("stillpoint-2t", than="stillpoint-1t", factor=1.7),
+            PeakMemory("stillpoint-2t", fraction=0.25, plus_mib=64),
+        ],
+    ),
+    # Issue 11, benchmark B′: the same disk on a spherical grid (r, θ, φ)
+    # 192 × 96 × 192; axisymmetric, so the work is the writing, measured
+    # against writing the same number of datasets of the same shape from
+    # memory with h5py.
+    Case(
+        name="disk-sphere-3d",
+        about="softened stratified disk, spherical 192 × 96 × 192, 3-point averages, 9 fields, float64",
+        profile=Variant(
+            "profiles/softened-disk-box.json",
+            {
+                "grid": {
+                    "r": {"from": 0.3, "to": 2.4, "cells": 192},
+                    "theta": {"from": "pi/2 - 0.3", "to": "pi/2 + 0.3", "cells": 96},
+                    "phi": {"cells": 192},
+                },
+                "sampling.points": 3,
+            },
+            additions={"output.fields": list(SPHERE_FIELDS)},
+        ),
+        competitors=[
+            Competitor(
+                "write-only",
+                "benches/write_only.py",
+                args=("{profile}", "-o", "{output}", "--fields", str(len(SPHERE_FIELDS))),
+                compare=False,
+            )
+        ],
+        targets=[Within("stillpoint-2t", of="write-only", factor=1.3)],
     ),
 ]

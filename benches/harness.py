@@ -38,18 +38,23 @@ class Variant:
 
     base: str
     changes: dict = field(default_factory=dict)
+    # Keys the base profile does not have, added (dotted paths, as `changes`).
+    additions: dict = field(default_factory=dict)
 
     def write(self, folder: Path, name: str) -> Path:
         base = ROOT / self.base
         profile = json.loads(base.read_text())
-        for dotted, value in self.changes.items():
-            *parents, last = dotted.split(".")
-            node = profile
-            for key in parents:
-                node = node[key]
-            if last not in node:
-                raise KeyError(f"{self.base}: no key `{dotted}` to change")
-            node[last] = value
+        for table, new in ((self.changes, False), (self.additions, True)):
+            for dotted, value in table.items():
+                *parents, last = dotted.split(".")
+                node = profile
+                for key in parents:
+                    node = node[key]
+                if new and last in node:
+                    raise KeyError(f"{self.base}: key `{dotted}` exists; change it instead")
+                if not new and last not in node:
+                    raise KeyError(f"{self.base}: no key `{dotted}` to change")
+                node[last] = value
         for axis in profile.get("grid", {}).values():
             if isinstance(axis, dict) and "edges_file" in axis:
                 axis["edges_file"] = str((base.parent / axis["edges_file"]).resolve())
