@@ -343,6 +343,9 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                             say!("  {peaks}");
                             say!("    {verdict}");
                             more.extend(a.caution(discrete));
+                            if loaded.output.precision == output::Precision::Single {
+                                more.extend(a.single_precision_caution());
+                            }
                         }
                         Err(e) => say!("  cannot be sampled alone: {e}"),
                     }

@@ -137,6 +137,35 @@ pub fn solve_unverified(loaded: &Loaded) -> Result<(Solved, Domain), Error> {
     Ok((bg, domain))
 }
 
+/// What rounding to float32 does to the balance: the discrete imbalance
+/// at the cell centres (as `check` computes it) from the values as a
+/// float32 file holds them, against the same from float64. Rounding that
+/// raises it more than twofold destroys the balance the file should carry.
+fn single_precision_caution(loaded: &Loaded, bg: &dyn Background) -> String {
+    let shape = loaded.model.shape;
+    let centres = centres_for(&loaded.grid, shape.frame());
+    let double = crate::check::discrete_imbalance(shape, bg, &centres);
+    let single = crate::check::discrete_imbalance_single(shape, bg, &centres);
+    let s = loaded.model.coordinate();
+    match (double, single) {
+        (Some((d, _)), Some((f, at))) if f.is_finite() && d.is_finite() && f > 2.0 * d => format!(
+            "{}: rounding to float32 raises the discrete imbalance of the balance from {d:.3e} \
+             (float64) to {f:.3e} (largest at {s} = {}): the rounding destroys the balance, and a \
+             scheme without well-balancing sees it as a spurious force {:.0}x its own truncation \
+             error; write double precision (output.precision: \"double\") to keep the balance",
+            crate::output::SINGLE_PRECISION_CAUTION,
+            crate::closure::show(at),
+            f / d.max(f64::MIN_POSITIVE)
+        ),
+        (Some((d, _)), Some((f, _))) => format!(
+            "{}: here rounding to float32 leaves the discrete imbalance at {f:.3e} against \
+             {d:.3e} in float64 (the discretisation error dominates)",
+            crate::output::SINGLE_PRECISION_CAUTION
+        ),
+        _ => crate::output::SINGLE_PRECISION_CAUTION.to_string(),
+    }
+}
+
 /// Each perturbation of the profile bound alone to `bg` and sampled at the
 /// cell centres, with its peaks relative to the background (see
 /// [`Peaks`]): what `check` prints and a build records beside the discrete
@@ -315,6 +344,9 @@ impl Built<'_> {
                 match a {
                     Ok(a) => {
                         meta.cautions.extend(a.caution(discrete));
+                        if loaded.output.precision == crate::output::Precision::Single {
+                            meta.cautions.extend(a.single_precision_caution());
+                        }
                         alone.push(a);
                     }
                     Err(e) => meta
@@ -690,7 +722,7 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
         ));
     }
     if loaded.output.precision == crate::output::Precision::Single {
-        out.push(crate::output::SINGLE_PRECISION_CAUTION.to_string());
+        out.push(single_precision_caution(loaded, bg));
     }
     if let Some(a) = m.anchor {
         if a.at < domain.lo || a.at > domain.hi {

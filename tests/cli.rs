@@ -908,3 +908,38 @@ fn issue5_unit_record_of_our_own() {
     assert!(o.status.success(), "{}", text(&o));
     assert!(text(&o).contains("all checks passed"), "{}", text(&o));
 }
+
+/// Issue 8, part 3: in single precision the caution says whether rounding
+/// destroys the balance (the discrete imbalance of the rounded values
+/// against that of float64, `check`'s second-order centred differences)
+/// and whether a perturbation survives the rounding (float32 keeps 24
+/// bits: IEEE 754-2008, binary32).
+#[test]
+fn issue8_single_precision_caution_measures_what_rounding_does() {
+    let d = tmp();
+    for (name, wanted) in [
+        ("powerlaw-disk", "the rounding destroys the balance"),
+        ("quiet-slab", "the discretisation error dominates"),
+        ("pulsed-slab", "keeps only about 4 significant bits"),
+    ] {
+        let o = stillpoint(d.path(), &["profiles", name]);
+        let mut v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+        v["output"]["precision"] = "single".into();
+        let file = format!("{name}-single.json");
+        std::fs::write(d.path().join(&file), v.to_string()).unwrap();
+        let o = stillpoint(d.path(), &["check", &file]);
+        assert!(text(&o).contains(wanted), "{name}: {}", text(&o));
+        let out = format!("{name}-single.h5");
+        let o = stillpoint(d.path(), &["build", &file, "-o", &out]);
+        assert!(o.status.success(), "{}", text(&o));
+        let f = hdf5::File::open(d.path().join(&out)).unwrap();
+        let c: hdf5::types::VarLenUnicode = f.attr("cautions").unwrap().read_scalar().unwrap();
+        assert!(c.as_str().contains(wanted), "{name}: {}", c.as_str());
+        assert_eq!(
+            c.as_str().matches("written in single precision").count(),
+            1,
+            "one single-precision caution: {}",
+            c.as_str()
+        );
+    }
+}

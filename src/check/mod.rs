@@ -198,11 +198,47 @@ fn find_jumps(
 /// differences at the cell centres: slab/sphere (P₊ − P₋)/(s₊ − s₋) + ρΦ_s,
 /// disk ρv²/R − ρΦ_R − P_R (on the midplane of a stratified disk), each
 /// relative to its largest term.
-fn discrete_imbalance(shape: Shape, bg: &dyn Background, centres: &[f64]) -> Option<(f64, f64)> {
+pub(crate) fn discrete_imbalance(
+    shape: Shape,
+    bg: &dyn Background,
+    centres: &[f64],
+) -> Option<(f64, f64)> {
+    imbalance_of(shape, bg, centres, |v| v)
+}
+
+/// [`discrete_imbalance`] of the values rounded to single precision, as a
+/// float32 file holds them (the centres themselves stay exact: grids are
+/// written in double precision).
+pub fn discrete_imbalance_single(
+    shape: Shape,
+    bg: &dyn Background,
+    centres: &[f64],
+) -> Option<(f64, f64)> {
+    imbalance_of(shape, bg, centres, |v| f64::from(v as f32))
+}
+
+fn imbalance_of(
+    shape: Shape,
+    bg: &dyn Background,
+    centres: &[f64],
+    round: impl Fn(f64) -> f64,
+) -> Option<(f64, f64)> {
     if centres.len() < 3 {
         return None;
     }
-    let st: Vec<_> = centres.iter().map(|&x| bg.on_line(x)).collect();
+    let st: Vec<_> = centres
+        .iter()
+        .map(|&x| {
+            let mut s = bg.on_line(x);
+            s.pressure = round(s.pressure);
+            s.potential = round(s.potential);
+            s.density = round(s.density);
+            for v in s.velocity.iter_mut() {
+                *v = round(*v);
+            }
+            s
+        })
+        .collect();
     let (mut max, mut at) = (0.0f64, centres[0]);
     for i in 1..centres.len() - 1 {
         let ds = centres[i + 1] - centres[i - 1];

@@ -179,7 +179,7 @@ pub fn description(
     if precision == Precision::Single
         && !cautions
             .iter()
-            .any(|c| c == super::SINGLE_PRECISION_CAUTION)
+            .any(|c| c.starts_with(super::SINGLE_PRECISION_CAUTION))
     {
         cautions.push(super::SINGLE_PRECISION_CAUTION.to_string());
     }

@@ -385,7 +385,11 @@ fn root_attributes(
     string_attr(file, "generator", &meta.generator)?;
     string_attr(file, "sampling", sampling)?;
     let mut cautions = meta.cautions.clone();
-    if precision == Precision::Single && !cautions.iter().any(|c| c == SINGLE_PRECISION_CAUTION) {
+    if precision == Precision::Single
+        && !cautions
+            .iter()
+            .any(|c| c.starts_with(SINGLE_PRECISION_CAUTION))
+    {
         cautions.push(SINGLE_PRECISION_CAUTION.to_string());
     }
     string_attr(file, "cautions", &cautions.join("\n"))?;

@@ -198,6 +198,31 @@ impl Alone {
         [format!("{} ({}): {peaks}", self.origin, self.kind), verdict]
     }
 
+    /// The caution for a perturbation that float32 rounding (half a unit
+    /// in the last place, 2^-24 ≈ 6.0e-8 relative) would blur: None when
+    /// its largest peak is above 100 times that rounding.
+    pub fn single_precision_caution(&self) -> Option<String> {
+        let half_ulp = f64::from(f32::EPSILON) / 2.0;
+        let peak = self.peaks.largest();
+        if peak.is_nan() || peak >= 100.0 * half_ulp {
+            return None;
+        }
+        let what = if peak <= half_ulp {
+            "is lost in the rounding".to_string()
+        } else {
+            format!(
+                "keeps only about {:.0} significant bits",
+                (peak / half_ulp).log2().max(0.0)
+            )
+        };
+        Some(format!(
+            "{} ({}) peaks at {peak:.3e} of the background; in single precision (rounding \
+             {half_ulp:.1e} relative) it {what}: write double precision (output.precision: \
+             \"double\")",
+            self.origin, self.kind
+        ))
+    }
+
     /// The caution for a perturbation below the imbalance, None otherwise.
     pub fn caution(&self, discrete: Option<f64>) -> Option<String> {
         match (self.standing(discrete), discrete) {
