@@ -623,27 +623,6 @@ fn build(
             "--csv: a CSV table is written for 1D grids only".into(),
         ));
     }
-    if loaded.model.torus.is_some() {
-        if want_csv {
-            return Err(Error::Usage(
-                "--csv: a torus is written to HDF5 only".into(),
-            ));
-        }
-        let t = crate::torus_run::torus(&loaded)?;
-        let v = crate::torus_run::verdict(&loaded, &t, check::DEFAULT_TOLERANCE)?;
-        if !v.passed {
-            return Err(Error::Usage(format!(
-                "{}: the torus fails its balance check; `stillpoint check` shows where",
-                loaded.source
-            )));
-        }
-        let meta = crate::torus_run::metadata(&loaded, &t, &v, argv, reproducible);
-        output::commit(&h5, force, |tmp| {
-            crate::torus_run::write_hdf5(&loaded, &t, &meta, tmp, &opts)
-        })?;
-        report_written(&loaded, std::slice::from_ref(&h5), &meta.cautions);
-        return Ok(Outcome::Ok);
-    }
     let built = pipeline::build(&loaded, argv, reproducible)?;
     let mut metadata = None;
     output::commit(&h5, force, |tmp| {
@@ -749,12 +728,6 @@ fn rebuild_into(loaded: &Loaded, path: &Path) -> Result<(), Error> {
         precision: loaded.output.precision,
         slab_rows: None,
     };
-    if loaded.model.torus.is_some() {
-        let t = crate::torus_run::torus(loaded)?;
-        let v = crate::torus_run::verdict(loaded, &t, check::DEFAULT_TOLERANCE)?;
-        let meta = crate::torus_run::metadata(loaded, &t, &v, "", true);
-        return crate::torus_run::write_hdf5(loaded, &t, &meta, path, &opts);
-    }
     pipeline::build(loaded, "", true)?
         .write_hdf5(path, &opts)
         .map(|_| ())

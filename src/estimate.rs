@@ -78,7 +78,12 @@ impl Plan {
         sampler: Option<&crate::sample::Sampler<'_>>,
     ) -> Plan {
         let gas = pipeline::gas_constants(loaded);
-        let specs = crate::sample::field_specs(&loaded.grid, &gas);
+        // Every field of every group the sampler writes (a perturbed build
+        // writes the state and the perturbation beside the background).
+        let specs = match sampler {
+            Some(s) => s.fields(),
+            None => crate::sample::field_specs(&loaded.grid, &gas),
+        };
         let shape = loaded.grid.shape();
         let cells = shape.iter().map(|n| *n as u64).product::<u64>();
         let value_bytes = match opts.precision {
@@ -455,11 +460,18 @@ fn calibrate_write(
         }
     }
     let _guard = Remove(scratch.clone());
-    let groups = [GroupPlan {
-        name: "background".into(),
-        fields: built.sampler()?.fields(),
-        link_to: None,
-    }];
+    // Every group the sampler fills (a perturbed build has three), as
+    // written: the slab holds their fields in this order.
+    let groups: Vec<GroupPlan> = built
+        .sampler()?
+        .groups()
+        .into_iter()
+        .map(|(name, fields)| GroupPlan {
+            name: name.to_string(),
+            fields,
+            link_to: None,
+        })
+        .collect();
     let n0 = plan.shape[0];
     let row_bytes = plan.fields as u64 * plan.value_bytes * plan.cells / n0 as u64;
     let rows = plan.slab_rows.min(n0);
@@ -490,14 +502,18 @@ fn calibrate_write(
     )?;
     let mut written = 0u64;
     for r in slab_ranges(n0.min(want), rows) {
-        let part = crate::fields::Slab {
-            data: tiled
-                .iter()
-                .map(|d| d[..per_row * r.len()].to_vec())
-                .collect(),
-            rows: r.clone(),
-        };
-        out.write("background", &part)?;
+        let mut from = 0;
+        for g in &groups {
+            let part = crate::fields::Slab {
+                data: tiled[from..from + g.fields.len()]
+                    .iter()
+                    .map(|d| d[..per_row * r.len()].to_vec())
+                    .collect(),
+                rows: r.clone(),
+            };
+            out.write(&g.name, &part)?;
+            from += g.fields.len();
+        }
         written += r.len() as u64 * row_bytes;
     }
     out.finish(&built.metadata)?;

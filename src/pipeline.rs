@@ -17,6 +17,7 @@ use crate::perturb::report::{alone_json, Alone, Peaks};
 use crate::perturb::Perturbations;
 use crate::profile::{Loaded, ProfileError};
 use crate::sample::{self, Cuts, GasConstants, SampleError, Sampler, SamplingRule};
+use crate::torus::Torus;
 
 /// Anything that can stop a command.
 #[derive(Debug, thiserror::Error)]
@@ -253,8 +254,7 @@ pub fn slab_rows(shape: &[usize], fields: usize, opts: &StreamOptions) -> usize 
 /// A solved background ready to be sampled and written: what `build` writes.
 pub struct Built<'a> {
     loaded: &'a Loaded,
-    background: Solved,
-    domain: Domain,
+    solution: Solution,
     perturbations: Perturbations,
     /// A rule to a tolerance, resolved the first time a sampler is made
     /// (resolving samples the grid twice per step; every sampler of the
@@ -265,35 +265,79 @@ pub struct Built<'a> {
     pub metadata: Metadata,
 }
 
+/// What a build samples: a closure of the table solved on the grid's
+/// domain, or a barotropic torus (solved in (R, z), not on a line; its
+/// report was made, and a failing one refused, when it was built).
+enum Solution {
+    Closure {
+        background: Solved,
+        domain: Domain,
+    },
+    Torus {
+        torus: Box<Torus>,
+        cautions: Vec<String>,
+    },
+}
+
+impl Solution {
+    fn background(&self) -> &dyn Background {
+        match self {
+            Solution::Closure { background, .. } => background,
+            Solution::Torus { torus, .. } => torus.as_ref(),
+        }
+    }
+}
+
 /// Solve and describe; verification and sampling happen as the output is
-/// written (see [`Built::write_hdf5`]).
+/// written (see [`Built::write_hdf5`]). A torus (`balance.torus`) is
+/// solved and checked here: a torus that fails its balance is refused.
 pub fn build<'a>(
     loaded: &'a Loaded,
     command_line: &str,
     reproducible: bool,
 ) -> Result<Built<'a>, Error> {
-    let (bg, domain) = solve(loaded)?;
-    let perturbations =
-        Perturbations::bind(&loaded.perturbations, &loaded.model, &loaded.grid, &bg).map_err(
-            |error| Error::Perturb {
-                source_label: loaded.source.clone(),
-                error,
-            },
-        )?;
-    let mut metadata = Metadata {
-        profile_json: loaded.json_text.clone(),
-        command_line: command_line.to_string(),
-        generator: format!("stillpoint {}", env!("CARGO_PKG_VERSION")),
-        units: loaded.model.units,
-        cautions: Vec::new(),
-        extra: vec![
-            ("balance".into(), balance_description(&loaded.model).into()),
-            ("solved_for".into(), loaded.model.unknown.key().into()),
-            ("gamma".into(), format!("{}", loaded.model.gamma)),
-            ("gas_law".into(), gas_law(loaded.model.gamma).into()),
-        ],
-        reproducible,
+    let (solution, mut metadata) = if loaded.model.torus.is_some() {
+        let torus = crate::torus_run::torus(loaded)?;
+        let v = crate::torus_run::verdict(loaded, &torus, crate::check::DEFAULT_TOLERANCE)?;
+        if !v.passed {
+            return Err(Error::Usage(format!(
+                "{}: the torus fails its balance check; `stillpoint check` shows where",
+                loaded.source
+            )));
+        }
+        let metadata = crate::torus_run::metadata(loaded, &torus, &v, command_line, reproducible);
+        let cautions = metadata.cautions.clone();
+        let torus = Box::new(torus);
+        (Solution::Torus { torus, cautions }, metadata)
+    } else {
+        let (background, domain) = solve(loaded)?;
+        let metadata = Metadata {
+            profile_json: loaded.json_text.clone(),
+            command_line: command_line.to_string(),
+            generator: format!("stillpoint {}", env!("CARGO_PKG_VERSION")),
+            units: loaded.model.units,
+            cautions: Vec::new(),
+            extra: vec![
+                ("balance".into(), balance_description(&loaded.model).into()),
+                ("solved_for".into(), loaded.model.unknown.key().into()),
+                ("gamma".into(), format!("{}", loaded.model.gamma)),
+                ("gas_law".into(), gas_law(loaded.model.gamma).into()),
+            ],
+            reproducible,
+        };
+        (Solution::Closure { background, domain }, metadata)
     };
+    metadata.cautions.clear();
+    let perturbations = Perturbations::bind(
+        &loaded.perturbations,
+        &loaded.model,
+        &loaded.grid,
+        solution.background(),
+    )
+    .map_err(|error| Error::Perturb {
+        source_label: loaded.source.clone(),
+        error,
+    })?;
     if !perturbations.is_empty() {
         metadata.extra.push((
             "perturbations".into(),
@@ -302,8 +346,7 @@ pub fn build<'a>(
     }
     Ok(Built {
         loaded,
-        background: bg,
-        domain,
+        solution,
         perturbations,
         resolved: std::sync::OnceLock::new(),
         metadata,
@@ -313,7 +356,7 @@ pub fn build<'a>(
 impl Built<'_> {
     /// The background as solved.
     pub fn background(&self) -> &dyn Background {
-        &self.background
+        self.solution.background()
     }
 
     /// The verification `stillpoint check` runs (jumps, the closed- or
@@ -324,23 +367,31 @@ impl Built<'_> {
     /// the other cautions of [`cautions`]).
     pub fn verify(&self) -> Result<Metadata, Error> {
         let loaded = self.loaded;
-        let centres = centres_for(&loaded.grid, loaded.model.shape.frame());
-        let report = crate::check::run(
-            &loaded.model,
-            &self.background,
-            &self.domain,
-            &centres,
-            crate::check::DEFAULT_TOLERANCE,
-        )
-        .map_err(|e| Error::closure(loaded, e))?;
         let mut meta = self.metadata.clone();
-        meta.cautions = verdict_cautions(loaded, &report)?;
-        meta.cautions
-            .extend(cautions(loaded, &self.background, &self.domain));
+        let discrete = match &self.solution {
+            Solution::Closure { background, domain } => {
+                let centres = centres_for(&loaded.grid, loaded.model.shape.frame());
+                let report = crate::check::run(
+                    &loaded.model,
+                    background,
+                    domain,
+                    &centres,
+                    crate::check::DEFAULT_TOLERANCE,
+                )
+                .map_err(|e| Error::closure(loaded, e))?;
+                meta.cautions = verdict_cautions(loaded, &report)?;
+                meta.cautions.extend(cautions(loaded, background, domain));
+                report.discrete.map(|d| d.0)
+            }
+            // The torus was checked when it was built.
+            Solution::Torus { cautions, .. } => {
+                meta.cautions = cautions.clone();
+                None
+            }
+        };
         if !loaded.perturbations.is_empty() {
-            let discrete = report.discrete.map(|d| d.0);
             let mut alone = Vec::new();
-            for a in perturbations_alone(loaded, &self.background) {
+            for a in perturbations_alone(loaded, self.background()) {
                 match a {
                     Ok(a) => {
                         meta.cautions.extend(a.caution(discrete));
@@ -376,7 +427,7 @@ impl Built<'_> {
                     Some(r) => r,
                     None => {
                         let r = sample::resolve_tolerance(
-                            &self.background,
+                            self.background(),
                             grid,
                             *tolerance,
                             *start,
@@ -387,9 +438,9 @@ impl Built<'_> {
                         self.resolved.get_or_init(|| r)
                     }
                 };
-                resolved.sampler(&self.background, grid, &gas, &cuts)
+                resolved.sampler(self.background(), grid, &gas, &cuts)
             }
-            rule => Sampler::with_cuts(&self.background, grid, rule, &gas, &cuts),
+            rule => Sampler::with_cuts(self.background(), grid, rule, &gas, &cuts),
         };
         sampler.map_err(|e| self.sample_error(e))
     }
@@ -400,7 +451,12 @@ impl Built<'_> {
         let model = &self.loaded.model;
         Cuts {
             coordinate: model.shape.coordinate().to_string(),
-            at: self.domain.switches(model).iter().map(|w| w.at).collect(),
+            at: match &self.solution {
+                Solution::Closure { domain, .. } => {
+                    domain.switches(model).iter().map(|w| w.at).collect()
+                }
+                Solution::Torus { .. } => Vec::new(),
+            },
         }
     }
 

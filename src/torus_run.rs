@@ -1,23 +1,20 @@
 //! `check` and `build` for a profile with `balance.torus`: the torus from
 //! the model and the grid, its report (edges, density maximum, balance
 //! residuals in both directions inside, the floored cells where balance is
-//! given up) and its file (the fields, with the floor and the floored
-//! fraction in the metadata).
+//! given up) and its file metadata (the floor and the floored fraction).
+//! A torus is built, sampled and written like any other background
+//! (`pipeline::build`), perturbations and every output included.
 //!
 //! Owns: the glue from a loaded profile to a [`Torus`] and the torus
 //! report's text. Does not own the torus formulas (`torus`), sampling or
 //! the HDF5 format.
 
 use std::fmt::Write as _;
-use std::path::Path;
 
-use crate::background::Background;
 use crate::closure::{show, ClosureError};
-use crate::fields::slab_ranges;
-use crate::output::{H5Stream, Metadata};
-use crate::pipeline::{gas_constants, Error, StreamOptions};
+use crate::output::Metadata;
+use crate::pipeline::Error;
 use crate::profile::Loaded;
-use crate::sample::Sampler;
 use crate::torus::{Torus, TorusSpec};
 
 /// The torus of a profile with `balance.torus`, its edges searched for
@@ -239,47 +236,4 @@ pub fn metadata(
         ],
         reproducible,
     }
-}
-
-/// Sample the torus and write it to a new HDF5 file at `path` (the caller
-/// commits it), one slab at a time.
-pub fn write_hdf5(
-    loaded: &Loaded,
-    t: &Torus,
-    meta: &Metadata,
-    path: &Path,
-    opts: &StreamOptions,
-) -> Result<(), Error> {
-    let grid = &loaded.grid;
-    let sampler = Sampler::new(
-        t as &dyn Background,
-        grid,
-        &loaded.sampling,
-        &gas_constants(loaded),
-    )
-    .map_err(|error| Error::Sample {
-        source_label: loaded.source.clone(),
-        error,
-    })?;
-    let fields = sampler.fields();
-    let groups = crate::pipeline::unperturbed_groups(&fields);
-    let mut out = H5Stream::create(
-        path,
-        grid,
-        meta,
-        sampler.sampling(),
-        &groups,
-        opts.precision,
-    )?;
-    let shape = grid.shape();
-    let rows = opts.slab_rows.unwrap_or(64).max(1);
-    for r in slab_ranges(shape[0], rows) {
-        let slab = sampler.slab(r).map_err(|error| Error::Sample {
-            source_label: loaded.source.clone(),
-            error,
-        })?;
-        out.write("background", &slab)?;
-    }
-    out.finish(meta)?;
-    Ok(())
 }

@@ -314,3 +314,68 @@ fn epicyclic_frequency_of_the_rotation_law() {
         "{out}"
     );
 }
+
+/// A torus is built like every other background: perturbations, plain
+/// arrays, the XDMF description, estimates, any thread count (identical
+/// bytes) and `confirm` all work on it.
+#[test]
+fn torus_builds_through_the_common_path() {
+    let d = tempfile::tempdir().unwrap();
+    let o = run(d.path(), &["profiles", "thick-torus"]);
+    let mut v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    v["grid"]["x"]["cells"] = 64.into();
+    v["grid"]["y"]["cells"] = 64.into();
+    v["perturbations"] = serde_json::json!([{
+        "kind": "noise", "field": "velocity_R", "amplitude": 1e-3,
+        "relative_to": "sound_speed", "distribution": "uniform", "seed": 11
+    }]);
+    std::fs::write(d.path().join("t.json"), v.to_string()).unwrap();
+    let ok = |args: &[&str]| {
+        let o = run(d.path(), args);
+        let t = format!(
+            "{}{}",
+            String::from_utf8_lossy(&o.stdout),
+            String::from_utf8_lossy(&o.stderr)
+        );
+        assert!(o.status.success(), "{args:?}: {t}");
+        t
+    };
+    let t = ok(&["build", "t.json", "-o", "a.h5", "--npy", "--threads", "1"]);
+    assert!(t.contains("a.xmf"), "{t}");
+    ok(&[
+        "build",
+        "t.json",
+        "-o",
+        "b.h5",
+        "--threads",
+        "2",
+        "--slab-rows",
+        "5",
+    ]);
+    assert!(d.path().join("a-npy/metadata.json").is_file());
+    let t = ok(&["build", "t.json", "-o", "c.h5", "--estimate"]);
+    assert!(t.contains("cells"), "{t}");
+    assert!(!d.path().join("c.h5").exists());
+    let t = ok(&["confirm", "a.h5"]);
+    assert!(t.contains("verdict: intact, and reproduced"), "{t}");
+    let (a, b) = (
+        hdf5::File::open(d.path().join("a.h5")).unwrap(),
+        hdf5::File::open(d.path().join("b.h5")).unwrap(),
+    );
+    for name in [
+        "state/velocity_x",
+        "perturbation/velocity_x",
+        "background/density",
+    ] {
+        let x: Vec<f64> = a.dataset(name).unwrap().read_raw().unwrap();
+        let y: Vec<f64> = b.dataset(name).unwrap().read_raw().unwrap();
+        assert_eq!(x, y, "{name}");
+        if name.starts_with("perturbation") {
+            assert!(x.iter().any(|v| *v != 0.0), "the noise is there");
+        }
+    }
+    // The torus metadata is kept.
+    let frac: hdf5::types::VarLenUnicode =
+        a.attr("floored_fraction").unwrap().read_scalar().unwrap();
+    assert!(frac.as_str().parse::<f64>().unwrap() > 0.0);
+}
