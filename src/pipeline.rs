@@ -270,7 +270,7 @@ pub struct Built<'a> {
 /// report was made, and a failing one refused, when it was built).
 enum Solution {
     Closure {
-        background: Solved,
+        background: Box<Solved>,
         domain: Domain,
     },
     Torus {
@@ -282,7 +282,7 @@ enum Solution {
 impl Solution {
     fn background(&self) -> &dyn Background {
         match self {
-            Solution::Closure { background, .. } => background,
+            Solution::Closure { background, .. } => background.as_ref(),
             Solution::Torus { torus, .. } => torus.as_ref(),
         }
     }
@@ -325,6 +325,7 @@ pub fn build<'a>(
             ],
             reproducible,
         };
+        let background = Box::new(background);
         (Solution::Closure { background, domain }, metadata)
     };
     metadata.cautions.clear();
@@ -373,14 +374,15 @@ impl Built<'_> {
                 let centres = centres_for(&loaded.grid, loaded.model.shape.frame());
                 let report = crate::check::run(
                     &loaded.model,
-                    background,
+                    background.as_ref(),
                     domain,
                     &centres,
                     crate::check::DEFAULT_TOLERANCE,
                 )
                 .map_err(|e| Error::closure(loaded, e))?;
                 meta.cautions = verdict_cautions(loaded, &report)?;
-                meta.cautions.extend(cautions(loaded, background, domain));
+                meta.cautions
+                    .extend(cautions(loaded, background.as_ref(), domain));
                 report.discrete.map(|d| d.0)
             }
             // The torus was checked when it was built.
