@@ -46,6 +46,7 @@ pub mod parallel;
 pub mod perturb;
 pub mod physics;
 pub mod pipeline;
+pub mod plot;
 pub mod profile;
 pub mod sample;
 pub mod stability;
