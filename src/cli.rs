@@ -84,6 +84,10 @@ pub enum Command {
         /// the sampler and the writer) — and write nothing.
         #[arg(long)]
         estimate: bool,
+        /// Draw no progress bar (it is drawn on standard error, when that is
+        /// a terminal, for builds that take longer than about a second).
+        #[arg(long, short)]
+        quiet: bool,
         #[command(flatten)]
         stream: StreamArgs,
     },
@@ -340,6 +344,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             force,
             reproducible,
             estimate,
+            quiet,
             stream,
         } => {
             let flags = BuildFlags {
@@ -348,6 +353,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 force,
                 reproducible,
                 estimate,
+                quiet,
             };
             let run = || build(&common, output, &flags, &stream, argv);
             let threads = stream.threads.map(|n| n as usize);
@@ -539,6 +545,7 @@ struct BuildFlags<'a> {
     force: bool,
     reproducible: bool,
     estimate: bool,
+    quiet: bool,
 }
 
 fn build(
@@ -555,6 +562,7 @@ fn build(
         force,
         reproducible,
         estimate,
+        quiet,
     } = flags;
     let loaded = common.load()?;
     let h5 = output
@@ -656,10 +664,13 @@ fn build(
     }
     let built = pipeline::build(&loaded, argv, reproducible)?;
     let mut metadata = None;
-    output::commit(&h5, force, |tmp| {
-        metadata = Some(built.write_hdf5(tmp, &opts)?);
+    let bar = crate::progress::Bar::new(loaded.grid.len(), quiet);
+    let written = output::commit(&h5, force, |tmp| {
+        metadata = Some(built.write_hdf5_reporting(tmp, &opts, &|p| bar.update(p))?);
         Ok::<(), Error>(())
-    })?;
+    });
+    bar.finish();
+    written?;
     let metadata = match metadata {
         Some(m) => m,
         None => built.verify()?,

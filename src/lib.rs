@@ -48,6 +48,7 @@ pub mod physics;
 pub mod pipeline;
 pub mod plot;
 pub mod profile;
+pub mod progress;
 pub mod sample;
 pub mod stability;
 pub mod table;
