@@ -56,6 +56,33 @@ pub struct Map {
     pub label: String,
     /// Where the plane lies in a 3D grid (empty for 2D grids).
     pub plane: String,
+    /// How the plane's two coordinates map to the page.
+    pub shape: Embed,
+    /// The page's axis labels, with units, when `shape` is not `Plain`.
+    pub page_labels: (String, String),
+}
+
+/// How cells of a plane are placed on the page: in their own coordinates,
+/// or in their real shape.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Embed {
+    /// The plane's coordinates as they are (Cartesian planes, (R, z)).
+    Plain,
+    /// (R, φ) drawn at x = R cos φ, y = R sin φ.
+    Polar,
+    /// (r, θ) drawn at R = r sin θ, z = r cos θ (θ from the +z axis).
+    Meridional,
+}
+
+impl Embed {
+    /// The page position of the plane's point (a, b).
+    pub fn place(self, a: f64, b: f64) -> (f64, f64) {
+        match self {
+            Embed::Plain => (a, b),
+            Embed::Polar => (a * b.cos(), a * b.sin()),
+            Embed::Meridional => (a * b.sin(), a * b.cos()),
+        }
+    }
 }
 
 /// Points along the balance coordinate: `n` over the grid's range, spaced
@@ -253,7 +280,8 @@ fn names(specs: &[crate::fields::FieldSpec]) -> String {
 /// A field on the grid's plane: the whole grid when it is 2D; for a 3D
 /// grid the meridional plane φ = first cell (cylindrical and spherical
 /// grids) or the plane of z nearest 0 (Cartesian boxes). The state is
-/// shown (the equilibrium plus its perturbations).
+/// shown (the equilibrium plus its perturbations); polar (R, φ) and
+/// spherical (r, θ) planes are drawn in their real shape (see [`Embed`]).
 pub fn slice(loaded: &Loaded, field: &str) -> Result<Map, Error> {
     let grid = &loaded.grid;
     let axes = grid.axes();
@@ -350,7 +378,21 @@ pub fn slice(loaded: &Loaded, field: &str) -> Result<Map, Error> {
         None => String::new(),
     };
     let unit = loaded.model.units.unit_string(spec.dim);
+    let length = loaded.model.units.unit_string(Dim::LENGTH);
+    let (shape, page_labels) = match (axes[h].coord, axes[v].coord) {
+        (Coord::R, Coord::Phi) => (
+            Embed::Polar,
+            (format!("x [{length}]"), format!("y [{length}]")),
+        ),
+        (Coord::Sph, Coord::Theta) => (
+            Embed::Meridional,
+            (format!("R [{length}]"), format!("z [{length}]")),
+        ),
+        _ => (Embed::Plain, (String::new(), String::new())),
+    };
     Ok(Map {
+        shape,
+        page_labels,
         xlabel: axis_label(loaded, axes[h].coord),
         ylabel: axis_label(loaded, axes[v].coord),
         x_edges: axes[h].edges.clone(),

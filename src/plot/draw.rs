@@ -9,7 +9,7 @@ use plotters::coord::Shift;
 use plotters::prelude::*;
 
 use super::contour;
-use super::data::{spans_decades, Map, Panel};
+use super::data::{spans_decades, Embed, Map, Panel};
 use super::viridis;
 
 /// The family the embedded font is registered under.
@@ -112,10 +112,12 @@ fn range(values: impl Iterator<Item = f64>, log: bool) -> Option<(f64, f64)> {
     Some((lo - pad, hi + pad))
 }
 
-/// A tick label: plain decimals for moderate numbers, else scientific.
-fn tick(v: f64) -> String {
+/// A tick label: plain decimals for moderate numbers, else scientific;
+/// a value a billionth of the axis `span` from zero (a rounding residue of
+/// the tick positions) is 0.
+fn tick(v: f64, span: f64) -> String {
     let a = v.abs();
-    if v == 0.0 {
+    if a <= 1e-9 * span.abs() {
         "0".into()
     } else if (1e-3..1e4).contains(&a) {
         let s = format!("{v:.4}");
@@ -157,6 +159,9 @@ fn panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, p: &Panel) -> Result
         return Ok(());
     };
     let colours = [RGBColor(31, 88, 160), RGBColor(200, 82, 0)];
+    // Log axes never snap a tick to 0.
+    let span_x = if p.log_x { 0.0 } else { xr.1 - xr.0 };
+    let span_y = if p.log_y { 0.0 } else { yr.1 - yr.0 };
     with_ranges!(p.log_x, p.log_y, xr.0..xr.1, yr.0..yr.1, |x, y| {
         let mut chart = ChartBuilder::on(area)
             .margin(8)
@@ -171,8 +176,8 @@ fn panel<DB: DrawingBackend>(area: &DrawingArea<DB, Shift>, p: &Panel) -> Result
             .y_desc(p.ylabel.as_str())
             .x_labels(6)
             .y_labels(6)
-            .x_label_formatter(&|v| tick(*v))
-            .y_label_formatter(&|v| tick(*v))
+            .x_label_formatter(&|v| tick(*v, span_x))
+            .y_label_formatter(&|v| tick(*v, span_y))
             .label_style((FAMILY, font))
             .axis_desc_style((FAMILY, font))
             .light_line_style(RGBColor(235, 235, 235))
@@ -256,8 +261,12 @@ pub fn map<DB: DrawingBackend>(
     };
     let (sx, sy) = (nx.div_ceil(max_cells).max(1), ny.div_ceil(max_cells).max(1));
     let (main, bar) = area.split_horizontally(w - (w / 7).max(90));
-    let xr = (m.x_edges[0], m.x_edges[nx]);
-    let yr = (m.y_edges[0], m.y_edges[ny]);
+    let place = |a: f64, b: f64| m.shape.place(a, b);
+    let (xr, yr) = page_ranges(m, &main, font);
+    let (xlabel, ylabel) = match m.shape {
+        Embed::Plain => (m.xlabel.as_str(), m.ylabel.as_str()),
+        _ => (m.page_labels.0.as_str(), m.page_labels.1.as_str()),
+    };
     let mut chart = ChartBuilder::on(&main)
         .margin(8)
         .x_label_area_size(font * 3)
@@ -267,12 +276,12 @@ pub fn map<DB: DrawingBackend>(
     chart
         .configure_mesh()
         .disable_mesh()
-        .x_desc(m.xlabel.as_str())
-        .y_desc(m.ylabel.as_str())
+        .x_desc(xlabel)
+        .y_desc(ylabel)
         .x_labels(7)
         .y_labels(7)
-        .x_label_formatter(&|v| tick(*v))
-        .y_label_formatter(&|v| tick(*v))
+        .x_label_formatter(&|v| tick(*v, xr.1 - xr.0))
+        .y_label_formatter(&|v| tick(*v, yr.1 - yr.0))
         .label_style((FAMILY, font))
         .axis_desc_style((FAMILY, font))
         .draw()
@@ -284,10 +293,11 @@ pub fn map<DB: DrawingBackend>(
     for &i in &xi {
         for &j in &yi {
             let (r, g, b) = viridis::colour(norm(m.values[i][j]));
+            let (x0, y0) = (m.x_edges[i], m.y_edges[j]);
             let x1 = m.x_edges[(i + sx).min(nx)];
             let y1 = m.y_edges[(j + sy).min(ny)];
-            cells.push(Rectangle::new(
-                [(m.x_edges[i], m.y_edges[j]), (x1, y1)],
+            cells.push(Polygon::new(
+                outline(m.shape, (x0, y0), (x1, y1)),
                 RGBColor(r, g, b).filled(),
             ));
         }
@@ -313,11 +323,65 @@ pub fn map<DB: DrawingBackend>(
         .draw_series(
             segments
                 .into_iter()
-                .map(|(a, b)| PathElement::new(vec![a, b], ink)),
+                .map(|(a, b)| PathElement::new(vec![place(a.0, a.1), place(b.0, b.1)], ink)),
         )
         .m()?;
     colour_bar(&bar, &m.label, (lo, hi), log, &levels, font)?;
     Ok((sx, sy))
+}
+
+/// The corners of the cell [a0, a1] × [b0, b1] on the page; curved sides
+/// (an angle varying) are cut into pieces of at most 0.02 rad.
+fn outline(shape: Embed, (a0, b0): (f64, f64), (a1, b1): (f64, f64)) -> Vec<(f64, f64)> {
+    if shape == Embed::Plain {
+        return vec![(a0, b0), (a1, b0), (a1, b1), (a0, b1)];
+    }
+    let n = (((b1 - b0).abs() / 0.02).ceil() as usize).clamp(1, 64);
+    let mut out = Vec::with_capacity(2 * n + 2);
+    for k in 0..=n {
+        out.push(shape.place(a0, b0 + (b1 - b0) * k as f64 / n as f64));
+    }
+    for k in (0..=n).rev() {
+        out.push(shape.place(a1, b0 + (b1 - b0) * k as f64 / n as f64));
+    }
+    out
+}
+
+/// The page ranges that hold every cell: the plane's own ranges, or for a
+/// real shape the box around the placed cells widened so that one unit is
+/// as long across as up (a disk stays round).
+fn page_ranges<DB: DrawingBackend>(
+    m: &Map,
+    area: &DrawingArea<DB, Shift>,
+    font: u32,
+) -> ((f64, f64), (f64, f64)) {
+    let (nx, ny) = (m.x_edges.len() - 1, m.y_edges.len() - 1);
+    if m.shape == Embed::Plain {
+        return ((m.x_edges[0], m.x_edges[nx]), (m.y_edges[0], m.y_edges[ny]));
+    }
+    let (mut x, mut y) = (
+        (f64::INFINITY, f64::NEG_INFINITY),
+        (f64::INFINITY, f64::NEG_INFINITY),
+    );
+    for &a in [m.x_edges[0], m.x_edges[nx]].iter() {
+        for b in &m.y_edges {
+            let (px, py) = m.shape.place(a, *b);
+            x = (x.0.min(px), x.1.max(px));
+            y = (y.0.min(py), y.1.max(py));
+        }
+    }
+    let (w, h) = area.dim_in_pixel();
+    let pw = (w as f64 - 16.0 - 5.0 * font as f64).max(1.0);
+    let ph = (h as f64 - 16.0 - 3.0 * font as f64).max(1.0);
+    let (dx, dy) = (x.1 - x.0, y.1 - y.0);
+    if dx / pw > dy / ph {
+        let grow = dx / pw * ph - dy;
+        y = (y.0 - grow / 2.0, y.1 + grow / 2.0);
+    } else {
+        let grow = dy / ph * pw - dx;
+        x = (x.0 - grow / 2.0, x.1 + grow / 2.0);
+    }
+    (x, y)
 }
 
 fn colour_bar<DB: DrawingBackend>(
@@ -345,7 +409,7 @@ fn colour_bar<DB: DrawingBackend>(
             .disable_x_axis()
             .y_desc(label)
             .y_labels((h / 60).max(3) as usize)
-            .y_label_formatter(&|v| tick(*v))
+            .y_label_formatter(&|v| tick(*v, if log { 0.0 } else { hi - lo }))
             .label_style((FAMILY, font))
             .axis_desc_style((FAMILY, font))
             .draw()
