@@ -160,6 +160,28 @@ fn issue10_plot_titles_name_the_overrides_and_refuse_bad_requests() {
     assert!(svg.contains("z [m]") && svg.contains("temperature T [K]"));
     assert!(svg.contains("no --set"));
 
+    // A stratified disk's residual has its vertical balance too, which
+    // simplifies to 0 for the bundled flared disk (as `check` finds).
+    let o = p(&[
+        "plot",
+        "flared-disk-spherical",
+        "-o",
+        "r.svg",
+        "--what",
+        "residual",
+        "--size",
+        "600x300",
+    ]);
+    assert!(o.status.success(), "{}", text(&o));
+    let svg = std::fs::read_to_string(d.path().join("r.svg")).unwrap();
+    assert!(svg.contains("radial balance at z = 0"), "radial panel");
+    assert!(
+        svg.contains(
+            "vertical balance, largest over z in [-0.4754, 0.4754]: the residual simplifies to 0"
+        ),
+        "vertical panel"
+    );
+
     // Nothing is overwritten without --force.
     let o = p(&["plot", "powerlaw-disk", "-o", "a.svg"]);
     assert_eq!(o.status.code(), Some(2));

@@ -188,9 +188,11 @@ pub fn curves(loaded: &Loaded, n: usize) -> Result<(Vec<Panel>, Option<String>),
 /// The residual of the balance along the balance coordinate (the midplane
 /// of a disk), relative to its largest term: |v_φ²/R − ∂Φ/∂R − ∂P/∂R/ρ|
 /// for disks, |∂Φ/∂s + ∂P/∂s/ρ| for slabs and spheres, from the exact
-/// accelerations of the solved background. Values below [`FLOOR`] (exact
-/// zeros among them) are drawn at it, and the returned note says how many.
-pub fn residual(loaded: &Loaded, n: usize) -> Result<(Panel, Option<String>), Error> {
+/// accelerations of the solved background; for a stratified disk with a
+/// closed-form pressure a second panel holds the vertical balance (see
+/// [`vertical`]). Values below [`FLOOR`] (exact zeros among them) are drawn
+/// at it, and the returned note says how many on the first panel.
+pub fn residual(loaded: &Loaded, n: usize) -> Result<(Vec<Panel>, Option<String>), Error> {
     refuse_torus(loaded, "residual")?;
     let (bg, domain) = pipeline::solve_unverified(loaded)?;
     let (xs, log_x) = line_points(loaded, domain.lo, domain.hi, n);
@@ -235,19 +237,103 @@ pub fn residual(loaded: &Loaded, n: usize) -> Result<(Panel, Option<String>), Er
             xs.len()
         )
     });
-    let panel = Panel {
-        xlabel: format!("{s} [{}]", loaded.model.units.unit_string(Dim::LENGTH)),
+    let xlabel = format!("{s} [{}]", loaded.model.units.unit_string(Dim::LENGTH));
+    let reference = Some((
+        crate::check::DEFAULT_TOLERANCE,
+        format!("check tolerance {:.0e}", crate::check::DEFAULT_TOLERANCE),
+    ));
+    let mut panels = vec![Panel {
+        xlabel: xlabel.clone(),
         ylabel: format!("relative residual of the {what} [1]"),
-        xs,
+        xs: xs.clone(),
         series: vec![Series { ys }],
         log_x,
         log_y: true,
-        reference: Some((
-            crate::check::DEFAULT_TOLERANCE,
-            format!("check tolerance {:.0e}", crate::check::DEFAULT_TOLERANCE),
-        )),
+        reference: reference.clone(),
+    }];
+    if let Some((ys, zero)) = vertical(loaded, &domain, &xs)? {
+        let (z0, z1) = domain.height.unwrap_or((0.0, 0.0));
+        let how = if zero {
+            ": the residual simplifies to 0"
+        } else {
+            ""
+        };
+        panels.push(Panel {
+            xlabel,
+            ylabel: format!(
+                "vertical balance, largest over z in [{}, {}]{how} [1]",
+                super::draw::tick(z0, z1 - z0),
+                super::draw::tick(z1, z1 - z0)
+            ),
+            xs,
+            series: vec![Series { ys }],
+            log_x,
+            log_y: true,
+            reference,
+        });
+    }
+    Ok((panels, note))
+}
+
+/// The vertical balance of a stratified disk with a closed-form pressure,
+/// |(1/ρ) ∂P/∂z + ∂Φ/∂z| over its largest term, from the residual formula
+/// `check` uses (`Laws::vertical_residual`, exact derivatives) evaluated
+/// in double precision: for each R of `xs` the largest over 33 heights of
+/// the grid's range (at least [`FLOOR`]), and whether the residual
+/// simplified to 0 as a formula. None for other balances.
+fn vertical(
+    loaded: &Loaded,
+    domain: &crate::closure::Domain,
+    xs: &[f64],
+) -> Result<Option<(Vec<f64>, bool)>, Error> {
+    let m = &loaded.model;
+    let (Shape::StratifiedDisk, Some((z0, z1))) = (m.shape, domain.height) else {
+        return Ok(None);
     };
-    Ok((panel, note))
+    let laws = crate::closure::Laws::build(m).map_err(|e| Error::closure(loaded, e))?;
+    let Some((res, terms)) = laws.vertical_residual(m) else {
+        return Ok(None);
+    };
+    let compile = |e: &crate::formula::Expr| {
+        m.compile_field(e).map_err(|error| {
+            Error::closure(
+                loaded,
+                crate::closure::ClosureError::Formula {
+                    origin: "vertical residual".into(),
+                    error,
+                },
+            )
+        })
+    };
+    let zero = res.as_number().is_some_and(|v| v == 0.0);
+    let res = compile(&res)?;
+    let terms = terms
+        .iter()
+        .map(|(_, t)| compile(t))
+        .collect::<Result<Vec<_>, _>>()?;
+    let n = 33;
+    Ok(Some((
+        xs.iter()
+            .map(|&r| {
+                let mut worst = FLOOR;
+                for k in 0..n {
+                    let z = z0 + (z1 - z0) * k as f64 / (n - 1) as f64;
+                    let v = res.eval(&[r, z]).abs();
+                    let scale = terms
+                        .iter()
+                        .map(|t| t.eval(&[r, z]).abs())
+                        .fold(0.0, f64::max);
+                    let rel = if scale > 0.0 { v / scale } else { v };
+                    if rel.is_nan() {
+                        return f64::NAN;
+                    }
+                    worst = worst.max(rel);
+                }
+                worst
+            })
+            .collect(),
+        zero,
+    )))
 }
 
 /// The least relative residual drawn on the log axis: a tenth of the

@@ -115,7 +115,7 @@ fn range(values: impl Iterator<Item = f64>, log: bool) -> Option<(f64, f64)> {
 /// A tick label: plain decimals for moderate numbers, else scientific;
 /// a value a billionth of the axis `span` from zero (a rounding residue of
 /// the tick positions) is 0.
-fn tick(v: f64, span: f64) -> String {
+pub fn tick(v: f64, span: f64) -> String {
     let a = v.abs();
     if a <= 1e-9 * span.abs() {
         "0".into()

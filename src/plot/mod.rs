@@ -171,13 +171,13 @@ fn draw_on<DB: DrawingBackend>(
             draw::panels(&area, &panels, cols).map_err(fail)?;
         }
         Kind::Residual => {
-            let (panel, note) = data::residual(loaded, POINTS)?;
+            let (panels, note) = data::residual(loaded, POINTS)?;
             if let Some(n) = note {
                 second = format!("{second}; {n}");
             }
             let area = draw::titled(root, &format!("{name}: {}", req.kind.describe()), &second)
                 .map_err(fail)?;
-            draw::panels(&area, std::slice::from_ref(&panel), 1).map_err(fail)?;
+            draw::panels(&area, &panels, panels.len()).map_err(fail)?;
         }
         Kind::Slice => {
             let field = req.field.unwrap_or("density");
