@@ -84,6 +84,10 @@ pub enum Command {
         /// the sampler and the writer) — and write nothing.
         #[arg(long)]
         estimate: bool,
+        /// Draw no progress bar (it is drawn on standard error, when that is
+        /// a terminal, for builds that take longer than about a second).
+        #[arg(long, short)]
+        quiet: bool,
         #[command(flatten)]
         stream: StreamArgs,
     },
@@ -163,6 +167,41 @@ pub enum Command {
         /// A bundled profile whose JSON to print.
         name: Option<String>,
     },
+    /// Draw a profile as PNG or SVG: its curves along the balance
+    /// coordinate, a slice of its grid, or the residual of its balance.
+    #[command(after_help = "Kinds (--what):\n  \
+                      curves    density, pressure, temperature (or c^2) along the balance \
+                      coordinate; for disks also v_phi/v_K, 1 - v_phi/v_K and H/R\n  \
+                      slice     one field (--field, default density) on the plane of a 2D grid, \
+                      or on the meridional plane phi = first cell (cylindrical and spherical \
+                      grids) or the plane of z nearest 0 (Cartesian boxes) of a 3D grid, with \
+                      contours\n  \
+                      residual  the relative residual of the balance along the balance \
+                      coordinate, from exact derivatives, against the check tolerance\n\n\
+                      Examples:\n  stillpoint plot powerlaw-disk -o disk.png\n  \
+                      stillpoint plot flared-disk-spherical -o slice.svg --what slice --field \
+                      velocity_phi\n  stillpoint plot quiet-slab -o residual.png --what residual \
+                      --set g0=2")]
+    Plot {
+        #[command(flatten)]
+        common: Common,
+        /// The image file: .png or .svg.
+        #[arg(short, long, value_name = "FILE")]
+        output: PathBuf,
+        /// What to draw.
+        #[arg(long, value_enum, default_value = "curves")]
+        what: PlotWhat,
+        /// The field a slice shows (a dataset name of the built file, e.g.
+        /// density, pressure, velocity_phi).
+        #[arg(long, value_name = "NAME")]
+        field: Option<String>,
+        /// Image size in pixels, WIDTHxHEIGHT.
+        #[arg(long, value_name = "WxH", default_value = "1000x750", value_parser = parse_size)]
+        size: (u32, u32),
+        /// Overwrite an existing image.
+        #[arg(long)]
+        force: bool,
+    },
     /// Print a shell completion script for SHELL on stdout.
     #[command(
         after_help = "Examples:\n  stillpoint completions bash > ~/.local/share/bash-completion/completions/stillpoint\n  stillpoint completions zsh > ~/.zfunc/_stillpoint"
@@ -175,6 +214,28 @@ pub enum Command {
     /// Print the manual page (roff) on stdout.
     #[command(after_help = "Example:\n  stillpoint manual > stillpoint.1 && man ./stillpoint.1")]
     Manual,
+}
+
+/// `plot --what`.
+#[derive(Clone, Copy, Debug, clap::ValueEnum)]
+pub enum PlotWhat {
+    /// Profiles along the balance coordinate.
+    Curves,
+    /// A field on a plane of a 2D or 3D grid.
+    Slice,
+    /// The relative residual of the balance.
+    Residual,
+}
+
+fn parse_size(text: &str) -> Result<(u32, u32), String> {
+    let bad = || format!("expected WIDTHxHEIGHT in pixels (each 200 to 8000), found `{text}`");
+    let (w, h) = text.split_once(['x', 'X']).ok_or_else(bad)?;
+    let w: u32 = w.trim().parse().map_err(|_| bad())?;
+    let h: u32 = h.trim().parse().map_err(|_| bad())?;
+    if !(200..=8000).contains(&w) || !(200..=8000).contains(&h) {
+        return Err(bad());
+    }
+    Ok((w, h))
 }
 
 /// Plain-array outputs beside the HDF5 file.
@@ -299,6 +360,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             force,
             reproducible,
             estimate,
+            quiet,
             stream,
         } => {
             let flags = BuildFlags {
@@ -307,6 +369,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 force,
                 reproducible,
                 estimate,
+                quiet,
             };
             let run = || build(&common, output, &flags, &stream, argv);
             let threads = stream.threads.map(|n| n as usize);
@@ -477,6 +540,14 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 )))
             }
         },
+        Command::Plot {
+            common,
+            output,
+            what,
+            field,
+            size,
+            force,
+        } => plot(&common, &output, what, field.as_deref(), size, force),
         Command::Completions { shell } => {
             let mut cmd = <Cli as clap::CommandFactory>::command();
             let mut out = Vec::new();
@@ -522,6 +593,7 @@ struct BuildFlags<'a> {
     force: bool,
     reproducible: bool,
     estimate: bool,
+    quiet: bool,
 }
 
 fn build(
@@ -538,6 +610,7 @@ fn build(
         force,
         reproducible,
         estimate,
+        quiet,
     } = flags;
     let loaded = common.load()?;
     let h5 = output
@@ -625,10 +698,13 @@ fn build(
     }
     let built = pipeline::build(&loaded, argv, reproducible)?;
     let mut metadata = None;
-    output::commit(&h5, force, |tmp| {
-        metadata = Some(built.write_hdf5(tmp, &opts)?);
+    let bar = crate::progress::Bar::new(loaded.grid.len(), quiet);
+    let written = output::commit(&h5, force, |tmp| {
+        metadata = Some(built.write_hdf5_reporting(tmp, &opts, &|p| bar.update(p))?);
         Ok::<(), Error>(())
-    })?;
+    });
+    bar.finish();
+    written?;
     let metadata = match metadata {
         Some(m) => m,
         None => built.verify()?,
@@ -676,6 +752,55 @@ fn build(
         }
     }
     report_written(&loaded, &written, &metadata.cautions);
+    Ok(Outcome::Ok)
+}
+
+/// `plot`: draw in memory, then commit the file (never half-written, never
+/// over an existing file without --force).
+fn plot(
+    common: &Common,
+    output: &Path,
+    what: PlotWhat,
+    field: Option<&str>,
+    size: (u32, u32),
+    force: bool,
+) -> Result<Outcome, Error> {
+    use crate::plot::{Format, Kind, Request};
+    let Some(format) = Format::of(output) else {
+        return Err(Error::Usage(format!(
+            "{}: the image needs the extension .png or .svg",
+            output.display()
+        )));
+    };
+    let kind = match what {
+        PlotWhat::Curves => Kind::Curves,
+        PlotWhat::Slice => Kind::Slice,
+        PlotWhat::Residual => Kind::Residual,
+    };
+    if field.is_some() && kind != Kind::Slice {
+        return Err(Error::Usage(
+            "--field: only --what slice shows a field".into(),
+        ));
+    }
+    if output.exists() && !force {
+        return Err(Error::Usage(format!(
+            "{}: the file exists; pass --force to overwrite it",
+            output.display()
+        )));
+    }
+    let loaded = common.load()?;
+    let req = Request {
+        kind,
+        field,
+        size,
+        format,
+        overrides: &common.set,
+    };
+    let bytes = crate::plot::render(&loaded, &req)?;
+    output::commit(output, force, |tmp| {
+        std::fs::write(tmp, &bytes).map_err(|e| Error::Output(output::OutputError::io(tmp, e)))
+    })?;
+    say!("wrote {}", output.display());
     Ok(Outcome::Ok)
 }
 

@@ -27,6 +27,8 @@
 //! * [`profile`] — the JSON profile schema with exact error paths.
 //! * [`estimate`] — what a build will cost, and the refusal of one that
 //!   would not fit.
+//! * [`plot`] — pictures of a profile (curves, slices, the residual) as
+//!   PNG or SVG; [`progress`] — the progress bar of a build.
 //! * [`cli`] — the command line (the binary is a thin shell around it).
 #![deny(clippy::float_cmp)]
 
@@ -47,7 +49,9 @@ pub mod parallel;
 pub mod perturb;
 pub mod physics;
 pub mod pipeline;
+pub mod plot;
 pub mod profile;
+pub mod progress;
 pub mod sample;
 pub mod stability;
 pub mod table;

@@ -562,6 +562,17 @@ impl Built<'_> {
     /// and is the error (the caller's [`crate::output::commit`] removes the
     /// partial file). Returns the metadata written, cautions included.
     pub fn write_hdf5(&self, path: &Path, opts: &StreamOptions) -> Result<Metadata, Error> {
+        self.write_hdf5_reporting(path, opts, &|_| {})
+    }
+
+    /// [`Built::write_hdf5`], calling `report` after each slab is written
+    /// (from the writing thread) with the cells written so far.
+    pub fn write_hdf5_reporting(
+        &self,
+        path: &Path,
+        opts: &StreamOptions,
+        report: &(dyn Fn(Progress) + Sync),
+    ) -> Result<Metadata, Error> {
         let sampler = self.sampler()?;
         let fields = sampler.fields();
         let grid = &self.loaded.grid;
@@ -607,6 +618,8 @@ impl Built<'_> {
         let shape = grid.shape();
         let rows = slab_rows(&shape, fields.len(), opts);
         let gamma = self.loaded.model.gamma;
+        let row_cells: usize = shape[1..].iter().product();
+        let total = grid.len();
         if rayon::current_num_threads() == 1 {
             // One thread: verify (a refused state stops before any work),
             // then sample and write in turn.
@@ -615,10 +628,12 @@ impl Built<'_> {
             let mut reuse = Vec::new();
             let mut peaks = Peaks::new(gamma);
             for r in slab_ranges(shape[0], rows) {
+                let cells = r.end * row_cells;
                 let slab = sampler
                     .slab_into(r, reuse)
                     .map_err(|e| self.sample_error(e))?;
                 reuse = split.write(&mut out, select(slab), &mut peaks)?;
+                report(Progress { cells, total });
             }
             let meta = split.with_peaks(meta, &peaks);
             out.finish(&meta)?;
@@ -641,7 +656,9 @@ impl Built<'_> {
             let writer = scope.spawn(move || -> Result<(H5Stream, Peaks), OutputError> {
                 let mut peaks = Peaks::new(gamma);
                 for slab in rx {
+                    let cells = slab.rows.end * row_cells;
                     let data = split.write(&mut out, slab, &mut peaks)?;
+                    report(Progress { cells, total });
                     let _ = back.send(data);
                 }
                 Ok((out, peaks))
@@ -676,6 +693,15 @@ impl Built<'_> {
         out.finish(&meta)?;
         Ok(meta)
     }
+}
+
+/// How far a streamed build has come (see [`Built::write_hdf5_reporting`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Progress {
+    /// Cells written so far.
+    pub cells: usize,
+    /// Cells of the grid.
+    pub total: usize,
 }
 
 /// Writes a slab's groups (background; or background, state and
