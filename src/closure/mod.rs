@@ -21,6 +21,7 @@
 
 pub mod axis;
 mod barotropic;
+pub mod column;
 mod domain;
 pub mod existence;
 pub mod integrate;
@@ -154,7 +155,36 @@ pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, Closur
         }
         None => {}
     }
-    Solved::new(model, &laws, integral, axis_potential)
+    let column = match &laws.column {
+        Some(cl) => {
+            let mut col = column::Column::new(model, cl)?;
+            if let Some((_, extent)) = &cl.surface {
+                let over = column_range(model, domain, *extent)?;
+                col.normalise(domain.lo, domain.hi, over)?;
+            }
+            Some(col)
+        }
+        None => None,
+    };
+    Solved::new(model, &laws, integral, axis_potential, column)
+}
+
+/// The heights a surface density's column integral runs over: the grid's,
+/// or −∞ to ∞.
+pub fn column_range(
+    model: &Model,
+    domain: &Domain,
+    extent: crate::model::ColumnExtent,
+) -> Result<(f64, f64), ClosureError> {
+    let _ = model;
+    match extent {
+        crate::model::ColumnExtent::Infinity => Ok((f64::NEG_INFINITY, f64::INFINITY)),
+        crate::model::ColumnExtent::Grid => domain.height.ok_or_else(|| {
+            ClosureError::Incomplete(
+                "balance.column \"grid\": the grid has no vertical extent".into(),
+            )
+        }),
+    }
 }
 
 /// A 256-bit evaluation of the integrand next to the axis or centre the grid
