@@ -211,6 +211,10 @@ pub fn build<'a>(
         ],
         reproducible,
     };
+    metadata.extra.extend(
+        crate::closure::column::metadata(&loaded.model, &bg, &domain)
+            .map_err(|e| Error::closure(loaded, e))?,
+    );
     if !perturbations.is_empty() {
         metadata.extra.push((
             "perturbations".into(),

@@ -25,7 +25,7 @@ fn tmp() -> tempfile::TempDir {
     tempfile::tempdir().unwrap()
 }
 
-const BUNDLED: [&str; 9] = [
+const BUNDLED: [&str; 10] = [
     "quiet-slab",
     "layered-atmosphere",
     "powerlaw-disk",
@@ -35,6 +35,7 @@ const BUNDLED: [&str; 9] = [
     "flared-disk-spherical",
     "softened-disk-box",
     "stratified-box-2d",
+    "warm-layer-disk",
 ];
 
 #[test]

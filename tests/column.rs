@@ -250,8 +250,8 @@ fn surface(extent: &str) -> String {
 /// The isothermal thin-disk limit: ρ_mid → Σ/(√(2π) H), H = c/Ω_K (the
 /// Gaussian vertical profile of a thin disk; Armitage 2010, "Astrophysics of
 /// Planet Formation", §2 on vertical structure, from memory). The full
-/// point-mass potential adds, for H/R = h, ρ_mid √(2π) H/Σ = 1 − (9/8) h²
-/// + O(h⁴) (from ln(ρ/ρ_mid) = −u²/2 + 3h²u⁴/8 + …, u = z/H, and the
+/// point-mass potential adds, for H/R = h, ρ_mid √(2π) H/Σ = 1 − (9/8) h² +
+/// O(h⁴) (from ln(ρ/ρ_mid) = −u²/2 + 3h²u⁴/8 + …, u = z/H, and the
 /// Gaussian moment ⟨u⁴⟩ = 3; derived here, not from a source).
 #[test]
 fn issue7_surface_density_has_the_thin_disk_limit() {

@@ -708,3 +708,51 @@ mod tests {
         }
     }
 }
+
+/// The metadata of a column closure: how its integrals were taken and, with
+/// a surface density, what the normalisation found (JSON text).
+pub fn metadata(
+    model: &Model,
+    solved: &super::Solved,
+    domain: &super::Domain,
+) -> Result<Vec<(String, String)>, ClosureError> {
+    let Some(col) = solved.column() else {
+        return Ok(Vec::new());
+    };
+    let laws = Laws::build(model)?;
+    let Some(cl) = laws.column else {
+        return Ok(Vec::new());
+    };
+    let mut out = vec![(
+        "column_integration".to_string(),
+        format!(
+            "ln P = ln P_mid - int_0^z (dPhi/dz)/c^2 dz' and its exact R-derivative, by \
+             10-point Gauss-Legendre panels bisected until panel and halves agree to \
+             {PANEL_TOLERANCE:e} of the panel's scale"
+        ),
+    )];
+    if let Some((_, extent)) = &cl.surface {
+        let over = super::column_range(model, domain, *extent)?;
+        let c2 = super::compile(model, &cl.c2_mid, "c^2 at the midplane")?;
+        let nu2 = super::compile(model, &cl.nu2, "d2Phi/dz2 at the midplane")?;
+        let thin = |r: f64| (c2.eval(&[r]), nu2.eval(&[r]));
+        if let Some(rep) = col.norm_report(*extent, over, &thin) {
+            let ((lo, at_lo), (hi, at_hi)) = rep.thin_disk_ratio;
+            let span = match rep.over {
+                Some((a, b)) => format!("[{a}, {b}]"),
+                None => "\"infinity\"".into(),
+            };
+            out.push((
+                "surface_density_normalisation".to_string(),
+                format!(
+                    "{{\"column\": {span}, \"chebyshev_points\": {}, \"agreement_ln_I\": {:e}, \
+                     \"agreement_dI_over_I\": {:e}, \"rho_mid_over_thin_disk\": {{\"min\": {lo}, \
+                     \"at_R\": {at_lo}, \"max\": {hi}, \"max_at_R\": {at_hi}}}, \
+                     \"thin_disk\": \"Sigma/(sqrt(2 pi) H), H = c(R,0)/nu, nu^2 = d2Phi/dz2 at z = 0\"}}",
+                    rep.points, rep.achieved.0, rep.achieved.1
+                ),
+            ));
+        }
+    }
+    Ok(out)
+}
