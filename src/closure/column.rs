@@ -684,31 +684,6 @@ impl Norm {
     }
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn chebyshev_interpolant_is_exact_at_nodes_and_close_between() {
-        // Barycentric interpolation of exp on [1, 3] (Berrut & Trefethen
-        // 2004): degree 32 is exact to round-off for an entire function.
-        let n = 32;
-        let at = |k: usize| 2.0 + (std::f64::consts::PI * k as f64 / n as f64).cos();
-        let norm = Norm {
-            lo: 1.0,
-            hi: 3.0,
-            ln_i: (0..=n).map(|k| at(k).exp()).collect(),
-            ratio: (0..=n).map(|k| at(k).sin()).collect(),
-            achieved: (0.0, 0.0),
-        };
-        for x in [1.0, 1.3, 2.0, 2.77, 3.0] {
-            let [a, b] = norm.eval(x);
-            assert!((a - x.exp()).abs() < 1e-13 * x.exp(), "{x}");
-            assert!((b - x.sin()).abs() < 1e-14, "{x}");
-        }
-    }
-}
-
 /// The metadata of a column closure: how its integrals were taken and, with
 /// a surface density, what the normalisation found (JSON text).
 pub fn metadata(
@@ -755,4 +730,29 @@ pub fn metadata(
         }
     }
     Ok(out)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn chebyshev_interpolant_is_exact_at_nodes_and_close_between() {
+        // Barycentric interpolation of exp on [1, 3] (Berrut & Trefethen
+        // 2004): degree 32 is exact to round-off for an entire function.
+        let n = 32;
+        let at = |k: usize| 2.0 + (std::f64::consts::PI * k as f64 / n as f64).cos();
+        let norm = Norm {
+            lo: 1.0,
+            hi: 3.0,
+            ln_i: (0..=n).map(|k| at(k).exp()).collect(),
+            ratio: (0..=n).map(|k| at(k).sin()).collect(),
+            achieved: (0.0, 0.0),
+        };
+        for x in [1.0, 1.3, 2.0, 2.77, 3.0] {
+            let [a, b] = norm.eval(x);
+            assert!((a - x.exp()).abs() < 1e-13 * x.exp(), "{x}");
+            assert!((b - x.sin()).abs() < 1e-14, "{x}");
+        }
+    }
 }
