@@ -328,3 +328,20 @@ fn issue7_surface_density_column_recovers_sigma() {
         assert!(t.contains(key), "{name}: {t}");
     }
 }
+
+/// A density falling so steeply that pressure outweighs gravity has no
+/// rotation (v_φ² < 0): `build` stops, names where, and writes nothing.
+#[test]
+fn issue7_column_without_rotation_is_refused() {
+    let d = tempfile::tempdir().unwrap();
+    let text = WARM.replace("rho0*(R/R0)^p", "rho0*(R/R0)^(-500)");
+    let path = d.path().join("steep.json");
+    std::fs::write(&path, text).unwrap();
+    let (code, t) = stillpoint(
+        d.path(),
+        &["build", path.to_str().unwrap(), "-o", "steep.h5"],
+    );
+    assert_eq!(code, Some(2), "{t}");
+    assert!(t.contains("v_phi^2 < 0") && t.contains("(R, z) = ("), "{t}");
+    assert!(!d.path().join("steep.h5").exists());
+}

@@ -236,29 +236,9 @@ pub(super) fn column_form(
             lo_r.0, lo_r.1, hi_r.0, hi_r.1
         ));
     }
-    // Existence off the midplane (the positivity survey runs along it):
-    // v_φ² < 0 or a density that is not positive on a 33 × 33 scan.
-    let mut bad: Option<(f64, f64, &str)> = None;
-    'scan: for i in 0..=32 {
-        for j in 0..=32 {
-            let r = lo + (domain.hi - lo) * i as f64 / 32.0;
-            let z = height.0 + (height.1 - height.0) * j as f64 / 32.0;
-            let st = bg.at(&[r, z]);
-            let what = if !(st.density.is_finite() && st.density > 0.0) {
-                "density <= 0 or not finite"
-            } else if !st.rotation().is_finite() {
-                "v_phi^2 < 0 (or not finite)"
-            } else {
-                continue;
-            };
-            bad = Some((r, z, what));
-            break 'scan;
-        }
-    }
-    if let Some((r, z, what)) = bad {
-        lines.push(format!(
-            "no equilibrium: {what} at (R, z) = ({r:.6}, {z:.6}) (33 x 33 scan of the meridional domain)"
-        ));
+    let bad = crate::closure::column::meridional_failure(bg, domain);
+    if let Some((r, message)) = bad {
+        lines.push(format!("no equilibrium: {message}"));
         return Ok(ColumnCheck {
             verdict: Verdict::NotEquilibrium {
                 max: f64::INFINITY,

@@ -732,6 +732,45 @@ pub fn metadata(
     Ok(out)
 }
 
+/// Where a column-integrated state is no equilibrium off the midplane
+/// (the positivity survey runs along it): v_φ² < 0, or a density that is
+/// not positive, on a 33 × 33 scan of the meridional domain. The R of the
+/// first such point and a message, or None.
+pub fn meridional_failure(
+    bg: &dyn crate::background::Background,
+    domain: &super::Domain,
+) -> Option<(f64, String)> {
+    let height = domain.height.unwrap_or((0.0, 0.0));
+    let lo = if domain.axis_at_lo {
+        domain.lo + 1e-3 * (domain.hi - domain.lo)
+    } else {
+        domain.lo
+    };
+    for i in 0..=32 {
+        for j in 0..=32 {
+            let r = lo + (domain.hi - lo) * i as f64 / 32.0;
+            let z = height.0 + (height.1 - height.0) * j as f64 / 32.0;
+            let st = bg.at(&[r, z]);
+            let what = if !(st.density.is_finite() && st.density > 0.0) {
+                "the density is not positive (or not finite)"
+            } else if !st.rotation().is_finite() {
+                "v_phi^2 < 0 (or not finite): the radial balance has no rotation"
+            } else {
+                continue;
+            };
+            return Some((
+                r,
+                format!(
+                    "{what} at (R, z) = ({}, {}) (33 x 33 scan of the meridional domain)",
+                    super::show(r),
+                    super::show(z)
+                ),
+            ));
+        }
+    }
+    None
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

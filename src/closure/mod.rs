@@ -300,6 +300,11 @@ fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), C
     if let Some(message) = failures.into_iter().next() {
         return Err(ClosureError::NoEquilibrium(message));
     }
+    if bg.column().is_some() {
+        if let Some((_, message)) = column::meridional_failure(bg, domain) {
+            return Err(ClosureError::NoEquilibrium(message));
+        }
+    }
     if let Some(x) = domain
         .scan_points_for(model)
         .into_iter()
