@@ -138,9 +138,8 @@ impl Solved {
     /// ρ, P, v_φ and −(1/ρ) ∂P/∂R of a column closure at (r, z) from the
     /// law outputs c², base, base_r, ∂Φ/∂R: the one combination both paths
     /// use.
-    fn column_state(col: &Column, r: f64, z: f64, o: [f64; 4]) -> [f64; 4] {
+    fn column_state(col: &Column, r: f64, [l, l_r]: [f64; 2], o: [f64; 4]) -> [f64; 4] {
         let [c2, base, base_r, phi_r] = o;
-        let [l, l_r] = col.at(r, z);
         let [ln_i, ratio] = col.norm_at(r);
         let ln_p = base - ln_i - l;
         let p = ln_p.exp();
@@ -305,7 +304,8 @@ impl Background for Solved {
         let (density, pressure, v, pa) = match &self.column {
             Some(col) => {
                 let outs = [self.out.c2, self.out.base, self.out.base_r, self.out.phi_r];
-                let [rho, p, v, pa] = Self::column_state(col, s, x[1], outs.map(get));
+                let l = col.at(s, x[1]);
+                let [rho, p, v, pa] = Self::column_state(col, s, l, outs.map(get));
                 (rho, p, v, pa)
             }
             None => {
@@ -430,9 +430,12 @@ impl Background for Solved {
             if let [Some(c2), Some(base), Some(base_r), Some(phi_r)] =
                 cols.map(|k| k.map(|k| &b[k][..n]))
             {
+                let items: Vec<(f64, f64, f64)> = (0..n).map(|i| (s[i], 0.0, z[i])).collect();
+                let mut ls = vec![[0.0; 2]; n];
+                col.integrate_many(&items, &mut ls);
                 for i in 0..n {
                     let o = [c2[i], base[i], base_r[i], phi_r[i]];
-                    let [r, p, v, a] = Self::column_state(col, s[i], z[i], o);
+                    let [r, p, v, a] = Self::column_state(col, s[i], ls[i], o);
                     out.density[i] = r;
                     out.pressure[i] = p;
                     out.velocity[1][i] = v;
