@@ -11,6 +11,8 @@
 //! | slab, sphere | P | ρ, P at anchor | ∂P/∂s = −ρΦ_s |
 //! | slab, sphere | ρ, P | K, Γ (P = Kρ^Γ), ρ at anchor | h(ρ) + Φ = const, closed form |
 //! | disk | v_φ | ρ, K, Γ | v_φ² = R(Φ_R + P_R/ρ), P = Kρ^Γ |
+//! | stratified disk | ρ(R, z), v_φ(R, z) | ρ_mid(R), c²(R) | closed form (`vertical`) |
+//! | stratified disk | ρ(R, z), v_φ(R, z) | ρ_mid(R) or Σ(R), c²(R, z) | column integrals of Φ_z/c² and its R-derivative (`column`) |
 //! | any | — | every law | audit only (`check` reports the imbalance) |
 //!
 //! Owns: building the derived formulas and integrands (`laws`), the
