@@ -165,7 +165,7 @@ pub(super) fn column_form(
         domain.lo
     };
     let over = match &cl.surface {
-        Some((_, extent)) => Some(crate::closure::column_range(model, domain, *extent)?),
+        Some((_, extent)) => Some(crate::closure::column_range(domain, *extent)?),
         None => None,
     };
     let scale = (height.1 - height.0).abs().max(1e-3 * domain.hi.abs());

@@ -670,11 +670,6 @@ impl Column {
         self.norm.as_ref().map_or([0.0; 2], |n| n.eval(r))
     }
 
-    /// [ln I, I′/I] by direct integration (not the table), for checks.
-    pub fn norm_direct(&self, r: f64, over: (f64, f64), scale: f64) -> Result<[f64; 2], String> {
-        self.normalisation(r, over, scale)
-    }
-
     /// What the normalisation found: `thin` gives c²(R, 0) and ν² at R.
     pub fn norm_report(
         &self,
@@ -755,7 +750,7 @@ pub fn metadata(
         ),
     )];
     if let Some((_, extent)) = &cl.surface {
-        let over = super::column_range(model, domain, *extent)?;
+        let over = super::column_range(domain, *extent)?;
         let c2 = super::compile(model, &cl.c2_mid, "c^2 at the midplane")?;
         let nu2 = super::compile(model, &cl.nu2, "d2Phi/dz2 at the midplane")?;
         let thin = |r: f64| (c2.eval(&[r]), nu2.eval(&[r]));

@@ -161,7 +161,7 @@ pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, Closur
         Some(cl) => {
             let mut col = column::Column::new(model, cl)?;
             if let Some((_, extent)) = &cl.surface {
-                let over = column_range(model, domain, *extent)?;
+                let over = column_range(domain, *extent)?;
                 col.normalise(domain.lo, domain.hi, over)?;
             }
             Some(col)
@@ -174,11 +174,9 @@ pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, Closur
 /// The heights a surface density's column integral runs over: the grid's,
 /// or −∞ to ∞.
 pub fn column_range(
-    model: &Model,
     domain: &Domain,
     extent: crate::model::ColumnExtent,
 ) -> Result<(f64, f64), ClosureError> {
-    let _ = model;
     match extent {
         crate::model::ColumnExtent::Infinity => Ok((f64::NEG_INFINITY, f64::INFINITY)),
         crate::model::ColumnExtent::Grid => domain.height.ok_or_else(|| {
