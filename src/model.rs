@@ -38,6 +38,39 @@ impl Keyed for Unknown {
     ];
 }
 
+/// How far the column integral of a surface-density normalisation runs
+/// (`balance.column`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ColumnExtent {
+    /// Over the grid's vertical extent.
+    Grid,
+    /// From −∞ to +∞ (until the density is negligible).
+    Infinity,
+}
+
+impl Keyed for ColumnExtent {
+    const KEYS: &'static [(ColumnExtent, &'static str)] = &[
+        (ColumnExtent::Grid, "grid"),
+        (ColumnExtent::Infinity, "infinity"),
+    ];
+}
+
+/// How a stratified disk's vertical structure is found (`balance.vertical`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Vertical {
+    /// Vertically isothermal, in closed form (the default).
+    ClosedForm,
+    /// c²(R, z) any law: the vertical balance integrated up each column.
+    Quadrature,
+}
+
+impl Keyed for Vertical {
+    const KEYS: &'static [(Vertical, &'static str)] = &[
+        (Vertical::ClosedForm, "closed_form"),
+        (Vertical::Quadrature, "quadrature"),
+    ];
+}
+
 /// Where an integrated closure is pinned: the coordinate and the value of
 /// the quantity there (density or pressure, depending on the closure).
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -102,6 +135,13 @@ pub struct Model {
     pub unknown: Unknown,
     /// Given density law (ρ or Σ).
     pub density: Option<Law>,
+    /// Given surface density Σ(R) of a stratified disk (instead of its
+    /// midplane density), `balance.surface_density`.
+    pub surface_density: Option<Law>,
+    /// How far Σ's column integral runs (`balance.column`).
+    pub column: Option<ColumnExtent>,
+    /// How a stratified disk's vertical structure is found.
+    pub vertical: Vertical,
     /// Given squared isothermal sound speed c² (a temperature law is already
     /// converted: c² = k_B T / (μ m_u)).
     pub sound_speed_sq: Option<Law>,

@@ -311,7 +311,7 @@ pub fn build<'a>(
         (Solution::Torus { torus, cautions }, metadata)
     } else {
         let (background, domain) = solve(loaded)?;
-        let metadata = Metadata {
+        let mut metadata = Metadata {
             profile_json: loaded.json_text.clone(),
             command_line: command_line.to_string(),
             generator: format!("stillpoint {}", env!("CARGO_PKG_VERSION")),
@@ -325,6 +325,10 @@ pub fn build<'a>(
             ],
             reproducible,
         };
+        metadata.extra.extend(
+            crate::closure::column::metadata(&loaded.model, &background, &domain)
+                .map_err(|e| Error::closure(loaded, e))?,
+        );
         let background = Box::new(background);
         (Solution::Closure { background, domain }, metadata)
     };

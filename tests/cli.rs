@@ -10,7 +10,7 @@ fn tmp() -> tempfile::TempDir {
     tempfile::tempdir().unwrap()
 }
 
-const BUNDLED: [&str; 14] = [
+const BUNDLED: [&str; 15] = [
     "quiet-slab",
     "layered-atmosphere",
     "powerlaw-disk",
@@ -25,6 +25,7 @@ const BUNDLED: [&str; 14] = [
     "mode-disk",
     "noisy-disk",
     "noisy-disk-3d",
+    "warm-layer-disk",
 ];
 
 #[test]

@@ -2,7 +2,8 @@
 """Reads meridional [R, z] files of a stratified disk with h5py (an outside
 HDF5 reader) and recomputes both balances from the file's own numbers.
 
-Usage: vertical_check.py COARSE.h5 FINE.h5   (FINE has twice the cells per axis)
+Usage: vertical_check.py COARSE.h5 FINE.h5 [ZMAX]
+(FINE has twice the cells per axis; ZMAX, default 0.1, bounds |z| of the region)
 
 At the cell centres (point values), with second-order centred differences
 (common practice, no source):
@@ -11,7 +12,7 @@ At the cell centres (point values), with second-order centred differences
 the radial one relative to the largest term at the point, the vertical one
 (whose terms vanish at the midplane) relative to the largest |dPhi/dz| of
 the region; both over the same region, R in [1.0, 2.3] and |z| <= 0.1, in
-both files. Both must be small and fall by about 4 when the cells halve
+both files (ZMAX instead of 0.1 when given). Both must be small and fall by about 4 when the cells halve
 (second order): exits non-zero otherwise.
 """
 import sys
@@ -20,7 +21,7 @@ import h5py
 import numpy as np
 
 
-def residuals(path):
+def residuals(path, zmax):
     with h5py.File(path, "r") as f:
         R = f["grid/R_centers"][...]
         z = f["grid/z_centers"][...]
@@ -41,13 +42,14 @@ def residuals(path):
     rad = cen - phi_R - P_R / r
     rad_scale = np.maximum.reduce([abs(cen), abs(phi_R), abs(P_R / r)])
     ver = -phi_z - P_z / r
-    region = (RR[1:-1] >= 1.0) & (RR[1:-1] <= 2.3) & (abs(z[None, 1:-1]) <= 0.1)
+    region = (RR[1:-1] >= 1.0) & (RR[1:-1] <= 2.3) & (abs(z[None, 1:-1]) <= zmax)
     ver_scale = abs(phi_z[region]).max()
     return (abs(rad) / rad_scale)[region].max(), abs(ver[region]).max() / ver_scale
 
 
 def main():
-    coarse, fine = (residuals(p) for p in sys.argv[1:3])
+    zmax = float(sys.argv[3]) if len(sys.argv) > 3 else 0.1
+    coarse, fine = (residuals(p, zmax) for p in sys.argv[1:3])
     ok = True
     for name, c, f in zip(("radial", "vertical"), coarse, fine):
         order = np.log2(c / f)

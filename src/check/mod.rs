@@ -25,6 +25,7 @@
 //! solving or grids.
 
 mod closed;
+mod column;
 mod integral;
 pub mod jumps;
 mod report;
@@ -86,6 +87,9 @@ pub struct Report {
     pub discrete: Option<(f64, f64)>,
     /// The tolerance used.
     pub tolerance: f64,
+    /// A disk integrated up its columns: both balances against the
+    /// reference, and the surface-density normalisation, in words.
+    pub column: Vec<String>,
 }
 
 impl Report {
@@ -114,7 +118,14 @@ pub fn run(
     let switches: Vec<f64> = found.iter().map(|w| w.at).collect();
     let jumps = find_jumps(model, &laws, domain, &found, tolerance)?;
     let vertical = laws.vertical_residual(model);
+    let mut column_lines = Vec::new();
     let (verdict, formula) = match (&laws.integrand, laws.residual(model)) {
+        _ if laws.column.is_some() => {
+            let cl = laws.column.as_ref().expect("matched");
+            let c = column::column_form(model, cl, bg, domain, tolerance)?;
+            column_lines = c.lines;
+            (c.verdict, None)
+        }
         (None, Some((res, terms))) if vertical.is_some() => {
             let (vres, vterms) = vertical.unwrap_or((Expr::num(0.0), Vec::new()));
             let height = domain.height.unwrap_or((0.0, 0.0));
@@ -158,6 +169,7 @@ pub fn run(
         no_equilibrium,
         discrete,
         tolerance,
+        column: column_lines,
     })
 }
 

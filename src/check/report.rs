@@ -56,6 +56,9 @@ impl fmt::Display for Report {
         if let Some(r) = &self.residual_formula {
             writeln!(f, "  residual     {r}")?;
         }
+        for line in &self.column {
+            writeln!(f, "  {line}")?;
+        }
         writeln!(f, "positivity")?;
         for e in &self.positivity {
             let mark = if e.ok() { "ok" } else { "FAILS" };

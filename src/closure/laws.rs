@@ -47,6 +47,9 @@ pub struct Laws {
     pub gradients: Option<Gradients>,
     /// Everything derived, for printing.
     pub derived: Vec<DerivedLaw>,
+    /// A stratified disk whose columns are integrated (c²(R, z)): the
+    /// integrands and the midplane laws (see `column`).
+    pub column: Option<super::column::ColumnLaws>,
 }
 
 /// The logarithmic gradients of a slab or sphere, from exact derivatives,
@@ -175,6 +178,7 @@ impl Laws {
             watched: Vec::new(),
             gradients: None,
             derived: Vec::new(),
+            column: None,
         };
         let disk = m.shape.is_disk();
         let r = Expr::name(s);

@@ -11,6 +11,8 @@
 //! | slab, sphere | P | ρ, P at anchor | ∂P/∂s = −ρΦ_s |
 //! | slab, sphere | ρ, P | K, Γ (P = Kρ^Γ), ρ at anchor | h(ρ) + Φ = const, closed form |
 //! | disk | v_φ | ρ, K, Γ | v_φ² = R(Φ_R + P_R/ρ), P = Kρ^Γ |
+//! | stratified disk | ρ(R, z), v_φ(R, z) | ρ_mid(R), c²(R) | closed form (`vertical`) |
+//! | stratified disk | ρ(R, z), v_φ(R, z) | ρ_mid(R) or Σ(R), c²(R, z) | column integrals of Φ_z/c² and its R-derivative (`column`) |
 //! | any | — | every law | audit only (`check` reports the imbalance) |
 //!
 //! Owns: building the derived formulas and integrands (`laws`), the
@@ -21,6 +23,7 @@
 
 pub mod axis;
 mod barotropic;
+pub mod column;
 mod domain;
 pub mod existence;
 pub mod integrate;
@@ -154,7 +157,34 @@ pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, Closur
         }
         None => {}
     }
-    Solved::new(model, &laws, integral, axis_potential)
+    let column = match &laws.column {
+        Some(cl) => {
+            let mut col = column::Column::new(model, cl)?;
+            if let Some((_, extent)) = &cl.surface {
+                let over = column_range(domain, *extent)?;
+                col.normalise(domain.lo, domain.hi, over)?;
+            }
+            Some(col)
+        }
+        None => None,
+    };
+    Solved::new(model, &laws, integral, axis_potential, column)
+}
+
+/// The heights a surface density's column integral runs over: the grid's,
+/// or −∞ to ∞.
+pub fn column_range(
+    domain: &Domain,
+    extent: crate::model::ColumnExtent,
+) -> Result<(f64, f64), ClosureError> {
+    match extent {
+        crate::model::ColumnExtent::Infinity => Ok((f64::NEG_INFINITY, f64::INFINITY)),
+        crate::model::ColumnExtent::Grid => domain.height.ok_or_else(|| {
+            ClosureError::Incomplete(
+                "balance.column \"grid\": the grid has no vertical extent".into(),
+            )
+        }),
+    }
 }
 
 /// A 256-bit evaluation of the integrand next to the axis or centre the grid
@@ -269,6 +299,11 @@ fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), C
     let failures = existence::failures(&survey, s, rotation_law_name(model));
     if let Some(message) = failures.into_iter().next() {
         return Err(ClosureError::NoEquilibrium(message));
+    }
+    if bg.column().is_some() {
+        if let Some((_, message)) = column::meridional_failure(bg, domain) {
+            return Err(ClosureError::NoEquilibrium(message));
+        }
     }
     if let Some(x) = domain
         .scan_points_for(model)

@@ -8,6 +8,7 @@
 //! closure needs or derives (`laws`), the table (`tabulate`) or the
 //! existence checks (`mod.rs`).
 
+use super::column::Column;
 use super::tabulate::Table;
 use super::{ClosureError, Integrated, Laws};
 use crate::background::{Background, Frame, Shape, State, StateBlock, Want, Workspace};
@@ -29,6 +30,11 @@ struct Outputs {
     p: Option<usize>,
     c2: Option<usize>,
     v: Option<usize>,
+    /// Column closures: ln P_mid (without the normalisation), its
+    /// R-derivative, ∂Φ/∂R.
+    base: Option<usize>,
+    base_r: Option<usize>,
+    phi_r: Option<usize>,
 }
 
 /// A solved background: compiled laws and, for integrated closures, the
@@ -46,6 +52,8 @@ pub struct Solved {
     /// The axis or centre the grid contains, with the limit of Φ there, for
     /// a potential that is 0/0 at the point itself.
     axis_potential: Option<(f64, f64)>,
+    /// A stratified disk integrated up its columns.
+    column: Option<Column>,
 }
 
 /// Buffers of [`Workspace::buffers`]: one per law output, then the integral,
@@ -63,6 +71,7 @@ impl Solved {
         laws: &Laws,
         integral: Option<(Integrated, Table, f64)>,
         axis_potential: Option<(f64, f64)>,
+        column: Option<Column>,
     ) -> Result<Solved, ClosureError> {
         let vars = model.shape.variables();
         let s = vars[0];
@@ -91,6 +100,11 @@ impl Solved {
         if model.shape.is_disk() {
             out.v = push("v", &v);
         }
+        if let Some(cl) = &laws.column {
+            out.base = push("base", &Some(cl.base.clone()));
+            out.base_r = push("base_r", &Some(cl.base_r.clone()));
+            out.phi_r = push("phi_r", &Some(cl.phi_r.clone()));
+        }
         let refs: Vec<(&str, &Expr)> = list.iter().map(|(n, e)| (*n, e)).collect();
         let lookup = |n: &str| model.lookup(n);
         let kernel = Kernel::compile(&refs, vars, &lookup).map_err(fail("laws"))?;
@@ -111,12 +125,32 @@ impl Solved {
             rotation_sq,
             integral,
             axis_potential,
+            column,
         })
+    }
+
+    /// The column integrals, for a stratified disk integrated up its
+    /// columns.
+    pub fn column(&self) -> Option<&Column> {
+        self.column.as_ref()
+    }
+
+    /// ρ, P, v_φ and −(1/ρ) ∂P/∂R of a column closure at (r, z) from the
+    /// law outputs c², base, base_r, ∂Φ/∂R: the one combination both paths
+    /// use.
+    fn column_state(col: &Column, r: f64, [l, l_r]: [f64; 2], o: [f64; 4]) -> [f64; 4] {
+        let [c2, base, base_r, phi_r] = o;
+        let [ln_i, ratio] = col.norm_at(r);
+        let ln_p = base - ln_i - l;
+        let p = ln_p.exp();
+        let a = -(c2 * (base_r - ratio - l_r));
+        let v2 = r * (phi_r - a);
+        [p / c2, p, v2.sqrt(), a]
     }
 
     /// Φ at `s` as the law gives it, without the limit taken at the axis.
     pub(super) fn raw_potential(&self, s: f64) -> f64 {
-        let mut o = [0.0; 5];
+        let mut o = [0.0; 8];
         SCALAR.with(|w| {
             self.laws
                 .eval(&[s, 0.0][..self.vars], &mut o, &mut w.borrow_mut().0)
@@ -171,9 +205,9 @@ impl Solved {
     }
 
     fn velocity(&self, v: f64) -> [f64; 3] {
-        match self.out.v {
-            Some(_) => [0.0, v, 0.0],
-            None => [0.0; 3],
+        match (self.out.v, &self.column) {
+            (Some(_), _) | (None, Some(_)) => [0.0, v, 0.0],
+            (None, None) => [0.0; 3],
         }
     }
 }
@@ -254,7 +288,7 @@ impl Background for Solved {
     fn at(&self, x: &[f64]) -> State {
         let s = x[0];
         let xs = &x[..self.vars];
-        let mut o = [0.0; 5];
+        let mut o = [0.0; 8];
         let mut a = [0.0; 2];
         // The registers of this thread's scalar evaluations, reused.
         let i = SCALAR.with(|w| {
@@ -267,14 +301,25 @@ impl Background for Solved {
             }
         });
         let get = |k: Option<usize>| k.map_or(f64::NAN, |k| o[k]);
-        let (density, pressure) = self.combine(&get, i);
+        let (density, pressure, v, pa) = match &self.column {
+            Some(col) => {
+                let outs = [self.out.c2, self.out.base, self.out.base_r, self.out.phi_r];
+                let l = col.at(s, x[1]);
+                let [rho, p, v, pa] = Self::column_state(col, s, l, outs.map(get));
+                (rho, p, v, pa)
+            }
+            None => {
+                let (rho, p) = self.combine(&get, i);
+                (rho, p, get(self.out.v), a[1])
+            }
+        };
         State {
             density,
             pressure,
             potential: self.potential(s, o[self.out.phi]),
-            velocity: self.velocity(get(self.out.v)),
+            velocity: self.velocity(v),
             gravity: [a[0], 0.0, 0.0],
-            pressure_accel: [a[1], 0.0, 0.0],
+            pressure_accel: [pa, 0.0, 0.0],
         }
     }
 
@@ -376,6 +421,28 @@ impl Background for Solved {
             for c in 1..3 {
                 out.gravity[c][..n].fill(0.0);
                 out.pressure_accel[c][..n].fill(0.0);
+            }
+        }
+        if let Some(col) = &self.column {
+            let b = &ws.buffers;
+            let z = coords[1];
+            let cols = [self.out.c2, self.out.base, self.out.base_r, self.out.phi_r];
+            if let [Some(c2), Some(base), Some(base_r), Some(phi_r)] =
+                cols.map(|k| k.map(|k| &b[k][..n]))
+            {
+                let items: Vec<(f64, f64, f64)> = (0..n).map(|i| (s[i], 0.0, z[i])).collect();
+                let mut ls = vec![[0.0; 2]; n];
+                col.integrate_many(&items, &mut ls);
+                for i in 0..n {
+                    let o = [c2[i], base[i], base_r[i], phi_r[i]];
+                    let [r, p, v, a] = Self::column_state(col, s[i], ls[i], o);
+                    out.density[i] = r;
+                    out.pressure[i] = p;
+                    out.velocity[1][i] = v;
+                    if want.accelerations {
+                        out.pressure_accel[0][i] = a;
+                    }
+                }
             }
         }
         out.len = n;

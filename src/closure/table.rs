@@ -109,8 +109,12 @@ pub enum Serves {
     Disk,
     /// Slabs and spheres: hydrostatic along their coordinate.
     Hydrostatic,
-    /// Disks with their vertical structure (laws in R and z).
+    /// Disks with their vertical structure (laws in R and z), vertically
+    /// isothermal in closed form.
     Stratified,
+    /// Disks with their vertical structure integrated up each column
+    /// (`balance.vertical` "quadrature", or a surface density given).
+    Column,
     /// Every balance (the audit).
     Any,
 }
@@ -121,6 +125,7 @@ impl Serves {
             Serves::Disk => shape == Shape::DiskMidplane,
             Serves::Hydrostatic => !shape.is_disk(),
             Serves::Stratified => shape == Shape::StratifiedDisk,
+            Serves::Column => false,
             Serves::Any => true,
         }
     }
@@ -251,6 +256,15 @@ pub static CLOSURES: &[Closure] = &[
         build: super::vertical::isothermal,
     },
     Closure {
+        serves: Serves::Column,
+        unknown: Unknown::Rotation,
+        gas: Gas::Free,
+        requires: &[LawKey::SoundSpeed],
+        refuses: &[LawKey::Rotation],
+        integrates: None,
+        build: super::column::layered,
+    },
+    Closure {
         serves: Serves::Any,
         unknown: Unknown::Nothing,
         gas: Gas::Any,
@@ -298,8 +312,27 @@ pub fn closure_for(
         })
 }
 
-/// The entry of a model.
+/// The entry of a model. A stratified disk solved for rotation with
+/// `balance.vertical` "quadrature" or a surface density integrates its
+/// columns.
 pub fn closure_of(m: &Model) -> Result<&'static Closure, ClosureError> {
+    let columns = m.vertical == crate::model::Vertical::Quadrature || m.surface_density.is_some();
+    if m.shape == Shape::StratifiedDisk
+        && m.unknown == Unknown::Rotation
+        && Gas::of(m) == Gas::Free
+        && columns
+    {
+        if let Some(c) = CLOSURES.iter().find(|c| c.serves == Serves::Column) {
+            return Ok(c);
+        }
+    }
+    if m.surface_density.is_some() {
+        return Err(ClosureError::Incomplete(
+            "balance.surface_density normalises a stratified disk solved for rotation \
+             (balance.shape \"stratified_disk\", balance.solve_for \"rotation\")"
+                .into(),
+        ));
+    }
     closure_for(m.shape, m.unknown, Gas::of(m))
 }
 

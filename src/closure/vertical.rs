@@ -52,8 +52,8 @@ pub(super) fn isothermal(
     no_height(
         &c2,
         "gas.sound_speed_sq (or gas.temperature)",
-        "a sound speed that varies with height needs the vertical quadrature \
-         closure, which is not available yet; give c^2(R)",
+        "a sound speed that varies with height has no closed-form vertical structure: \
+         set balance.vertical to \"quadrature\" to integrate each column, or give c^2(R)",
     )?;
     let (r, z) = ("R", "z");
     let phi = laws.potential.clone();

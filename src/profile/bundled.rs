@@ -53,6 +53,10 @@ pub const BUNDLED: &[(&str, &str)] = &[
         include_str!("../../profiles/thick-torus.json"),
     ),
     (
+        "warm-layer-disk",
+        include_str!("../../profiles/warm-layer-disk.json"),
+    ),
+    (
         "polytropic-envelope",
         include_str!("../../profiles/polytropic-envelope.json"),
     ),

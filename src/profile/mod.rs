@@ -22,7 +22,7 @@ use crate::background::Shape;
 use crate::formula::{parse_with_names, resolve_parameters, Expr};
 use crate::grid::Grid;
 use crate::keys::Keyed;
-use crate::model::{Anchor, Law, Model, Unknown};
+use crate::model::{Anchor, ColumnExtent, Law, Model, Unknown, Vertical};
 use crate::output::Precision;
 use crate::sample::SamplingRule;
 use crate::units::UnitSystem;
@@ -269,6 +269,9 @@ pub fn from_text(
         "intended_jumps",
         "axis",
         "torus",
+        "vertical",
+        "surface_density",
+        "column",
     ])?;
     let shape = balance.require("shape")?.node().choice(Shape::KEYS)?;
     let unknown = balance.require("solve_for")?.node().choice(Unknown::KEYS)?;
@@ -286,6 +289,38 @@ pub fn from_text(
     let density = law("density")?;
     let rotation = law("rotation")?;
     let pressure = law("pressure")?;
+    let surface_density = law("surface_density")?;
+    let vertical = match balance.child("vertical") {
+        None => Vertical::ClosedForm,
+        Some(n) => {
+            let v = n.node().choice(Vertical::KEYS)?;
+            if shape != Shape::StratifiedDisk {
+                return Err(n.node().error(
+                    "only a stratified disk (balance.shape \"stratified_disk\") has a vertical structure to solve",
+                ));
+            }
+            v
+        }
+    };
+    let column = match balance.child("column") {
+        None => None,
+        Some(n) => {
+            let c = n.node().choice(ColumnExtent::KEYS)?;
+            if surface_density.is_none() {
+                return Err(n.node().error(
+                    "balance.column says how far the column integral of balance.surface_density runs; give the surface density too",
+                ));
+            }
+            Some(c)
+        }
+    };
+    if let (Some(s), true) = (&surface_density, shape != Shape::StratifiedDisk) {
+        return Err(ProfileError::at(
+            label,
+            &s.origin,
+            "a surface density normalises a stratified disk's columns (balance.shape \"stratified_disk\"); a vertically integrated disk gives Σ as balance.density".to_string(),
+        ));
+    }
     let anchor = match balance.child("anchor") {
         None => None,
         Some(a) => {
@@ -474,6 +509,9 @@ pub fn from_text(
         shape,
         unknown,
         density,
+        surface_density,
+        column,
+        vertical,
         sound_speed_sq,
         barotrope,
         torus,
