@@ -120,4 +120,28 @@ CASES = [
         ],
         targets=[Within("stillpoint-2t", of="write-only", factor=1.3)],
     ),
+    # Issue 11, benchmark C: B′ with a temperature that rises through a warm
+    # surface layer (c² doubling above three scale heights), so that the
+    # density comes from a vertical quadrature in every column (accurate to
+    # 1e-10 relative: tests/column.rs against mpmath).
+    Case(
+        name="disk-sphere-3d-warm",
+        about="B′ with a warm surface layer: vertical quadrature per column, spherical 192 × 96 × 192",
+        profile=Variant(
+            "profiles/softened-disk-box.json",
+            {
+                "grid": {
+                    "r": {"from": 0.3, "to": 2.4, "cells": 192},
+                    "theta": {"from": "pi/2 - 0.3", "to": "pi/2 + 0.3", "cells": 96},
+                    "phi": {"cells": 192},
+                },
+                "sampling.points": 3,
+                "gas.sound_speed_sq": "cs2_0*((R^2 + eps^2)/R0^2)^(-q/2)"
+                "*(1 + 0.5*(1 + tanh((abs(z)/(h0*R) - 3)/0.3)))",
+            },
+            additions={"output.fields": list(SPHERE_FIELDS), "balance.vertical": "quadrature"},
+        ),
+        competitors=[],
+        targets=[Within("stillpoint-2t", of="disk-sphere-3d:stillpoint-2t", factor=1.5)],
+    ),
 ]
