@@ -7,13 +7,16 @@ grid's cell shape in memory (filled before the clock matters little: a
 constant fill is one pass over memory) and writes them with h5py as float64
 datasets under /background, with /state soft links and the /grid axes and
 node positions the same shapes as stillpoint writes, so that both files hold
-the same bytes of datasets. Nothing is computed: the time is the writing.
+the same bytes of datasets, then flushes the file to the disk (os.fsync),
+as stillpoint does before it renames a finished file into place. Nothing is
+computed: the time is the writing.
 
 Usage: python3 benches/write_only.py PROFILE -o OUT.h5 --fields N
 """
 
 import argparse
 import json
+import os
 
 import h5py
 import numpy as np
@@ -45,6 +48,11 @@ def main():
         for k in range(args.fields):
             background[f"field_{k}"] = np.full(shape, 1.0 + k)
             state[f"field_{k}"] = h5py.SoftLink(f"/background/field_{k}")
+    fd = os.open(args.output, os.O_RDONLY)
+    try:
+        os.fsync(fd)
+    finally:
+        os.close(fd)
 
 
 if __name__ == "__main__":
