@@ -103,7 +103,8 @@ pub fn check_points(a: f64, b: f64, n: usize) -> Vec<f64> {
 
 /// Fit `f` on [a, b] to relative error `target` as `error(fitted, exact)`
 /// measures it: more points first, then halves. `Err` with the worst piece
-/// when [`MAX_PIECES`] are not enough.
+/// when [`MAX_PIECES`] are not enough or a piece would be shorter than 1e-9
+/// of the interval.
 pub fn fit_to(
     f: &dyn Fn(f64) -> f64,
     error: &dyn Fn(f64, f64) -> f64,
@@ -112,6 +113,7 @@ pub fn fit_to(
     target: f64,
     pieces: &mut Vec<Piece>,
 ) -> Result<(), (f64, f64, f64)> {
+    let span = b - a;
     let mut stack = vec![(a, b)];
     while let Some((a, b)) = stack.pop() {
         let mut best: Option<(f64, Piece)> = None;
@@ -132,9 +134,7 @@ pub fn fit_to(
         let (e, p) = best.expect("a degree was tried");
         if e <= target {
             pieces.push(p);
-        } else if pieces.len() + stack.len() >= MAX_PIECES
-            || (b - a) <= 1e-12 * a.abs().max(b.abs())
-        {
+        } else if pieces.len() + stack.len() >= MAX_PIECES || (b - a) <= 1e-9 * span {
             return Err((a, b, e));
         } else {
             let m = 0.5 * (a + b);

@@ -408,8 +408,10 @@ fn interpolate(
                         loaded.source,
                         EmitError::Bound(format!(
                             "{quantity} cannot be interpolated to a relative error of {target:e} \
-                             on [{a}, {b}] (best {e:.2e}) within {} pieces; ask for a looser \
-                             bound with --tolerance",
+                             on [{}, {}] (best {e:.2e}) with at most {} pieces none shorter \
+                             than 1e-9 of the range; ask for a looser bound with --tolerance",
+                            closure_show(a),
+                            closure_show(b),
                             chebyshev::MAX_PIECES
                         ))
                     ))
@@ -456,6 +458,10 @@ fn interpolate(
              random check points; ask for a looser bound with --tolerance"
         ))
     )))
+}
+
+fn closure_show(x: f64) -> String {
+    format!("{x:.6e}")
 }
 
 /// The comment block: provenance, parameters, formulas, validity.
