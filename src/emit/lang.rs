@@ -39,9 +39,31 @@ pub fn write(e: &Emission, lang: Lang) -> Result<String, String> {
             }
         }
     }
+    // Shared subexpressions computed once, as temporaries.
+    let fields: Vec<Expr> = scalars(e)
+        .iter()
+        .map(|(_, x)| (*x).clone())
+        .chain(vectors(e).iter().flat_map(|(_, v)| v.iter().cloned()))
+        .collect();
+    let (temps, shared) = crate::formula::code::share(&fields, "@tmp_");
+    let mut e = e.clone();
+    {
+        let mut it = shared.into_iter();
+        for x in [&mut e.density, &mut e.pressure, &mut e.potential] {
+            *x = it.next().expect("one per field");
+        }
+        for v in [&mut e.velocity, &mut e.gravity, &mut e.pressure_accel] {
+            for x in v.iter_mut() {
+                *x = it.next().expect("one per field");
+            }
+        }
+    }
+    let e = &e;
     let coords = e.coords.clone();
     let name = move |n: &str| -> String {
-        if n == "pi" {
+        if let Some(t) = n.strip_prefix('@').filter(|t| t.starts_with("tmp_")) {
+            t.to_string()
+        } else if n == "pi" {
             d.number(std::f64::consts::PI)
         } else if n == INTEGRAL {
             "integral".into()
@@ -52,10 +74,14 @@ pub fn write(e: &Emission, lang: Lang) -> Result<String, String> {
         }
     };
     let code = |x: &Expr| d.code(x, &name);
+    let temps: Vec<(String, String)> = temps
+        .iter()
+        .map(|(n, x)| (n.trim_start_matches('@').to_string(), code(x)))
+        .collect();
     Ok(match lang {
-        Lang::C => c(e, d, &code),
-        Lang::Fortran => fortran(e, d, &code),
-        Lang::Python => python(e, d, &code),
+        Lang::C => c(e, d, &code, &temps),
+        Lang::Fortran => fortran(e, d, &code, &temps),
+        Lang::Python => python(e, d, &code, &temps),
     })
 }
 
@@ -76,7 +102,10 @@ fn vectors(e: &Emission) -> [(&'static str, &[Expr; 3]); 3] {
     ]
 }
 
-fn c(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String) -> String {
+/// Temporaries: name and code.
+type Temps = [(String, String)];
+
+fn c(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String, temps: &Temps) -> String {
     let id = &e.ident;
     let mut s = String::from("/*\n");
     for l in &e.comment {
@@ -172,8 +201,8 @@ fn c(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String) -> String {
             e.coords[0]
         );
     }
-    if e.coords.len() == 1 && !uses(e, e.coords[0]) {
-        let _ = writeln!(s, "    (void){};", e.coords[0]);
+    for (n, x) in temps {
+        let _ = writeln!(s, "    const double {n} = {x};");
     }
     for (n, x) in scalars(e) {
         let _ = writeln!(s, "    out->{n} = {};", code(x));
@@ -185,16 +214,6 @@ fn c(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String) -> String {
     }
     s += "}\n";
     s
-}
-
-/// Whether any formula uses the name.
-fn uses(e: &Emission, n: &str) -> bool {
-    scalars(e)
-        .iter()
-        .map(|(_, x)| *x)
-        .chain(vectors(e).iter().flat_map(|(_, v)| v.iter()))
-        .any(|x| x.names().contains(n))
-        || e.integral.is_some()
 }
 
 /// A Fortran statement cut into lines of at most 100 characters, each
@@ -215,7 +234,7 @@ fn fortran_lines(indent: &str, stmt: &str) -> String {
     out
 }
 
-fn fortran(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String) -> String {
+fn fortran(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String, temps: &Temps) -> String {
     let id = &e.ident;
     let mut s = String::new();
     for l in &e.comment {
@@ -297,7 +316,15 @@ fn fortran(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String) -> String 
     s += "    real(real64), intent(out) :: velocity(3), gravity(3), pressure_accel(3)\n";
     if e.integral.is_some() {
         s += "    real(real64) :: integral\n";
+    }
+    for (n, _) in temps {
+        let _ = writeln!(s, "    real(real64) :: {n}");
+    }
+    if e.integral.is_some() {
         let _ = writeln!(s, "    integral = integral_at({})", e.coords[0]);
+    }
+    for (n, x) in temps {
+        s += &fortran_lines("    ", &format!("{n} = {x}"));
     }
     for (n, x) in scalars(e) {
         s += &fortran_lines("    ", &format!("{n} = {}", code(x)));
@@ -311,7 +338,7 @@ fn fortran(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String) -> String 
     s
 }
 
-fn python(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String) -> String {
+fn python(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String, temps: &Temps) -> String {
     let id = &e.ident;
     let mut s = String::from("\"\"\"\n");
     for l in &e.comment {
@@ -379,6 +406,9 @@ fn python(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String) -> String {
     s += "    with np.errstate(all=\"ignore\"):\n";
     if e.integral.is_some() {
         let _ = writeln!(s, "        integral = _integral({})", e.coords[0]);
+    }
+    for (n, x) in temps {
+        let _ = writeln!(s, "        {n} = {x}");
     }
     for (n, x) in scalars(e) {
         let _ = writeln!(s, "        {n} = zero + ({})", code(x));

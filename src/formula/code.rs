@@ -344,6 +344,85 @@ impl Walker<'_> {
     }
 }
 
+/// Subexpressions that occur more than once in `outputs` (and are more
+/// than a name, a number or a short product), pulled out as temporaries:
+/// the temporaries in the order they must be computed (each may use the
+/// ones before), named `prefix` and a number, and the outputs using them.
+/// Values are unchanged: a shared subexpression is the same computation.
+pub fn share(outputs: &[Expr], prefix: &str) -> (Vec<(String, Expr)>, Vec<Expr>) {
+    use std::collections::HashMap;
+    let key = |e: &Expr| format!("{e:?}");
+    let mut count: HashMap<String, usize> = HashMap::new();
+    for o in outputs {
+        o.walk(&mut |v| {
+            if let super::Visit::Expr(e) = v {
+                if !matches!(e, Expr::Num(_) | Expr::Name(_)) {
+                    *count.entry(key(e)).or_default() += 1;
+                }
+            }
+        });
+    }
+    struct State<'a> {
+        count: &'a HashMap<String, usize>,
+        names: HashMap<String, String>,
+        temps: Vec<(String, Expr)>,
+        prefix: &'a str,
+    }
+    fn rewrite(e: &Expr, st: &mut State<'_>) -> Expr {
+        let k = format!("{e:?}");
+        if let Some(n) = st.names.get(&k) {
+            return Expr::Name(n.clone());
+        }
+        let kids = |v: &[Expr], st: &mut State<'_>| -> Vec<Expr> {
+            v.iter().map(|x| rewrite(x, st)).collect()
+        };
+        let r = match e {
+            Expr::Num(_) | Expr::Name(_) => return e.clone(),
+            Expr::Add(v) => Expr::Add(kids(v, st)),
+            Expr::Mul(v) => Expr::Mul(kids(v, st)),
+            Expr::Call(f, v) => Expr::Call(*f, kids(v, st)),
+            Expr::Pow(a, b) => Expr::Pow(Box::new(rewrite(a, st)), Box::new(rewrite(b, st))),
+            Expr::If(c, a, b) => {
+                let c = rewrite_cond(c, st);
+                Expr::If(
+                    Box::new(c),
+                    Box::new(rewrite(a, st)),
+                    Box::new(rewrite(b, st)),
+                )
+            }
+        };
+        // A short product or power (`R*R`, `x^2`) is cheaper written again.
+        let worth = super::simplify::size(e) > 3;
+        if worth && st.count.get(&k).copied().unwrap_or(0) > 1 {
+            let n = format!("{}{}", st.prefix, st.temps.len());
+            st.temps.push((n.clone(), r));
+            st.names.insert(k, n.clone());
+            return Expr::Name(n);
+        }
+        r
+    }
+    fn rewrite_cond(c: &Cond, st: &mut State<'_>) -> Cond {
+        match c {
+            Cond::Cmp(op, a, b) => Cond::Cmp(*op, rewrite(a, st), rewrite(b, st)),
+            Cond::And(a, b) => {
+                Cond::And(Box::new(rewrite_cond(a, st)), Box::new(rewrite_cond(b, st)))
+            }
+            Cond::Or(a, b) => {
+                Cond::Or(Box::new(rewrite_cond(a, st)), Box::new(rewrite_cond(b, st)))
+            }
+            Cond::Not(a) => Cond::Not(Box::new(rewrite_cond(a, st))),
+        }
+    }
+    let mut st = State {
+        count: &count,
+        names: HashMap::new(),
+        temps: Vec::new(),
+        prefix,
+    };
+    let out = outputs.iter().map(|o| rewrite(o, &mut st)).collect();
+    (st.temps, out)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -369,6 +448,38 @@ mod tests {
             show(&NUMPY, src),
             "np.where(((R < 2.0) & (~((R == 1.0)))), rho0/((R/R0)**1.5), (-(x**2))/(3.0*y))"
         );
+    }
+
+    #[test]
+    fn shared_subexpressions_become_temporaries_in_dependency_order() {
+        let a = parse("exp(-x^2/s) + sqrt(exp(-x^2/s) + 1)").unwrap();
+        let b = parse("3*exp(-x^2/s)").unwrap();
+        let (temps, outs) = share(&[a.clone(), b.clone()], "@t");
+        // exp(...) is computed once, in the last temporary.
+        let exps = |e: &Expr| {
+            let mut n = 0;
+            e.walk(&mut |v| {
+                n += usize::from(matches!(
+                    v,
+                    crate::formula::Visit::Expr(Expr::Call(Func::Exp, _))
+                ))
+            });
+            n
+        };
+        let total: usize = temps
+            .iter()
+            .map(|t| exps(&t.1))
+            .chain(outs.iter().map(exps))
+            .sum();
+        assert_eq!(total, 1, "{temps:?} {outs:?}");
+        // The outputs with the temporaries put back (last first) are the
+        // originals (substitution simplifies, so compare simplified).
+        let mut back = outs.clone();
+        for (n, t) in temps.iter().rev() {
+            let one = [(n.clone(), t.clone())].into_iter().collect();
+            back = back.iter().map(|o| o.substitute(&one)).collect();
+        }
+        assert_eq!(back, vec![a.simplify(), b.simplify()]);
     }
 
     #[test]
