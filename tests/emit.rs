@@ -476,3 +476,57 @@ fn what_cannot_be_emitted_is_refused_and_nothing_is_overwritten() {
         .unwrap()
         .contains("perturbations are not part of the background"));
 }
+
+#[test]
+fn the_readme_example_of_a_solver_calling_the_emitted_c_compiles_and_balances() {
+    // The README's snippet, inside a function that declares its arrays;
+    // the background's radial balance v_phi^2/R = -(g_R + a_R) (design.md
+    // §2, the disk row) is what the snippet relies on.
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let readme = std::fs::read_to_string(root.join("README.md")).unwrap();
+    let from = readme
+        .find("    $ stillpoint emit ring-disk --lang c -o ring_disk.h")
+        .expect("README has the emit example");
+    let block: Vec<&str> = readme[from..]
+        .lines()
+        .skip(1)
+        .skip_while(|l| l.trim().is_empty())
+        .take_while(|l| l.starts_with("    ") || l.trim().is_empty())
+        .collect();
+    let body: String = block
+        .iter()
+        .filter(|l| !l.contains("#include"))
+        .map(|l| format!("{l}\n"))
+        .collect();
+    let dir = tempfile::tempdir().unwrap();
+    let d = dir.path();
+    emit(d, "ring-disk", "c", "ring_disk.h");
+    let program = format!(
+        "#include <stdio.h>\n#include \"ring_disk.h\"\nint main(void) {{\n    \
+         double R[1] = {{1.3}}, rho[1], p[1], vphi[1], g_R[1] = {{0.0}}, ap_R[1] = {{0.0}}, \
+         dev_R[1];\n    int i = 0;\n{body}    \
+         printf(\"%.17g %.17g %.17g %.17g\\n\", rho[0], p[0], vphi[0], dev_R[0]);\n    \
+         return 0;\n}}\n"
+    );
+    std::fs::write(d.join("solver.c"), program).unwrap();
+    run(Command::new("gcc").current_dir(d).args([
+        "-std=c99",
+        "-Wall",
+        "-Werror",
+        "-pedantic",
+        "solver.c",
+        "-o",
+        "solver",
+        "-lm",
+    ]));
+    let out = run(&mut Command::new(d.join("solver")));
+    let v: Vec<f64> = out.split_whitespace().map(|t| t.parse().unwrap()).collect();
+    let (loaded, r) = (profile::load("ring-disk", &[]).unwrap(), 1.3);
+    let (bg, _) = pipeline::solve(&loaded).unwrap();
+    let st = bg.at(&[r, 0.0]);
+    assert!(((v[0] - st.density) / st.density).abs() < CLOSED);
+    assert!(((v[2] - st.rotation()) / st.rotation()).abs() < CLOSED);
+    // dev_R = -(g + a_P) = v_phi^2/R for a scheme whose own forces are zero.
+    let centripetal = v[2] * v[2] / r;
+    assert!((v[3] - centripetal).abs() < 1e-13 * centripetal, "{v:?}");
+}
