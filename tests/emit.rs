@@ -20,8 +20,10 @@ use stillpoint::pipeline;
 use stillpoint::profile;
 
 /// Bundled profiles: closed forms and integrated ones (ln P of a slab, P of
-/// a disk), piecewise laws, stratified disks, a sphere.
-const CASES: [(&str, bool); 8] = [
+/// a disk), piecewise laws, stratified disks, a sphere; and a disk solved
+/// for its density (ln rho integrated), a profile of the tests.
+const CASES: [(&str, bool); 9] = [
+    ("tests/data/emit-disk-density.json", true),
     ("flared-disk-spherical", false),
     ("quiet-slab", true),
     ("layered-atmosphere", true),
@@ -38,8 +40,15 @@ const CLOSED: f64 = 1e-13;
 
 /// Random points inside the profile's domain (a fixed linear congruential
 /// stream: Knuth's MMIX constants).
-fn points(name: &str, n: usize) -> (Vec<Vec<f64>>, stillpoint::closure::Solved) {
-    let loaded = profile::load(name, &[]).unwrap();
+fn points(name: &str, n: usize) -> (Vec<Vec<f64>>, stillpoint::closure::Solved, String) {
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let path = root.join(name);
+    let arg = if path.is_file() {
+        path.to_str().unwrap()
+    } else {
+        name
+    };
+    let loaded = profile::load(arg, &[]).unwrap();
     let (bg, domain) = pipeline::solve(&loaded).unwrap();
     let mut state = 0x2545_f491_4f6c_dd1d_u64 ^ name.len() as u64;
     let mut uniform = || {
@@ -57,7 +66,7 @@ fn points(name: &str, n: usize) -> (Vec<Vec<f64>>, stillpoint::closure::Solved) 
             [s, z][..dims].to_vec()
         })
         .collect();
-    (pts, bg)
+    (pts, bg, loaded.model.name.clone())
 }
 
 fn row(st: &State) -> [f64; 12] {
@@ -303,15 +312,22 @@ fn emitted_c_fortran_and_python_agree_with_the_background() {
     let dir = tempfile::tempdir().unwrap();
     let d = dir.path();
     let helper = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/emit_check.py");
-    for (name, integrated) in CASES {
-        let (pts, bg) = points(name, 200);
+    for (case, integrated) in CASES {
+        let (pts, bg, name) = points(case, 200);
+        let name = name.as_str();
+        let path = Path::new(env!("CARGO_MANIFEST_DIR")).join(case);
+        let source = if path.is_file() {
+            path.to_str().unwrap()
+        } else {
+            case
+        };
         let dims = pts[0].len();
         let stdin = input(&pts, true);
         std::fs::write(d.join("points.txt"), input(&pts, false)).unwrap();
         let pts_file: Vec<Vec<f64>> = pts.clone();
 
         // C, strict C99.
-        let (_, bound) = emit(d, name, "c", &format!("{name}.h"));
+        let (_, bound) = emit(d, source, "c", &format!("{name}.h"));
         std::fs::write(d.join(format!("{name}-main.c")), c_driver(name, dims)).unwrap();
         let exe = d.join(format!("{name}-c"));
         run(Command::new("gcc")
@@ -332,7 +348,7 @@ fn emitted_c_fortran_and_python_agree_with_the_background() {
         );
 
         // Fortran.
-        let (_, fbound) = emit(d, name, "fortran", &format!("{name}.f90"));
+        let (_, fbound) = emit(d, source, "fortran", &format!("{name}.f90"));
         std::fs::write(
             d.join(format!("{name}-main.f90")),
             fortran_driver(name, dims),
@@ -357,7 +373,7 @@ fn emitted_c_fortran_and_python_agree_with_the_background() {
         );
 
         // Python with NumPy, every point in one call.
-        let (_, pbound) = emit(d, name, "python", &format!("{name}.py"));
+        let (_, pbound) = emit(d, source, "python", &format!("{name}.py"));
         let out = run(Command::new("python3")
             .current_dir(d)
             .arg(&helper)

@@ -368,8 +368,9 @@ fn own_field(kind: Integrated, st: &crate::background::State) -> f64 {
 
 /// Fit the integrated quantity between the switch points (and the anchor)
 /// and verify it: at every piece's check points and at [`RANDOM_POINTS`]
-/// random points, against the solved background. A bound that the random
-/// points break is tightened (twice) before the interpolant is refused.
+/// random points, against the solved background. The fit aims at a
+/// hundredth of the bound first; a bound that the random points break is
+/// tightened (twice) before the interpolant is refused.
 fn interpolate(
     loaded: &Loaded,
     bg: &closure::Solved,
@@ -397,26 +398,41 @@ fn interpolate(
     let random: Vec<f64> = (0..RANDOM_POINTS)
         .map(|i| lo + (hi - lo) * (stream.bits(i as u64, 0) >> 11) as f64 / (1u64 << 53) as f64)
         .collect();
-    let mut fit_target = target;
-    for _ in 0..3 {
+    // A margin first (a hundredth of the bound, where the background's own
+    // accuracy allows it), then the bound itself, then tighter when the
+    // random points break it.
+    let tries = [
+        (target * 0.01).max(target.min(1e-14)),
+        target,
+        target * 0.1,
+        target * 0.01,
+    ];
+    for (attempt, fit_target) in tries.into_iter().enumerate() {
         let mut pieces = Vec::new();
+        let mut margin_failed = false;
         for w in cuts.windows(2) {
-            chebyshev::fit_to(&f, &rel, w[0], w[1], fit_target, &mut pieces).map_err(
-                |(a, b, e)| {
-                    crate::pipeline::Error::Usage(format!(
-                        "{}: {}",
-                        loaded.source,
-                        EmitError::Bound(format!(
-                            "{quantity} cannot be interpolated to a relative error of {target:e} \
+            let fitted = chebyshev::fit_to(&f, &rel, w[0], w[1], fit_target, &mut pieces);
+            if attempt == 0 && fitted.is_err() {
+                margin_failed = true;
+                break;
+            }
+            fitted.map_err(|(a, b, e)| {
+                crate::pipeline::Error::Usage(format!(
+                    "{}: {}",
+                    loaded.source,
+                    EmitError::Bound(format!(
+                        "{quantity} cannot be interpolated to a relative error of {target:e} \
                              on [{}, {}] (best {e:.2e}) with at most {} pieces none shorter \
                              than 1e-9 of the range; ask for a looser bound with --tolerance",
-                            closure_show(a),
-                            closure_show(b),
-                            chebyshev::MAX_PIECES
-                        ))
+                        closure_show(a),
+                        closure_show(b),
+                        chebyshev::MAX_PIECES
                     ))
-                },
-            )?;
+                ))
+            })?;
+        }
+        if margin_failed {
+            continue;
         }
         let mut interp = Interpolant {
             quantity,
@@ -448,7 +464,6 @@ fn interpolate(
         if worst <= target {
             return Ok(interp);
         }
-        fit_target *= 0.1;
     }
     Err(crate::pipeline::Error::Usage(format!(
         "{}: {}",
