@@ -110,7 +110,7 @@ fn c(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String, temps: &Temps) -
     let mut s = String::from("/*\n");
     for l in &e.comment {
         // `*/` cannot occur in a formula, but be safe.
-        let _ = writeln!(s, " * {}", l.replace("*/", "* /"));
+        let _ = writeln!(s, "{}", format!(" * {}", l.replace("*/", "* /")).trim_end());
     }
     let _ = writeln!(
         s,
@@ -238,7 +238,7 @@ fn fortran(e: &Emission, d: &Dialect, code: &dyn Fn(&Expr) -> String, temps: &Te
     let id = &e.ident;
     let mut s = String::new();
     for l in &e.comment {
-        let _ = writeln!(s, "! {l}");
+        let _ = writeln!(s, "{}", format!("! {l}").trim_end());
     }
     s += "!\n! Fortran 2008: `use` the module and call the subroutine; inputs and outputs\n\
           ! are real(real64); vectors hold the three components in the basis above.\n";

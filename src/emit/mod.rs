@@ -502,6 +502,13 @@ fn comment(loaded: &Loaded, e: &Emission, domain: &closure::Domain) -> Vec<Strin
                 format!("e_{}, e_{}, e_{}", e.basis[0], e.basis[1], e.basis[2])
             }
         ),
+        if m.vertically_integrated {
+            "Vertically integrated disk: density is the surface density Sigma and pressure \
+             the integral of P over z."
+                .into()
+        } else {
+            String::new()
+        },
         String::new(),
         "Parameters (after overrides), as given and as baked in:".into(),
     ];
@@ -585,5 +592,6 @@ fn comment(loaded: &Loaded, e: &Emission, domain: &closure::Domain) -> Vec<Strin
     if m.unknown == Unknown::Nothing {
         c.push("Caution: an audit (solve_for: nothing); this state need not be in balance.".into());
     }
+    c.dedup_by(|a, b| a.is_empty() && b.is_empty());
     c
 }
