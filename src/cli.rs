@@ -158,6 +158,33 @@ pub enum Command {
         #[arg(long)]
         latex: bool,
     },
+    /// Write the background as source code: a self-contained function (C99, Fortran or
+    /// Python with NumPy) that evaluates it at any point, parameters baked in.
+    #[command(
+        after_help = "Closed-form backgrounds are emitted as formulas; integrated ones carry a \
+                      piecewise Chebyshev interpolant of the integrated quantity whose largest \
+                      error is measured against stillpoint's own background before anything is \
+                      written. Perturbations are not part of the background and are left out; \
+                      a torus is refused.\n\n\
+                      Examples:\n  stillpoint emit profiles/powerlaw-disk.json --lang c -o disk.h\n  \
+                      stillpoint emit layered-atmosphere --lang python -o atmosphere.py"
+    )]
+    Emit {
+        #[command(flatten)]
+        common: Common,
+        /// The language.
+        #[arg(long, value_enum)]
+        lang: LangArg,
+        /// Output file (default: standard output, the summary then on standard error).
+        #[arg(short, long, value_name = "FILE")]
+        output: Option<PathBuf>,
+        /// Overwrite an existing output file.
+        #[arg(long)]
+        force: bool,
+        /// Largest relative error of an interpolated field (P or rho) accepted.
+        #[arg(long, value_name = "T", default_value = "1e-12", value_parser = positive_tolerance)]
+        tolerance: f64,
+    },
     /// List the bundled profiles, a line each; with a NAME, print that
     /// profile's JSON (save it, edit it, build it).
     #[command(
@@ -260,6 +287,17 @@ pub struct ArrayArgs {
     /// HDF5 file) or fortran (first axis fastest).
     #[arg(long, value_enum, default_value = "c", requires = "raw")]
     pub array_order: ArrayOrderArg,
+}
+
+/// `emit --lang`.
+#[derive(Clone, Copy, Debug, clap::ValueEnum)]
+pub enum LangArg {
+    /// C99 (also CUDA/HIP device code through STILLPOINT_FN).
+    C,
+    /// Fortran 2008.
+    Fortran,
+    /// Python 3 with NumPy (vectorised).
+    Python,
 }
 
 /// `--raw-dtype`.
@@ -515,6 +553,48 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
             for d in laws {
                 say!("  {} = {}", lhs(&d.name), show(&d.expr));
                 say!("      ({})", d.note);
+            }
+            Ok(Outcome::Ok)
+        }
+        Command::Emit {
+            common,
+            lang,
+            output,
+            force,
+            tolerance,
+        } => {
+            let loaded = common.load()?;
+            let lang = match lang {
+                LangArg::C => crate::emit::Lang::C,
+                LangArg::Fortran => crate::emit::Lang::Fortran,
+                LangArg::Python => crate::emit::Lang::Python,
+            };
+            if let Some(path) = &output {
+                if path.exists() && !force {
+                    return Err(Error::Usage(format!(
+                        "{}: the file exists; pass --force to overwrite it",
+                        path.display()
+                    )));
+                }
+            }
+            let emitted = crate::emit::emit(&loaded, lang, tolerance)?;
+            match &output {
+                Some(path) => {
+                    output::commit(path, force, |tmp| {
+                        std::fs::write(tmp, &emitted.code)
+                            .map_err(|e| Error::Usage(format!("{}: {e}", path.display())))
+                    })?;
+                    for l in &emitted.summary {
+                        say!("{l}");
+                    }
+                    say!("wrote {}", path.display());
+                }
+                None => {
+                    say_raw!("{}", emitted.code);
+                    for l in &emitted.summary {
+                        eprintln!("{l}");
+                    }
+                }
             }
             Ok(Outcome::Ok)
         }

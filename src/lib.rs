@@ -37,6 +37,7 @@ pub mod check;
 pub mod cli;
 pub mod closure;
 pub mod confirm;
+pub mod emit;
 pub mod estimate;
 pub mod fields;
 pub mod formula;

@@ -37,7 +37,7 @@ mod vertical;
 pub use domain::Domain;
 pub use laws::{derived_laws, DerivedLaw, Gradients, Laws, Parts};
 
-pub use solved::Solved;
+pub use solved::{accelerations, Solved};
 pub use table::{closure_for, closure_of, Closure, Gas, Integrated, LawKey, CLOSURES};
 
 use crate::background::Shape;

@@ -236,7 +236,7 @@ fn mul_or_nan(out: &mut [f64], a: &[f64], b: Option<&[f64]>) {
 /// integrated closure the integrand f is the derivative of the integrated
 /// quantity: ln ρ (P = ρc², so −∂P/∂s/ρ = −(c² f + ∂c²/∂s)), P (−f/ρ) or
 /// ln P (−c² f).
-fn accelerations(laws: &Laws, kind: Option<Integrated>, s: &str) -> [Expr; 2] {
+pub fn accelerations(laws: &Laws, kind: Option<Integrated>, s: &str) -> [Expr; 2] {
     let nan = || Expr::num(f64::NAN);
     let g = (-laws.potential.diff(s)).simplify();
     let a = match (kind, &laws.integrand) {

@@ -26,6 +26,7 @@ mod kernel;
 mod lanes;
 mod latex;
 pub use latex::latex_lhs;
+pub mod code;
 mod legacy;
 mod lexer;
 mod params;
