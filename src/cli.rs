@@ -395,6 +395,10 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 .map_err(|e| Error::closure(&loaded, e))?;
             say!("{} ({})", loaded.model.name, loaded.source);
             say!("{report}");
+            match crate::criteria::section(&loaded.model, &bg, &domain, Some(&loaded.grid)) {
+                Ok(sec) => say!("{sec}"),
+                Err(e) => say!("stability\n  not evaluated: {e}"),
+            }
             let mut more = Vec::new();
             if !loaded.perturbations.is_empty() {
                 let discrete = report.discrete.map(|d| d.0);
