@@ -43,9 +43,9 @@ pub struct Diagnostic {
     /// Its name in the report (`kappa^2`, `SH 1`, …).
     pub name: &'static str,
     /// Smallest value and where (the point's coordinates).
-    pub min: (f64, Vec<f64>),
+    pub min: Extreme,
     /// Largest value and where.
-    pub max: (f64, Vec<f64>),
+    pub max: Extreme,
     /// Where it fails, in words (None: nowhere, or it has no failure).
     pub fails: Option<String>,
     /// What it means, in one line.
@@ -141,12 +141,15 @@ impl fmt::Display for Section {
 /// terms.
 type Criterion<'a> = Box<dyn Fn(&[f64]) -> Valued + 'a>;
 
+/// A value and the point where it occurs.
+pub type Extreme = (f64, Vec<f64>);
+
 /// Minimum, maximum (NaN skipped) and the indices of the failing points.
 fn scan(
     pts: &[Vec<f64>],
     c: &dyn Fn(&[f64]) -> Valued,
     fails: bool,
-) -> ((f64, Vec<f64>), (f64, Vec<f64>), Vec<usize>) {
+) -> (Extreme, Extreme, Vec<usize>) {
     let mut lo = (f64::INFINITY, vec![f64::NAN; 2]);
     let mut hi = (f64::NEG_INFINITY, vec![f64::NAN; 2]);
     let mut bad = Vec::new();
@@ -260,7 +263,7 @@ fn line(model: &Model, bg: &dyn Background, domain: &Domain) -> Result<Section, 
                 (q - 1.0, q)
             };
             let (min, max, _) = scan(&pts, &q, true);
-            let shift = |(v, at): (f64, Vec<f64>)| (v + 1.0, at);
+            let shift = |(v, at): Extreme| (v + 1.0, at);
             let q1 = |x: f64| q(&[x]);
             sec.items.push(Diagnostic {
                 name: "Toomre Q",
