@@ -93,13 +93,23 @@ pub enum Command {
     },
     /// Check the balance with exact symbolic derivatives; exits non-zero when it fails.
     #[command(
-        after_help = "Stability diagnostics (from exact derivatives; an unstable background still \
-                      builds, with a caution):\n  \
-                      N^2       buoyancy frequency of slabs and spheres (Schwarzschild, with \
-                      gas.gamma): N^2 < 0 is convectively unstable\n  \
-                      kappa^2   Rayleigh's epicyclic frequency R^-3 d(R^4 Omega^2)/dR of disks \
-                      and tori: kappa^2 < 0 is unstable to axisymmetric perturbations; a torus \
-                      of constant specific angular momentum (kappa^2 = 0) is marginal\n\n\
+        after_help = "Stability diagnostics, section `stability` (from exact derivatives; each \
+                      with its minimum, maximum and where it fails; an unstable background still \
+                      builds, with a caution, and the exit status is that of the balance):\n  \
+                      kappa^2      Rayleigh's epicyclic frequency R^-3 d(R^4 Omega^2)/dR of disks \
+                      (stratified disks: over (R, z)) and tori: < 0 is unstable to axisymmetric \
+                      perturbations; a torus of constant specific angular momentum (kappa^2 = 0) \
+                      is marginal\n  \
+                      SH 1, SH 2   the Solberg-Hoiland criteria of stratified disks (with \
+                      j = R v_phi, S = ln(P rho^-gamma)); skipped for gamma = 1\n  \
+                      N^2          buoyancy frequency of slabs and spheres (Schwarzschild, with \
+                      gas.gamma): N^2 < 0 is convectively unstable; skipped for gamma = 1\n  \
+                      N_z^2        the vertical buoyancy frequency of stratified disks\n  \
+                      R dOmega/dz  the vertical shear of stratified disks, with the growth time \
+                      of the vertical-shear instability in local orbits (needs fast cooling)\n  \
+                      Toomre Q     c kappa/(pi G Sigma), c = sqrt(P/Sigma), for vertically \
+                      integrated disks: < 1 is gravitationally unstable if the simulation has \
+                      self-gravity\n\n\
                       A torus (balance.torus) also reports its edges, density maximum, both \
                       balance residuals inside and the floored cells where balance is given \
                       up.\n\n\
@@ -433,6 +443,10 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 .map_err(|e| Error::closure(&loaded, e))?;
             say!("{} ({})", loaded.model.name, loaded.source);
             say!("{report}");
+            match crate::criteria::section(&loaded.model, &bg, &domain, Some(&loaded.grid)) {
+                Ok(sec) => say!("{sec}"),
+                Err(e) => say!("stability\n  not evaluated: {e}"),
+            }
             let mut more = Vec::new();
             if !loaded.perturbations.is_empty() {
                 let discrete = report.discrete.map(|d| d.0);

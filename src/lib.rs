@@ -24,6 +24,8 @@
 //!   finding, a floor outside), a background of the (R, z) frame.
 //! * [`check`], [`table`] — the symbolic balance check and rotation tables.
 //! * [`stability`] — Schwarzschild and Rayleigh criteria from exact derivatives.
+//! * [`criteria`] — the stability section of `check` (κ², Solberg–Høiland,
+//!   N², vertical shear, Toomre Q), each with its extremes and failures.
 //! * [`profile`] — the JSON profile schema with exact error paths.
 //! * [`estimate`] — what a build will cost, and the refusal of one that
 //!   would not fit.
@@ -37,6 +39,7 @@ pub mod check;
 pub mod cli;
 pub mod closure;
 pub mod confirm;
+pub mod criteria;
 pub mod emit;
 pub mod estimate;
 pub mod fields;

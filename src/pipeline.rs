@@ -797,6 +797,11 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
     let m = &loaded.model;
     let s = m.coordinate();
     let mut out = crate::stability::cautions(m, bg, domain);
+    if m.shape == crate::background::Shape::StratifiedDisk || m.vertically_integrated {
+        if let Ok(sec) = crate::criteria::section(m, bg, domain, Some(&loaded.grid)) {
+            out.extend(sec.cautions());
+        }
+    }
     if let Some(crate::closure::axis::Approach::SingularGradient { .. }) =
         closure::axis_approach(m, domain)
     {

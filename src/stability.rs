@@ -41,11 +41,14 @@ pub const THRESHOLD: f64 = 1e-8;
 pub type Valued = (f64, f64);
 
 /// A criterion evaluated at one point: its value and the size of its terms.
-type Criterion<'a> = Box<dyn Fn(f64) -> Valued + 'a>;
+pub(crate) type Criterion<'a> = Box<dyn Fn(f64) -> Valued + 'a>;
 
 /// N² and the size of its terms |Φ_s| (|d ln P/ds|/γ + |d ln ρ/ds|) at a
 /// point of a slab or sphere (an error for a disk).
-fn buoyancy<'a>(model: &Model, bg: &'a dyn Background) -> Result<Criterion<'a>, ClosureError> {
+pub(crate) fn buoyancy<'a>(
+    model: &Model,
+    bg: &'a dyn Background,
+) -> Result<Criterion<'a>, ClosureError> {
     let laws = Laws::build(model)?;
     let Some(g) = &laws.gradients else {
         return Err(ClosureError::Incomplete(
@@ -83,7 +86,7 @@ pub fn buoyancy_sq(
 /// κ² and the size of its terms (2|v_φ²| + R|dv_φ²/dR|)/R² at a point of a
 /// disk, from the rotation law (given or derived); NaN where v_φ² < 0 (no
 /// rotation exists there).
-fn epicyclic(model: &Model) -> Result<Criterion<'static>, ClosureError> {
+pub(crate) fn epicyclic(model: &Model) -> Result<Criterion<'static>, ClosureError> {
     let laws = Laws::build(model)?;
     let Some(v2) = &laws.rotation_sq else {
         return Err(ClosureError::Incomplete(
@@ -115,7 +118,12 @@ pub fn epicyclic_sq(model: &Model, pts: &[f64]) -> Result<Vec<Valued>, ClosureEr
 /// on the sorted `pts` with the interval ends refined between them, in
 /// words: the first interval, how many more, and the minimum over all with
 /// where, the coordinate named `s` and the criterion `name`.
-fn negative(pts: &[f64], criterion: &dyn Fn(f64) -> Valued, s: &str, name: &str) -> Option<String> {
+pub(crate) fn negative(
+    pts: &[f64],
+    criterion: &dyn Fn(f64) -> Valued,
+    s: &str,
+    name: &str,
+) -> Option<String> {
     // Below the threshold the value itself, else never below zero: the
     // failing set of this function is the unstable one.
     let clipped = |x: f64| {
@@ -159,6 +167,11 @@ pub fn cautions(model: &Model, bg: &dyn Background, domain: &Domain) -> Vec<Stri
         .collect();
     let steps = jumps::steps(&switches, (domain.lo, domain.hi));
     let mut out = Vec::new();
+    // Stratified disks: their criteria over (R, z) are cautioned from the
+    // stability section (`crate::criteria`), as is Toomre's Q.
+    if model.shape == crate::background::Shape::StratifiedDisk {
+        return out;
+    }
     if model.shape.is_disk() {
         let Ok(k2) = epicyclic(model) else {
             return out;
