@@ -771,8 +771,9 @@ fn verdict_cautions(loaded: &Loaded, report: &crate::check::Report) -> Result<Ve
         }
         out.push(format!(
             "the given laws are not an equilibrium (balance.solve_for is nothing): the largest \
-             relative residual is {max:.3e} at {s} = {at:.6}; the state will move from the first \
-             step (run `stillpoint check` for details)"
+             relative residual is {max:.3e} at {s} = {}; the state will move from the first \
+             step (run `stillpoint check` for details)",
+            crate::check::position(at)
         ));
     }
     Ok(out)

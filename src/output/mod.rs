@@ -263,10 +263,7 @@ pub fn commit<E: AtPath + From<OutputError>>(
     if !dir.is_dir() {
         return Err(OutputError::Io {
             path: path.to_path_buf(),
-            message: format!(
-                "the folder {} does not exist (create it first)",
-                dir.display()
-            ),
+            message: missing_folder(dir),
         }
         .into());
     }
@@ -451,5 +448,20 @@ pub(crate) mod tests {
             .starts_with(".new.txt.partial-"));
         assert_eq!(fs::read_to_string(&path).unwrap(), "x");
         assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 1);
+    }
+}
+
+/// Why `dir` cannot take an output: it is a file, or it does not exist.
+pub fn missing_folder(dir: &Path) -> String {
+    if dir.exists() {
+        format!(
+            "{} is a file, not a folder; name the output inside a folder (or move the file away)",
+            dir.display()
+        )
+    } else {
+        format!(
+            "the folder {} does not exist (create it first)",
+            dir.display()
+        )
     }
 }
