@@ -465,3 +465,15 @@ pub fn missing_folder(dir: &Path) -> String {
         )
     }
 }
+
+/// The metadata pairs that are numbers (the adiabatic index `gamma`): written
+/// as number attributes, not as text, so that readers get a float.
+pub const NUMBER_ATTRIBUTES: [&str; 1] = ["gamma"];
+
+/// `value` as a number when `name` is one of [`NUMBER_ATTRIBUTES`].
+pub fn number_attribute(name: &str, value: &str) -> Option<f64> {
+    NUMBER_ATTRIBUTES
+        .contains(&name)
+        .then(|| value.parse::<f64>().ok())
+        .flatten()
+}
