@@ -798,7 +798,7 @@ pub fn plausibility(m: &crate::model::Model, bg: &dyn Background, domain: &Domai
             closure::show(domain.lo)
         ));
     }
-    if !m.shape.is_disk() || !(domain.lo.is_finite() && domain.hi > domain.lo) {
+    if !(m.shape.is_disk() && domain.lo.is_finite() && domain.hi > domain.lo) {
         return out;
     }
     let n = 64;

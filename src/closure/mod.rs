@@ -299,21 +299,6 @@ pub(crate) fn show(x: f64) -> String {
     }
 }
 
-#[cfg(test)]
-mod tests {
-    use super::show;
-
-    #[test]
-    fn coordinates_in_messages_have_six_significant_digits() {
-        assert_eq!(show(0.997_975_000_000_000_1), "0.997975");
-        assert_eq!(show(1.778_125_000_000_000_2), "1.77813");
-        assert_eq!(show(2.5), "2.5");
-        assert_eq!(show(0.0), "0");
-        assert_eq!(show(1.414_213_562_373_095e-9), "1.41421e-9");
-        assert_eq!(show(-6.0e7), "-6e7");
-    }
-}
-
 /// Why a survey fails, when a given law is the cause: the first law that
 /// must be positive (a density, pressure, temperature or c² as written in
 /// the profile) and is not, at the first failing point, with the parameters
@@ -424,4 +409,19 @@ fn blamed_parameters(model: &Model, expr: &crate::formula::Expr) -> Vec<String> 
         out
     }
     reach(expr.names(), &value, &text, 0)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::show;
+
+    #[test]
+    fn coordinates_in_messages_have_six_significant_digits() {
+        assert_eq!(show(0.997_975_000_000_000_1), "0.997975");
+        assert_eq!(show(1.778_125_000_000_000_2), "1.77813");
+        assert_eq!(show(2.5), "2.5");
+        assert_eq!(show(0.0), "0");
+        assert_eq!(show(1.414_213_562_373_095e-9), "1.41421e-9");
+        assert_eq!(show(-6.0e7), "-6e7");
+    }
 }

@@ -313,6 +313,33 @@ impl AtPath for OutputError {
     }
 }
 
+/// Why `dir` cannot take an output: it is a file, or it does not exist.
+pub fn missing_folder(dir: &Path) -> String {
+    if dir.exists() {
+        format!(
+            "{} is a file, not a folder; name the output inside a folder (or move the file away)",
+            dir.display()
+        )
+    } else {
+        format!(
+            "the folder {} does not exist (create it first)",
+            dir.display()
+        )
+    }
+}
+
+/// The metadata pairs that are numbers (the adiabatic index `gamma`): written
+/// as number attributes, not as text, so that readers get a float.
+pub const NUMBER_ATTRIBUTES: [&str; 1] = ["gamma"];
+
+/// `value` as a number when `name` is one of [`NUMBER_ATTRIBUTES`].
+pub fn number_attribute(name: &str, value: &str) -> Option<f64> {
+    NUMBER_ATTRIBUTES
+        .contains(&name)
+        .then(|| value.parse::<f64>().ok())
+        .flatten()
+}
+
 #[cfg(test)]
 pub(crate) mod tests {
     use super::*;
@@ -449,31 +476,4 @@ pub(crate) mod tests {
         assert_eq!(fs::read_to_string(&path).unwrap(), "x");
         assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 1);
     }
-}
-
-/// Why `dir` cannot take an output: it is a file, or it does not exist.
-pub fn missing_folder(dir: &Path) -> String {
-    if dir.exists() {
-        format!(
-            "{} is a file, not a folder; name the output inside a folder (or move the file away)",
-            dir.display()
-        )
-    } else {
-        format!(
-            "the folder {} does not exist (create it first)",
-            dir.display()
-        )
-    }
-}
-
-/// The metadata pairs that are numbers (the adiabatic index `gamma`): written
-/// as number attributes, not as text, so that readers get a float.
-pub const NUMBER_ATTRIBUTES: [&str; 1] = ["gamma"];
-
-/// `value` as a number when `name` is one of [`NUMBER_ATTRIBUTES`].
-pub fn number_attribute(name: &str, value: &str) -> Option<f64> {
-    NUMBER_ATTRIBUTES
-        .contains(&name)
-        .then(|| value.parse::<f64>().ok())
-        .flatten()
 }
