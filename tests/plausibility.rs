@@ -68,3 +68,22 @@ fn a_radial_axis_below_zero_is_named() {
         "{t}"
     );
 }
+
+#[test]
+fn the_root_attribute_gamma_is_a_number() {
+    // Readers get a float, not a text to parse (the bundled slab's 1.4).
+    let dir = tempfile::tempdir().unwrap();
+    let o = stillpoint(dir.path(), &["build", "quiet-slab", "--reproducible"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let f = hdf5::File::open(dir.path().join("quiet-slab.h5")).unwrap();
+    let gamma: f64 = f.attr("gamma").unwrap().read_scalar().unwrap();
+    assert_eq!(gamma, 1.4);
+    let meta: serde_json::Value = serde_json::from_str(
+        &std::fs::read_to_string(dir.path().join("quiet-slab.csv.json")).unwrap(),
+    )
+    .unwrap();
+    assert!(
+        meta["gamma"].is_number() || meta.get("gamma").is_none(),
+        "{meta}"
+    );
+}
