@@ -492,6 +492,12 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                     // Evenly spaced like the grid's radial or vertical axis:
                     // logarithmically when that axis is.
                     let n = points.unwrap_or(11) as usize;
+                    if n > MAX_TABLE_ROWS {
+                        return Err(Error::Usage(format!(
+                            "--points {n}: a table has at most {MAX_TABLE_ROWS} rows; for more \
+                             values build the profile on a 1D grid (`--csv`)"
+                        )));
+                    }
                     let log = loaded.grid.axes()[0].spacing == crate::grid::Spacing::Log
                         && domain.lo > 0.0;
                     (0..n)
@@ -668,14 +674,42 @@ fn positive_tolerance(text: &str) -> Result<f64, String> {
     }
 }
 
+/// Rows of one `table` (common practice, no source: far more than a
+/// screen, few enough to hold in memory on any machine).
+const MAX_TABLE_ROWS: usize = 1_000_000;
+
 fn parse_list(loaded: &Loaded, list: &str) -> Result<Vec<f64>, Error> {
     list.split(',')
         .map(|item| {
             let item = item.trim();
-            let e = profile::formula_for(&loaded.model, item)
-                .map_err(|e| Error::Usage(format!("--at: {}", e.render(item))))?;
-            e.eval(&|n| loaded.model.lookup(n))
-                .map_err(|e| Error::Usage(format!("--at: {e}")))
+            let e = profile::formula_for(&loaded.model, item).map_err(|e| {
+                let shown: String = e
+                    .render(item)
+                    .lines()
+                    .take(2)
+                    .map(|l| format!("\n    {l}"))
+                    .collect();
+                Error::Usage(format!(
+                    "--at: {e}; give numbers or formulas of the parameters, separated by commas{shown}"
+                ))
+            })?;
+            let x = e
+                .eval(&|n| loaded.model.lookup(n))
+                .map_err(|e| Error::Usage(format!("--at: {e}")))?;
+            let s = loaded.model.coordinate();
+            if !x.is_finite() {
+                return Err(Error::Usage(format!("--at: `{item}` is {x}, not a point")));
+            }
+            if x < 0.0 && (s == "R" || s == "r") {
+                return Err(Error::Usage(format!(
+                    "--at: {s} = {x} is not a point of this {}: {s} is a distance from the {} and \
+                     never negative; give {s} ≥ 0 (the table runs along the {})",
+                    if s == "R" { "disk" } else { "sphere" },
+                    if s == "R" { "axis" } else { "centre" },
+                    if s == "R" { "midplane, φ = 0" } else { "radius" }
+                )));
+            }
+            Ok(x)
         })
         .collect()
 }
@@ -765,9 +799,9 @@ fn build(
     if estimate {
         if !dir.is_dir() {
             return Err(Error::Usage(format!(
-                "{}: the folder {} does not exist (create it first)",
+                "{}: {}",
                 h5.display(),
-                dir.display()
+                crate::output::missing_folder(&dir)
             )));
         }
         return print_estimate(&loaded, &h5, &opts, reproducible, argv, started);
@@ -785,10 +819,22 @@ fn build(
             )));
         }
     }
+    // Name what asked for the CSV table: the flag, or the profile's key.
+    let csv_asker = if csv {
+        "--csv".to_string()
+    } else {
+        format!("{}: output.csv", loaded.source)
+    };
+    let csv_fix = if csv {
+        "leave out --csv"
+    } else {
+        "remove output.csv or set it to false"
+    };
     if want_csv && loaded.grid.axes().len() != 1 {
-        return Err(Error::Usage(
-            "--csv: a CSV table is written for 1D grids only".into(),
-        ));
+        return Err(Error::Usage(format!(
+            "{csv_asker}: a CSV table is written for 1D grids only, and this grid has {} axes; {csv_fix} (the HDF5 file, --npy or --raw hold any grid)",
+            loaded.grid.axes().len()
+        )));
     }
     let built = pipeline::build(&loaded, argv, reproducible)?;
     let mut metadata = None;

@@ -7,6 +7,14 @@ use clap::Parser;
 use stillpoint::cli::{run, Cli, Outcome};
 
 fn main() -> ExitCode {
+    // A panic is a fault of the tool, not of the input: say so, and end with
+    // the documented status 3 (not Rust's 101).
+    let default_hook = std::panic::take_hook();
+    std::panic::set_hook(Box::new(move |info| {
+        default_hook(info);
+        eprintln!("error: internal failure of stillpoint (not of the input); please report it");
+        std::process::exit(3);
+    }));
     let argv: Vec<String> = std::env::args().collect();
     let cli = Cli::parse();
     // A build stopped by Ctrl-C or SIGTERM removes its temporary file.

@@ -91,9 +91,9 @@ pub fn build(
         let dir = crate::estimate::folder_of(h5);
         if !dir.is_dir() {
             return Err(Error::Usage(format!(
-                "{}: the folder {} does not exist (create it first)",
+                "{}: {}",
                 h5.display(),
-                dir.display()
+                crate::output::missing_folder(&dir)
             )));
         }
         let plan = crate::estimate::Plan::new(loaded, opts, rayon::current_num_threads(), None);

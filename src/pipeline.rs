@@ -802,6 +802,7 @@ pub fn cautions(loaded: &Loaded, bg: &dyn Background, domain: &Domain) -> Vec<St
             out.extend(sec.cautions());
         }
     }
+    out.extend(plausibility(m, bg, domain));
     if let Some(crate::closure::axis::Approach::SingularGradient { .. }) =
         closure::axis_approach(m, domain)
     {
@@ -896,9 +897,94 @@ fn verdict_cautions(loaded: &Loaded, report: &crate::check::Report) -> Result<Ve
         }
         out.push(format!(
             "the given laws are not an equilibrium (balance.solve_for is nothing): the largest \
-             relative residual is {max:.3e} at {s} = {at:.6}; the state will move from the first \
-             step (run `stillpoint check` for details)"
+             relative residual is {max:.3e} at {s} = {}; the state will move from the first \
+             step (run `stillpoint check` for details)",
+            crate::check::position(at)
         ));
     }
     Ok(out)
+}
+
+/// The speed of light, m/s (exact by definition, SI 2019).
+const LIGHT_SI: f64 = 299_792_458.0;
+
+/// Values far outside what the unit system makes plausible, each with the
+/// likely cause (a value in the wrong units): a radial axis below zero, a
+/// disk thicker than it is wide (H/R > 1), rotation faster than a tenth of
+/// the speed of light (a mass in grams under astronomical units gives
+/// 1e17 au/yr). The thresholds are common practice, no source.
+pub fn plausibility(m: &crate::model::Model, bg: &dyn Background, domain: &Domain) -> Vec<String> {
+    let s = m.coordinate();
+    let mut out = Vec::new();
+    if (s == "R" || s == "r") && domain.lo < 0.0 {
+        out.push(format!(
+            "the grid reaches {s} = {} < 0, but {s} is a distance and never negative: a bound \
+             in the wrong place or the wrong sign? (a Cartesian axis x, y or z takes negative values)",
+            closure::show(domain.lo)
+        ));
+    }
+    if !(m.shape.is_disk() && domain.lo.is_finite() && domain.hi > domain.lo) {
+        return out;
+    }
+    let n = 64;
+    let log = domain.lo > 0.0 && domain.hi / domain.lo > 100.0;
+    let xs: Vec<f64> = (0..n)
+        .map(|i| {
+            let t = i as f64 / (n - 1) as f64;
+            if log {
+                domain.lo * (domain.hi / domain.lo).powf(t)
+            } else {
+                domain.lo + (domain.hi - domain.lo) * t
+            }
+        })
+        .collect();
+    let Ok(t) = crate::table::tabulate(m, bg, &xs) else {
+        return out;
+    };
+    let col = |name: &str| t.names.iter().position(|c| c == name);
+    let largest = |k: Option<usize>| {
+        k.and_then(|k| {
+            t.rows
+                .iter()
+                .zip(&xs)
+                .map(|(r, x)| (r[k].abs(), *x))
+                .filter(|(v, _)| v.is_finite())
+                .max_by(|a, b| a.0.total_cmp(&b.0))
+        })
+    };
+    if let Some((h, x)) = largest(col("H/R")).filter(|(h, _)| *h > 1.0) {
+        out.push(format!(
+            "H/R reaches {} at {s} = {}: a disk thicker than it is wide is no thin disk, and the \
+             midplane laws do not describe it; is the sound speed (or temperature) or the central \
+             mass in the wrong units?",
+            closure::show(h),
+            closure::show(x)
+        ));
+    }
+    if m.units.base_units().is_some() {
+        // The speed of light in the file's units.
+        let (l, t_unit) = match m.units {
+            crate::units::UnitSystem::Si => (1.0, 1.0),
+            crate::units::UnitSystem::Cgs => (0.01, 1.0),
+            crate::units::UnitSystem::Astro => (crate::units::AU_SI, crate::units::YEAR_SI),
+            crate::units::UnitSystem::Code => (f64::NAN, f64::NAN),
+        };
+        let light = LIGHT_SI * t_unit / l;
+        for name in ["v_phi", "v_K"] {
+            if let Some((v, x)) = largest(col(name)).filter(|(v, _)| *v > 0.1 * light) {
+                out.push(format!(
+                    "{name} reaches {} {} at {s} = {}, {} times the speed of light: no gas \
+                     rotates so fast; is the central mass (or a length) in the wrong units? (a \
+                     mass in grams under units: astro, where masses are in solar masses, gives \
+                     such speeds)",
+                    closure::show(v),
+                    m.units.unit_string(crate::units::Dim::VELOCITY),
+                    closure::show(x),
+                    closure::show(v / light)
+                ));
+                break;
+            }
+        }
+    }
+    out
 }

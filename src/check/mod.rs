@@ -29,6 +29,7 @@ mod column;
 mod integral;
 pub mod jumps;
 mod report;
+pub use report::position;
 
 pub use jumps::Jump;
 
@@ -158,7 +159,12 @@ pub fn run(
     let rotation: Option<&dyn Fn(f64) -> f64> = v2.as_ref().map(|_| &v2_at as _);
     let positivity = existence::survey(bg, rotation, &pts);
     let law = closure::rotation_law_name(model);
-    let no_equilibrium = existence::failures(&positivity, model.coordinate(), law);
+    let mut no_equilibrium = existence::failures(&positivity, model.coordinate(), law);
+    if !no_equilibrium.is_empty() {
+        if let Some(cause) = closure::root_cause(model, &positivity) {
+            no_equilibrium.push(cause);
+        }
+    }
     let discrete = discrete_imbalance(model.shape, bg, centres);
     Ok(Report {
         coordinate: model.coordinate().to_string(),

@@ -21,8 +21,10 @@ impl Report {
 
     fn largest(&self, max: f64, at: f64) -> String {
         format!(
-            "max residual {max:.3e} (relative) at {} = {at:.6}, tolerance {:.1e}",
-            self.coordinate, self.tolerance
+            "max residual {max:.3e} (relative) at {} = {}, tolerance {:.1e}",
+            self.coordinate,
+            position(at),
+            self.tolerance
         )
     }
 }
@@ -63,7 +65,7 @@ impl fmt::Display for Report {
         for e in &self.positivity {
             let mark = if e.ok() { "ok" } else { "FAILS" };
             let (q, v, at) = (e.quantity, e.min, e.at);
-            writeln!(f, "  {q:<12} min {v:.6e} at {s} = {at:.6}  {mark}")?;
+            writeln!(f, "  {q:<12} min {v:.6e} at {s} = {}  {mark}", position(at))?;
         }
         for message in &self.no_equilibrium {
             writeln!(f, "  no equilibrium: {message}")?;
@@ -73,7 +75,11 @@ impl fmt::Display for Report {
                 f,
                 "discrete imbalance (second-order centred differences at the cell centres)"
             )?;
-            writeln!(f, "  max          {m:.3e} (relative) at {s} = {at:.6}")?;
+            writeln!(
+                f,
+                "  max          {m:.3e} (relative) at {s} = {}",
+                position(at)
+            )?;
             writeln!(
                 f,
                 "  a scheme without well-balancing drifts at this level; perturbations much \
@@ -85,5 +91,16 @@ impl fmt::Display for Report {
             "result         {}",
             if self.passed() { "PASS" } else { "FAIL" }
         )
+    }
+}
+
+/// A position in a report: six decimals where that reads well, else six
+/// significant digits with an exponent (a radius in centimetres is
+/// `3.394245e22`, not a 23-digit integer).
+pub fn position(x: f64) -> String {
+    if x == 0.0 || (1e-4..1e7).contains(&x.abs()) {
+        format!("{x:.6}")
+    } else {
+        format!("{x:.6e}")
     }
 }

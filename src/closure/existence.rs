@@ -56,6 +56,11 @@ impl Extent {
                 "v_phi^2" => format!("{law} gives v_phi^2 that is not a number at {s} = {at}"),
                 q => format!("{q} is not finite at {s} = {at}"),
             }
+        } else if self.quantity == "v_phi^2" && a == b {
+            format!(
+                "{law} needs v_phi^2 < 0 at {s} = {a}{more} (v_phi^2 = {min:.6e}): gravity cannot \
+                 hold the pressure gradient there"
+            )
         } else if self.quantity == "v_phi^2" {
             format!(
                 "{law} needs v_phi^2 < 0 between {s} = {a} and {s} = {b}{more} (minimum v_phi^2 = \

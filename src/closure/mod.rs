@@ -24,6 +24,7 @@
 pub mod axis;
 mod barotropic;
 pub mod column;
+pub mod defined;
 mod domain;
 pub mod existence;
 pub mod integrate;
@@ -88,6 +89,7 @@ pub fn solve(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
 /// errors (a missing law, an anchor value that is not positive, a
 /// potential singular on the grid) are still errors.
 pub fn solve_unverified(model: &Model, domain: &Domain) -> Result<Solved, ClosureError> {
+    defined::check(model, &domain.scan_points_for(model))?;
     let laws = Laws::build(model)?;
     let mut integral = None;
     if let Some(integrand) = &laws.integrand {
@@ -298,7 +300,10 @@ fn verify_existence(model: &Model, bg: &Solved, domain: &Domain) -> Result<(), C
     let survey = survey(model, bg, domain);
     let failures = existence::failures(&survey, s, rotation_law_name(model));
     if let Some(message) = failures.into_iter().next() {
-        return Err(ClosureError::NoEquilibrium(message));
+        let cause = root_cause(model, &survey)
+            .map(|c| format!("; {c}"))
+            .unwrap_or_default();
+        return Err(ClosureError::NoEquilibrium(format!("{message}{cause}")));
     }
     if bg.column().is_some() {
         if let Some((_, message)) = column::meridional_failure(bg, domain) {
@@ -327,6 +332,118 @@ pub(crate) fn show(x: f64) -> String {
     } else {
         format!("{rounded:e}")
     }
+}
+
+/// Why a survey fails, when a given law is the cause: the first law that
+/// must be positive (a density, pressure, temperature or c² as written in
+/// the profile) and is not, at the first failing point, with the parameters
+/// it uses that are zero or negative, down to the ones that made them so
+/// (`cs2_0 = -2.5e-3 ← M = -1`). None when every given law is positive
+/// there (the failure is then the closure's, and its message says so).
+pub fn root_cause(model: &Model, survey: &[existence::Extent]) -> Option<String> {
+    let s = model.coordinate();
+    let failing = survey
+        .iter()
+        .filter(|e| !e.ok())
+        .min_by_key(|e| e.quantity == "v_phi^2")?;
+    let points = [failing.failing[0].0, failing.at, failing.failing[0].1];
+    let laws = [
+        model.sound_speed_sq.as_ref(),
+        model.density.as_ref(),
+        model.pressure.as_ref(),
+    ];
+    for &x in &points {
+        let lookup = |n: &str| {
+            if n == s {
+                Some(x)
+            } else if n == "z" {
+                Some(0.0)
+            } else {
+                model.lookup(n)
+            }
+        };
+        for law in laws.iter().flatten() {
+            let v = law.expr.eval(&lookup).unwrap_or(f64::NAN);
+            if v > 0.0 && v.is_finite() {
+                continue;
+            }
+            let what = match law.origin.as_str() {
+                "gas.temperature" => "the temperature law".to_string(),
+                "gas.sound_speed_sq" => "the sound-speed law (c^2)".to_string(),
+                o => format!("the law {o}"),
+            };
+            let value = if law.origin == "gas.temperature" {
+                "not positive".to_string()
+            } else {
+                show(v)
+            };
+            let mut cause = format!(
+                "the cause is {what} `{}` ({}), {value} at {s} = {}",
+                law.expr,
+                law.origin,
+                show(x)
+            );
+            let blamed = blamed_parameters(model, &law.expr);
+            if !blamed.is_empty() {
+                cause.push_str(&format!(
+                    ": it uses {}; check the sign and units of these parameters (and any --set)",
+                    blamed.join(", ")
+                ));
+            } else {
+                cause
+                    .push_str(": change the law or the grid so that it stays positive on the grid");
+            }
+            return Some(cause);
+        }
+    }
+    None
+}
+
+/// The parameters an expression uses that are zero or negative, each with
+/// the zero or negative parameters its own formula uses (`cs2_0 = -2.5e-3
+/// (from M = -1)`).
+fn blamed_parameters(model: &Model, expr: &crate::formula::Expr) -> Vec<String> {
+    let value = |n: &str| {
+        model
+            .parameters
+            .iter()
+            .find(|(p, _)| p == n)
+            .map(|(_, v)| *v)
+    };
+    let text = |n: &str| {
+        model
+            .parameter_text
+            .iter()
+            .find(|(p, _)| p == n)
+            .map(|(_, t)| t.clone())
+    };
+    // Zero or negative parameters reachable from `names`, nearest first.
+    fn reach(
+        names: std::collections::BTreeSet<String>,
+        value: &dyn Fn(&str) -> Option<f64>,
+        text: &dyn Fn(&str) -> Option<String>,
+        depth: usize,
+    ) -> Vec<String> {
+        let mut out = Vec::new();
+        for n in names {
+            let Some(v) = value(&n) else { continue };
+            if v > 0.0 {
+                continue;
+            }
+            let inner = text(&n)
+                .and_then(|t| crate::formula::parse(&t).ok())
+                .filter(|_| depth < 8)
+                .map(|e| reach(e.names(), value, text, depth + 1))
+                .unwrap_or_default();
+            if inner.is_empty() {
+                out.push(format!("{n} = {}", show(v)));
+            } else {
+                out.push(format!("{n} = {} (from {})", show(v), inner.join(", ")));
+            }
+        }
+        out
+    }
+    reach(expr.names(), &value, &text, 0)
 }
 
 #[cfg(test)]

@@ -105,6 +105,14 @@ pub(crate) fn lex(src: &str) -> Result<Vec<Token>, FormulaError> {
                 span: start..i,
                 message: format!("`{text}` is not a number"),
             })?;
+            if !v.is_finite() {
+                return Err(FormulaError::Syntax {
+                    span: start..i,
+                    message: format!(
+                        "`{text}` is beyond the largest double (1.8e308); write the value in units where it is smaller"
+                    ),
+                });
+            }
             out.push(Token {
                 tok: Tok::Num(v),
                 span: start..i,

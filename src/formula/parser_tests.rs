@@ -361,3 +361,20 @@ fn nesting_deeper_than_the_limit_is_refused_at_its_token() {
         }
     }
 }
+
+#[test]
+fn nested_minus_signs_print_in_linear_time() {
+    // Found by fuzzing: each minus printed its operand twice, so 19 of
+    // them took 15 s. 60 now print at once and read back the same.
+    let text = format!("{}fff----100", "-".repeat(60));
+    let e = parse(&text, None).unwrap();
+    let started = std::time::Instant::now();
+    let printed = e.to_string();
+    assert!(
+        started.elapsed().as_secs_f64() < 5.0,
+        "{:?}",
+        started.elapsed()
+    );
+    let back = parse(&printed, None).unwrap();
+    assert_eq!(back.to_string(), printed);
+}

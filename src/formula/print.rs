@@ -144,10 +144,22 @@ fn reads_as_negative_number(t: &str) -> bool {
 fn negative_exponent(x: &Expr) -> Option<f64> {
     match x {
         Expr::Num(v) => Some(*v),
-        Expr::Mul(_) => reads_as_number(&text(x)),
+        Expr::Mul(_) if numeric_only(x) => reads_as_number(&text(x)),
         _ => None,
     }
     .filter(|v| *v < 0.0)
+}
+
+/// Only numbers, sums, products and powers: the trees whose text can read
+/// back as one number. Checked before printing a subtree to ask that, so
+/// that nested minus signs print in linear, not exponential, time.
+fn numeric_only(e: &Expr) -> bool {
+    match e {
+        Expr::Num(_) => true,
+        Expr::Add(ts) | Expr::Mul(ts) => ts.iter().all(numeric_only),
+        Expr::Pow(b, x) => numeric_only(b) && numeric_only(x),
+        Expr::Name(_) | Expr::Call(..) | Expr::If(..) => false,
+    }
 }
 
 /// Is this term printed with a leading minus (negative number or coefficient)?
@@ -162,7 +174,7 @@ pub(super) fn negated(e: &Expr) -> Option<Expr> {
                     // `-(-1.5)` would read back as the literal 1.5: the
                     // product prints as `-1*(-1.5)` instead.
                     if let [r] = &fs[1..] {
-                        if reads_as_negative_number(&text(r)) {
+                        if numeric_only(r) && reads_as_negative_number(&text(r)) {
                             return None;
                         }
                     }

