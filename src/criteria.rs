@@ -112,6 +112,16 @@ impl fmt::Display for Section {
             "stability (exact derivatives; a value below -{THRESHOLD:e} of its terms fails)"
         )?;
         for d in &self.items {
+            if !d.min.0.is_finite() && !d.max.0.is_finite() {
+                // No point gave a value: where the state has no
+                // equilibrium (or no rotation) there is nothing to judge.
+                write!(
+                    f,
+                    "\n  {:<12} no value at any scan point (the state has no equilibrium there)",
+                    d.name
+                )?;
+                continue;
+            }
             let verdict = match &d.fails {
                 None => "ok".to_string(),
                 Some(w) => format!("FAILS {w}"),
