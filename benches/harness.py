@@ -3,7 +3,8 @@ targets and the agreement check.
 
 Owns: what a case is (a stillpoint profile or variant, competing scripts,
 targets), running each command of a case as a child process and measuring
-its wall time, peak resident memory (os.wait4's ru_maxrss, kB on Linux) and
+its wall time, peak resident memory (ru_maxrss from os.wait4 in a small
+launcher process, kB on Linux) and
 output size, judging the targets, and checking that every output holds the
 same numbers as stillpoint's. Does not own the list of cases (cases.py) or
 the command line (compare.py).
@@ -216,21 +217,46 @@ class RunFailed(Exception):
     """A child process exited non-zero."""
 
 
+# A child's ru_maxrss on Linux includes the memory it inherited at fork
+# (and, with vfork, the parent's own): a command forked straight from this
+# harness, which holds h5py, numpy and earlier outputs, would be charged
+# for them. Each command is therefore started by a fresh small interpreter
+# that forks it and reports the command's own rusage: the figure includes
+# at most that launcher's few MiB at fork, never the harness's.
+LAUNCHER = """
+import os, sys
+pid = os.fork()
+if pid == 0:
+    os.execvp(sys.argv[2], sys.argv[2:])
+_, status, u = os.wait4(pid, 0)
+with open(sys.argv[1], "w") as f:
+    f.write(f"{u.ru_utime + u.ru_stime} {u.ru_maxrss}")
+sys.exit(os.waitstatus_to_exitcode(status))
+"""
+
+
 def run_once(cmd: Command, folder: Path):
     """Runs `cmd` once on a fresh output: (wall seconds, CPU seconds, peak
-    RSS kB)."""
+    RSS kB), the CPU and memory of the command itself (see LAUNCHER)."""
     cmd.output.unlink(missing_ok=True)
     log = folder / f"{cmd.output.stem}.log"
+    usage_file = folder / f"{cmd.output.stem}.rusage"
     with open(log, "w") as sink:
         start = time.perf_counter()
-        proc = subprocess.Popen(cmd.argv, env=cmd.env, cwd=ROOT, stdout=sink, stderr=sink)
-        _, status, usage = os.wait4(proc.pid, 0)
+        proc = subprocess.Popen(
+            [sys.executable, "-S", "-c", LAUNCHER, str(usage_file), *cmd.argv],
+            env=cmd.env,
+            cwd=ROOT,
+            stdout=sink,
+            stderr=sink,
+        )
+        proc.wait()
         wall = time.perf_counter() - start
-    proc.returncode = os.waitstatus_to_exitcode(status)
     if proc.returncode != 0:
         tail = log.read_text()[-2000:]
         raise RunFailed(f"{cmd.name} exited {proc.returncode}: {' '.join(cmd.argv)}\n{tail}")
-    return wall, usage.ru_utime + usage.ru_stime, usage.ru_maxrss
+    cpu, rss = usage_file.read_text().split()
+    return wall, float(cpu), int(rss)
 
 
 def busy_cpu_seconds():
