@@ -976,7 +976,25 @@ fn check_torus(loaded: &Loaded, tolerance: f64) -> Result<Outcome, Error> {
     let v = crate::torus_run::verdict(loaded, &t, tolerance)?;
     say!("{} ({})", loaded.model.name, loaded.source);
     say!("{}", v.text);
-    for c in &v.cautions {
+    let mut more = Vec::new();
+    if !loaded.perturbations.is_empty() {
+        // No discrete imbalance is computed for a torus: the peaks alone.
+        say!("perturbations (each alone at the cell centres; peak relative to the background)");
+        for a in pipeline::perturbations_alone(loaded, &t) {
+            match a {
+                Ok(a) => {
+                    let [peaks, verdict] = a.lines(None);
+                    say!("  {peaks}");
+                    say!("    {verdict}");
+                    if loaded.output.precision == output::Precision::Single {
+                        more.extend(a.single_precision_caution());
+                    }
+                }
+                Err(e) => say!("  cannot be sampled alone: {e}"),
+            }
+        }
+    }
+    for c in v.cautions.iter().chain(&more) {
         say!("caution: {c}");
     }
     Ok(if v.passed {

@@ -374,6 +374,12 @@ fn torus_builds_through_the_common_path() {
             assert!(x.iter().any(|v| *v != 0.0), "the noise is there");
         }
     }
+    // `check` reports the perturbation alone (issue 9, part 3).
+    let t = ok(&["check", "t.json"]);
+    assert!(
+        t.contains("perturbations[0] (noise)") && t.contains("velocity"),
+        "{t}"
+    );
     // The torus metadata is kept.
     let frac: hdf5::types::VarLenUnicode =
         a.attr("floored_fraction").unwrap().read_scalar().unwrap();

@@ -193,7 +193,7 @@ impl Alone {
             (Standing::Smaller, Some(x)) => {
                 format!("smaller than the discretisation imbalance ({x:.3e})")
             }
-            _ => "no discretisation imbalance to compare with (fewer than three cells along the balance coordinate)".to_string(),
+            _ => "no discretisation imbalance to compare with (fewer than three cells along the balance coordinate, or a torus, whose balance is not along a line)".to_string(),
         };
         [format!("{} ({}): {peaks}", self.origin, self.kind), verdict]
     }
