@@ -836,6 +836,18 @@ fn build(
             loaded.grid.axes().len()
         )));
     }
+    if want_csv
+        && matches!(
+            loaded.sampling,
+            crate::sample::SamplingRule::Nodes { .. } | crate::sample::SamplingRule::Modes { .. }
+        )
+    {
+        // Refused before anything is written, not after the HDF5 file.
+        return Err(Error::Usage(format!(
+            "{csv_asker}: a CSV table holds one value per cell, and sampling.rule gives several \
+             per cell (nodes or modes); {csv_fix} (the HDF5 file, --npy or --raw hold them)"
+        )));
+    }
     let built = pipeline::build(&loaded, argv, reproducible)?;
     let mut metadata = None;
     let bar = crate::progress::Bar::new(loaded.grid.len(), quiet);
