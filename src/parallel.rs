@@ -20,8 +20,8 @@ use mpi::raw::AsRaw;
 use mpi::topology::SimpleCommunicator;
 use mpi::traits::*;
 
-use crate::fields::slab_ranges;
-use crate::output::{GroupPlan, H5Stream, Metadata, Parallel};
+use crate::fields::{slab_ranges, Slab};
+use crate::output::{H5Stream, Metadata, Parallel};
 use crate::pipeline::{self, Error, StreamOptions};
 use crate::profile::Loaded;
 
@@ -101,14 +101,37 @@ pub fn build(
         Ok(Vec::new())
     })?;
     let built = pipeline::build(loaded, argv, reproducible)?;
-    // Verification once, on rank 0; its cautions go into every rank's copy
-    // of the metadata (attributes are written collectively).
-    let cautions = agree(&world, rank, || {
+    // Verification once, on rank 0: its cautions and the attributes it
+    // adds (each perturbation alone against the discrete imbalance) go to
+    // every rank, as one JSON text (attributes are written collectively,
+    // so every rank must hold the same).
+    let verified = agree(&world, rank, || {
         let m = built.verify()?;
-        Ok(m.cautions)
+        Ok(vec![
+            serde_json::json!({ "cautions": m.cautions, "extra": m.extra }).to_string(),
+        ])
     })?;
     let mut meta = built.metadata.clone();
-    meta.cautions = cautions;
+    let v: serde_json::Value = verified
+        .first()
+        .and_then(|t| serde_json::from_str(t).ok())
+        .unwrap_or_default();
+    meta.cautions = v["cautions"]
+        .as_array()
+        .map(|a| {
+            a.iter()
+                .filter_map(|c| c.as_str().map(str::to_string))
+                .collect()
+        })
+        .unwrap_or_default();
+    meta.extra = v["extra"]
+        .as_array()
+        .map(|a| {
+            a.iter()
+                .filter_map(|p| Some((p[0].as_str()?.to_string(), p[1].as_str()?.to_string())))
+                .collect()
+        })
+        .unwrap_or_else(|| meta.extra.clone());
     let created = agree(&world, rank, || Ok(vec![crate::output::utc_now()]))?;
     let temp = temp_name(&world, rank, h5)?;
     if rank == 0 {
@@ -226,18 +249,27 @@ fn write(
 ) -> Result<(), Error> {
     let sampler = built.sampler()?;
     let fields = sampler.fields();
-    let groups = [
-        GroupPlan {
-            name: "background".into(),
-            fields: fields.clone(),
-            link_to: None,
-        },
-        GroupPlan {
-            name: "state".into(),
-            fields: fields.clone(),
-            link_to: Some("background".into()),
-        },
-    ];
+    // The file's groups (a perturbed build has /background, /state and
+    // /perturbation; `output.fields` keeps some fields), and for each
+    // written group the positions of its fields in the sampler's slabs.
+    let groups = built.groups()?;
+    let mut offset = 0;
+    let mut picks: Vec<(String, Vec<usize>)> = Vec::new();
+    for (name, all) in sampler.groups() {
+        if let Some(g) = groups
+            .iter()
+            .find(|g| g.name == name && g.link_to.is_none())
+        {
+            let idx = all
+                .iter()
+                .enumerate()
+                .filter(|(_, f)| g.fields.iter().any(|k| k.name == f.name))
+                .map(|(i, _)| offset + i)
+                .collect();
+            picks.push((name.to_string(), idx));
+        }
+        offset += all.len();
+    }
     let parallel = Parallel {
         comm: world.as_raw(),
         root: rank == 0,
@@ -262,13 +294,10 @@ fn write(
     };
     let mine = slabs(rank);
     let rounds = (0..ranks).map(|r| slabs(r).len()).max().unwrap_or(0);
-    let mut reuse = Vec::new();
     for round in 0..rounds {
-        let slab = mine.get(round).map(|r| {
-            sampler
-                .slab_into(r.clone(), std::mem::take(&mut reuse))
-                .map_err(|e| built.sample_error(e))
-        });
+        let slab = mine
+            .get(round)
+            .map(|r| sampler.slab(r.clone()).map_err(|e| built.sample_error(e)));
         let failed = matches!(slab, Some(Err(_)));
         if !all_ok(world, !failed) {
             // Every rank stops at the same round; the rank that failed
@@ -283,10 +312,16 @@ fn write(
                 )),
             };
         }
-        let slab = slab.transpose()?;
-        out.write_collective("background", slab.as_ref())?;
-        if let Some(s) = slab {
-            reuse = s.data;
+        let mut slab = slab.transpose()?;
+        for (name, idx) in &picks {
+            let part = slab.as_mut().map(|s| Slab {
+                rows: s.rows.clone(),
+                data: idx
+                    .iter()
+                    .map(|i| std::mem::take(&mut s.data[*i]))
+                    .collect(),
+            });
+            out.write_collective(name, part.as_ref())?;
         }
     }
     out.finish(meta)?;

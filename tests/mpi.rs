@@ -78,6 +78,20 @@ fn issue11_mpi_builds_match_the_serial_build_byte_for_byte() {
     assert!(o.status.success(), "{}", text(&o));
     let o = serial(d.path(), &["build", "ring-disk", "-o", "ring.h5"]);
     assert!(o.status.success(), "{}", text(&o));
+    // A perturbed build (velocity noise, counter-based: the same values
+    // however the rows are split): /background, /state and /perturbation.
+    let o = mpirun(
+        d.path(),
+        3,
+        &["build", "noisy-disk", "-o", "noisy3.h5"],
+        &[],
+    );
+    assert!(o.status.success(), "{}", text(&o));
+    let o = serial(d.path(), &["build", "noisy-disk", "-o", "noisy.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let f = hdf5::File::open(d.path().join("noisy3.h5")).unwrap();
+    assert!(f.group("perturbation").is_ok() && f.attr("perturbations_alone").is_ok());
+    drop(f);
     let left: Vec<String> = std::fs::read_dir(d.path())
         .unwrap()
         .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
@@ -88,6 +102,7 @@ fn issue11_mpi_builds_match_the_serial_build_byte_for_byte() {
     for files in [
         &["serial.h5", "n2.h5", "n3.h5"][..],
         &["ring.h5", "ring3.h5"][..],
+        &["noisy.h5", "noisy3.h5"][..],
     ] {
         let o = Command::new("python3")
             .arg(check)
