@@ -2,6 +2,8 @@
 //! normalised to a surface density (part 4), against outside references
 //! (each named beside its check).
 
+mod common;
+
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
@@ -34,17 +36,7 @@ const WARM_ARGS: [&str; 9] = [
 ];
 
 fn stillpoint(dir: &Path, args: &[&str]) -> (Option<i32>, String) {
-    let o = Command::new(env!("CARGO_BIN_EXE_stillpoint"))
-        .current_dir(dir)
-        .args(args)
-        .output()
-        .unwrap();
-    let t = format!(
-        "{}{}",
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    );
-    (o.status.code(), t)
+    common::run(dir, args)
 }
 
 fn python(script: &str, args: &[&str]) -> String {
@@ -197,20 +189,7 @@ fn issue7_warm_layer_on_every_geometry_and_rule() {
             }
             let f = hdf5::File::open(d.path().join(&out)).unwrap();
             let rho: Vec<f64> = f.dataset("state/density").unwrap().read_raw().unwrap();
-            let first = |a: &str| -> f64 {
-                f.dataset(&format!("grid/{a}_centers"))
-                    .unwrap()
-                    .read_raw::<f64>()
-                    .unwrap()[0]
-            };
-            let (r, z) = match name {
-                "merid" | "cyl" => (first("R"), first("z")),
-                "rtheta" | "sph" => {
-                    let (r, t) = (first("r"), first("theta"));
-                    (r * t.sin(), r * t.cos())
-                }
-                _ => (first("x").hypot(first("y")), first("z")),
-            };
+            let (r, z) = common::first_cell_rz(&f);
             let want = bg.at(&[r, z]).density;
             assert!(
                 (rho[0] - want).abs() < 1e-13 * want,

@@ -5,24 +5,10 @@
 //! the state at its centre; the 3D file is a stratified disk on a
 //! cylindrical grid with a cell centre on the midplane.
 
+mod common;
+use common::{stillpoint, text};
 use std::path::Path;
-use std::process::{Command, Output};
-
-fn stillpoint(dir: &Path, args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_stillpoint"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("run stillpoint")
-}
-
-fn text(o: &Output) -> String {
-    format!(
-        "{}{}",
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    )
-}
+use std::process::Command;
 
 /// The bundled profile `name` with cell-centre sampling, and `grid` in
 /// place of its grid when given, saved as `NAME.json` in `dir`.

@@ -11,24 +11,10 @@
 //! Mechanics, §64). Where a kind does not fit, the profile is refused with
 //! the key at fault.
 
+mod common;
+use common::{stillpoint, text};
 use std::path::Path;
-use std::process::{Command, Output};
-
-fn stillpoint(dir: &Path, args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_stillpoint"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("run stillpoint")
-}
-
-fn text(o: &Output) -> String {
-    format!(
-        "{}{}",
-        String::from_utf8_lossy(&o.stdout),
-        String::from_utf8_lossy(&o.stderr)
-    )
-}
+use std::process::Command;
 
 /// A geometry: the physics of the profile, its grid, and what it holds.
 struct Geometry {

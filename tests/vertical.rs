@@ -129,8 +129,7 @@ fn stratified_disk_checks_both_balances_as_identities() {
 }
 
 fn stillpoint(dir: &Path, args: &[&str]) -> (Option<i32>, String) {
-    let o = common::stillpoint(dir, args);
-    (o.status.code(), common::text(&o))
+    common::run(dir, args)
 }
 
 fn with_grid(profile: &str, grid: &str) -> String {
@@ -196,20 +195,7 @@ fn issue7_stratified_disk_on_every_geometry() {
         );
         let rho: Vec<f64> = rho.read_raw().unwrap();
         // The first cell (all axes at their first centre): point values.
-        let first = |a: &str| -> f64 {
-            f.dataset(&format!("grid/{a}_centers"))
-                .unwrap()
-                .read_raw::<f64>()
-                .unwrap()[0]
-        };
-        let (r, z) = match name {
-            "merid" | "cyl" => (first("R"), first("z")),
-            "rtheta" | "sph" => {
-                let (r, t) = (first("r"), first("theta"));
-                (r * t.sin(), r * t.cos())
-            }
-            _ => (first("x").hypot(first("y")), first("z")),
-        };
+        let (r, z) = common::first_cell_rz(&f);
         assert!(
             rel(rho[0], bg.at(&[r, z]).density) < 1e-13,
             "{name}: {} at ({r}, {z})",

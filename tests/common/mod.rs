@@ -28,3 +28,28 @@ pub fn text(o: &Output) -> String {
         String::from_utf8_lossy(&o.stderr)
     )
 }
+
+/// [`stillpoint`]'s exit code and its output as one text.
+pub fn run(dir: &Path, args: &[&str]) -> (Option<i32>, String) {
+    let o = stillpoint(dir, args);
+    (o.status.code(), text(&o))
+}
+
+/// The (R, z) of a file's first cell (every axis at its first centre), from
+/// its grid datasets: (R, …, z) cylindrical, (r, θ, …) spherical or (x, y, z)
+/// Cartesian.
+pub fn first_cell_rz(f: &hdf5::File) -> (f64, f64) {
+    let first = |a: &str| -> Option<f64> {
+        let d = f.dataset(&format!("grid/{a}_centers")).ok()?;
+        Some(d.read_raw::<f64>().unwrap()[0])
+    };
+    if let Some(r) = first("R") {
+        (r, first("z").unwrap_or(0.0))
+    } else if let Some(r) = first("r") {
+        let t = first("theta").unwrap_or(std::f64::consts::FRAC_PI_2);
+        (r * t.sin(), r * t.cos())
+    } else {
+        let (x, y) = (first("x").unwrap(), first("y").unwrap_or(0.0));
+        (x.hypot(y), first("z").unwrap_or(0.0))
+    }
+}
