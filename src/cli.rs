@@ -500,16 +500,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                     }
                     let log = loaded.grid.axes()[0].spacing == crate::grid::Spacing::Log
                         && domain.lo > 0.0;
-                    (0..n)
-                        .map(|i| {
-                            let t = i as f64 / (n - 1) as f64;
-                            if log {
-                                domain.lo * (domain.hi / domain.lo).powf(t)
-                            } else {
-                                domain.lo + (domain.hi - domain.lo) * t
-                            }
-                        })
-                        .collect()
+                    crate::closure::spaced(domain.lo, domain.hi, n, log)
                 }
             };
             let t =

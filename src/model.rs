@@ -209,6 +209,22 @@ impl Model {
             })
     }
 
+    /// Names as a law on the balance line reads them: the line coordinate
+    /// is `x`, a height `z` is the midplane (0), the rest parameters and
+    /// built-in names.
+    pub fn line_lookup(&self, x: f64) -> impl Fn(&str) -> Option<f64> + '_ {
+        let s = self.coordinate();
+        move |n: &str| {
+            if n == s {
+                Some(x)
+            } else if n == "z" {
+                Some(0.0)
+            } else {
+                self.lookup(n)
+            }
+        }
+    }
+
     /// The profile keys of the laws the model gives, potential last
     /// (`balance.density`, `gas.temperature`, `gravity.point_mass`, …).
     pub fn law_keys(&self) -> Vec<&str> {

@@ -928,16 +928,7 @@ pub fn plausibility(m: &crate::model::Model, bg: &dyn Background, domain: &Domai
     }
     let n = 64;
     let log = domain.lo > 0.0 && domain.hi / domain.lo > 100.0;
-    let xs: Vec<f64> = (0..n)
-        .map(|i| {
-            let t = i as f64 / (n - 1) as f64;
-            if log {
-                domain.lo * (domain.hi / domain.lo).powf(t)
-            } else {
-                domain.lo + (domain.hi - domain.lo) * t
-            }
-        })
-        .collect();
+    let xs: Vec<f64> = crate::closure::spaced(domain.lo, domain.hi, n, log);
     let Ok(t) = crate::table::tabulate(m, bg, &xs) else {
         return out;
     };

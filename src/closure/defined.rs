@@ -81,19 +81,7 @@ pub fn check(model: &Model, pts: &[f64]) -> Result<(), ClosureError> {
         let mut gs = Vec::new();
         guards(&law.expr, &mut gs);
         for g in &gs {
-            let at = |x: f64| {
-                g.arg
-                    .eval(&|n: &str| {
-                        if n == s {
-                            Some(x)
-                        } else if n == "z" {
-                            Some(0.0)
-                        } else {
-                            model.lookup(n)
-                        }
-                    })
-                    .unwrap_or(f64::NAN)
-            };
+            let at = |x: f64| g.arg.eval(&model.line_lookup(x)).unwrap_or(f64::NAN);
             let vals: Vec<f64> = pts.iter().map(|&x| at(x)).collect();
             for (i, (&x, &v)) in pts.iter().zip(&vals).enumerate() {
                 let why = match g.kind {

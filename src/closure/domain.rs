@@ -103,3 +103,19 @@ impl Domain {
         }
     }
 }
+
+/// `n` points from `lo` to `hi`, both ends included, evenly spaced, or
+/// logarithmically (`log`, for `lo` > 0): where tables, plots and survey
+/// scans look along a line.
+pub fn spaced(lo: f64, hi: f64, n: usize, log: bool) -> Vec<f64> {
+    (0..n)
+        .map(|i| {
+            let t = i as f64 / (n.max(2) - 1) as f64;
+            if log {
+                lo * (hi / lo).powf(t)
+            } else {
+                lo + (hi - lo) * t
+            }
+        })
+        .collect()
+}

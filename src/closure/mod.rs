@@ -35,7 +35,7 @@ pub mod table;
 pub mod tabulate;
 mod vertical;
 
-pub use domain::Domain;
+pub use domain::{spaced, Domain};
 pub use laws::{derived_laws, DerivedLaw, Gradients, Laws, Parts};
 
 pub use solved::{accelerations, Solved};
@@ -353,15 +353,7 @@ pub fn root_cause(model: &Model, survey: &[existence::Extent]) -> Option<String>
         model.pressure.as_ref(),
     ];
     for &x in &points {
-        let lookup = |n: &str| {
-            if n == s {
-                Some(x)
-            } else if n == "z" {
-                Some(0.0)
-            } else {
-                model.lookup(n)
-            }
-        };
+        let lookup = model.line_lookup(x);
         for law in laws.iter().flatten() {
             let v = law.expr.eval(&lookup).unwrap_or(f64::NAN);
             if v > 0.0 && v.is_finite() {

@@ -90,16 +90,7 @@ impl Embed {
 /// and whether the axis is drawn logarithmic.
 fn line_points(loaded: &Loaded, lo: f64, hi: f64, n: usize) -> (Vec<f64>, bool) {
     let log = loaded.grid.axes()[0].spacing == Spacing::Log && lo > 0.0;
-    let xs = (0..n)
-        .map(|i| {
-            let t = i as f64 / (n - 1) as f64;
-            if log {
-                lo * (hi / lo).powf(t)
-            } else {
-                lo + (hi - lo) * t
-            }
-        })
-        .collect();
+    let xs = crate::closure::spaced(lo, hi, n, log);
     // A log axis where the range spans two decades or more (on fewer,
     // plotters' log ticks leave a single label).
     (xs, lo > 0.0 && hi / lo >= 100.0)
