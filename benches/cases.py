@@ -51,6 +51,14 @@ SPHERE_FIELDS = (
     "energy",
 )
 
+# B′ and C: the softened disk's grid replaced by a spherical one, 192 × 96 × 192,
+# ±0.3 rad about the midplane.
+SPHERE_GRID = {
+    "r": {"from": 0.3, "to": 2.4, "cells": 192},
+    "theta": {"from": "pi/2 - 0.3", "to": "pi/2 + 0.3", "cells": 96},
+    "phi": {"cells": 192},
+}
+
 CASES = [
     # Issue 6, item 8: the bundled tapered Cartesian disk, 1024 × 1024
     # cells, 3-point Gauss–Legendre cell averages per axis, float64.
@@ -101,11 +109,7 @@ CASES = [
         profile=Variant(
             "profiles/softened-disk-box.json",
             {
-                "grid": {
-                    "r": {"from": 0.3, "to": 2.4, "cells": 192},
-                    "theta": {"from": "pi/2 - 0.3", "to": "pi/2 + 0.3", "cells": 96},
-                    "phi": {"cells": 192},
-                },
+                "grid": SPHERE_GRID,
                 "sampling.points": 3,
             },
             additions={"output.fields": list(SPHERE_FIELDS)},
@@ -130,11 +134,7 @@ CASES = [
         profile=Variant(
             "profiles/softened-disk-box.json",
             {
-                "grid": {
-                    "r": {"from": 0.3, "to": 2.4, "cells": 192},
-                    "theta": {"from": "pi/2 - 0.3", "to": "pi/2 + 0.3", "cells": 96},
-                    "phi": {"cells": 192},
-                },
+                "grid": SPHERE_GRID,
                 "sampling.points": 3,
                 "gas.sound_speed_sq": "cs2_0*((R^2 + eps^2)/R0^2)^(-q/2)"
                 "*(1 + 0.5*(1 + tanh((abs(z)/(h0*R) - 3)/0.3)))",
