@@ -250,26 +250,11 @@ fn write(
     let sampler = built.sampler()?;
     let fields = sampler.fields();
     // The file's groups (a perturbed build has /background, /state and
-    // /perturbation; `output.fields` keeps some fields), and for each
-    // written group the positions of its fields in the sampler's slabs.
+    // /perturbation; `output.fields` keeps some fields), cut from the
+    // sampler's slabs as a serial build cuts them.
     let groups = built.groups()?;
-    let mut offset = 0;
-    let mut picks: Vec<(String, Vec<usize>)> = Vec::new();
-    for (name, all) in sampler.groups() {
-        if let Some(g) = groups
-            .iter()
-            .find(|g| g.name == name && g.link_to.is_none())
-        {
-            let idx = all
-                .iter()
-                .enumerate()
-                .filter(|(_, f)| g.fields.iter().any(|k| k.name == f.name))
-                .map(|(i, _)| offset + i)
-                .collect();
-            picks.push((name.to_string(), idx));
-        }
-        offset += all.len();
-    }
+    let split = built.split(&sampler)?;
+    let mut peaks = crate::perturb::report::Peaks::new(loaded.model.gamma);
     let parallel = Parallel {
         comm: world.as_raw(),
         root: rank == 0,
@@ -312,19 +297,33 @@ fn write(
                 )),
             };
         }
-        let mut slab = slab.transpose()?;
-        for (name, idx) in &picks {
-            let part = slab.as_mut().map(|s| Slab {
-                rows: s.rows.clone(),
-                data: idx
-                    .iter()
-                    .map(|i| std::mem::take(&mut s.data[*i]))
-                    .collect(),
-            });
-            out.write_collective(name, part.as_ref())?;
+        let parts = slab.transpose()?.map(|s| split.parts(s, &mut peaks));
+        for (k, name) in split.names().enumerate() {
+            out.write_collective(name, parts.as_ref().map(|p| &p[k]))?;
         }
     }
-    out.finish(meta)?;
+    // The peaks of the whole grid: every rank's, the largest of each.
+    for r in 0..ranks {
+        let mut text = if r == rank {
+            peaks.to_json().into_bytes()
+        } else {
+            Vec::new()
+        };
+        let mut len = text.len() as u64;
+        let root = world.process_at_rank(r as i32);
+        root.broadcast_into(&mut len);
+        text.resize(len as usize, 0);
+        root.broadcast_into(&mut text[..]);
+        if r != rank {
+            if let Some(theirs) =
+                crate::perturb::report::Peaks::from_json(&String::from_utf8_lossy(&text))
+            {
+                peaks.merge(&theirs);
+            }
+        }
+    }
+    let meta = split.with_peaks(meta.clone(), &peaks);
+    out.finish(&meta)?;
     Ok(())
 }
 

@@ -556,6 +556,11 @@ impl Built<'_> {
         Ok(groups)
     }
 
+    /// How `sampler`'s slabs become the file's groups (see [`Split`]).
+    pub fn split(&self, sampler: &Sampler<'_>) -> Result<Split, Error> {
+        Ok(Split::new(&sampler.groups(), &self.kept_groups(sampler)?))
+    }
+
     /// Verify, sample slab by slab and stream into a new HDF5 file at
     /// `path`: `/background` holds the fields and `/state` links to them
     /// (nothing perturbs the state yet). With more than one thread in the
@@ -581,8 +586,7 @@ impl Built<'_> {
         let fields = sampler.fields();
         let grid = &self.loaded.grid;
         let groups = self.groups()?;
-        let kept = self.kept_groups(&sampler)?;
-        let split = GroupWriter::new(&kept);
+        let split = self.split(&sampler)?;
         let create = || {
             H5Stream::create_filtered(
                 path,
@@ -593,31 +597,6 @@ impl Built<'_> {
                 opts.precision,
                 self.loaded.output.filters,
             )
-        };
-        // The sampler's fields that `output.fields` keeps, in slab order.
-        let keep: Vec<bool> = sampler
-            .groups()
-            .iter()
-            .zip(&kept)
-            .flat_map(|((_, all), (_, kept))| {
-                all.iter()
-                    .map(|f| kept.iter().any(|g| g.name == f.name))
-                    .collect::<Vec<_>>()
-            })
-            .collect();
-        let select = |slab: Slab| -> Slab {
-            if keep.iter().all(|k| *k) {
-                return slab;
-            }
-            Slab {
-                rows: slab.rows,
-                data: slab
-                    .data
-                    .into_iter()
-                    .zip(&keep)
-                    .filter_map(|(d, k)| k.then_some(d))
-                    .collect(),
-            }
         };
         let shape = grid.shape();
         let rows = slab_rows(&shape, fields.len(), opts);
@@ -636,7 +615,7 @@ impl Built<'_> {
                 let slab = sampler
                     .slab_into(r, reuse)
                     .map_err(|e| self.sample_error(e))?;
-                reuse = split.write(&mut out, select(slab), &mut peaks)?;
+                reuse = split.write(&mut out, slab, &mut peaks)?;
                 report(Progress { cells, total });
             }
             let meta = split.with_peaks(meta, &peaks);
@@ -676,7 +655,7 @@ impl Built<'_> {
                     let slab = sampler
                         .slab_into(r, reuse)
                         .map_err(|e| self.sample_error(e))?;
-                    if tx.send(select(slab)).is_err() {
+                    if tx.send(slab).is_err() {
                         break; // the writer stopped: its error is reported
                     }
                 }
@@ -708,30 +687,57 @@ pub struct Progress {
     pub total: usize,
 }
 
-/// Writes a slab's groups (background; or background, state and
-/// perturbation) and gathers the perturbation's peaks.
-struct GroupWriter {
+/// How a sampler's slab becomes the file's groups: the fields
+/// `output.fields` keeps, cut into background (or background, state and
+/// perturbation), with the perturbation's peaks gathered on the way. The
+/// one split of serial builds and of builds across MPI ranks.
+pub struct Split {
+    /// Per field of the sampler's slabs, whether `output.fields` keeps it.
+    keep: Vec<bool>,
+    /// The written groups and their kept fields, in slab order.
     groups: Vec<(String, Vec<FieldSpec>)>,
 }
 
-impl GroupWriter {
-    fn new(groups: &[(&'static str, Vec<FieldSpec>)]) -> GroupWriter {
-        GroupWriter {
-            groups: groups
+impl Split {
+    fn new(
+        all: &[(&'static str, Vec<FieldSpec>)],
+        kept: &[(&'static str, Vec<FieldSpec>)],
+    ) -> Split {
+        let keep = all
+            .iter()
+            .zip(kept)
+            .flat_map(|((_, all), (_, kept))| {
+                all.iter()
+                    .map(|f| kept.iter().any(|g| g.name == f.name))
+                    .collect::<Vec<_>>()
+            })
+            .collect();
+        Split {
+            keep,
+            groups: kept
                 .iter()
                 .map(|(n, f)| (n.to_string(), f.clone()))
                 .collect(),
         }
     }
 
-    /// Write every group of `slab`; returns its arrays for reuse.
-    fn write(
-        &self,
-        out: &mut H5Stream,
-        slab: Slab,
-        peaks: &mut Peaks,
-    ) -> Result<Vec<Vec<f64>>, OutputError> {
-        let Slab { rows, mut data } = slab;
+    /// The names of the written groups, in slab order.
+    pub fn names(&self) -> impl Iterator<Item = &str> {
+        self.groups.iter().map(|(n, _)| n.as_str())
+    }
+
+    /// The kept fields of `slab`, one slab per group in the order of
+    /// [`Split::names`]; the perturbation's peaks are folded into `peaks`.
+    pub fn parts(&self, slab: Slab, peaks: &mut Peaks) -> Vec<Slab> {
+        let Slab { rows, data } = slab;
+        let mut data: Vec<Vec<f64>> = if self.keep.iter().all(|k| *k) {
+            data
+        } else {
+            data.into_iter()
+                .zip(&self.keep)
+                .filter_map(|(d, k)| k.then_some(d))
+                .collect()
+        };
         if self.groups.len() == 3 {
             let (nb, ns) = (self.groups[0].1.len(), self.groups[1].1.len());
             peaks.update(
@@ -741,22 +747,35 @@ impl GroupWriter {
                 &data[nb + ns..],
             );
         }
-        let mut back = Vec::with_capacity(data.len());
-        for (name, fields) in &self.groups {
+        let mut parts = Vec::with_capacity(self.groups.len());
+        for (_, fields) in &self.groups {
             let rest = data.split_off(fields.len());
-            let part = Slab {
+            parts.push(Slab {
                 rows: rows.clone(),
                 data,
-            };
+            });
+            data = rest;
+        }
+        parts
+    }
+
+    /// Write every group of `slab`; returns its arrays for reuse.
+    fn write(
+        &self,
+        out: &mut H5Stream,
+        slab: Slab,
+        peaks: &mut Peaks,
+    ) -> Result<Vec<Vec<f64>>, OutputError> {
+        let mut back = Vec::new();
+        for (name, part) in self.names().zip(self.parts(slab, peaks)) {
             out.write(name, &part)?;
             back.extend(part.data);
-            data = rest;
         }
         Ok(back)
     }
 
     /// The metadata with the perturbation's peaks, when there is one.
-    fn with_peaks(&self, mut meta: Metadata, peaks: &Peaks) -> Metadata {
+    pub fn with_peaks(&self, mut meta: Metadata, peaks: &Peaks) -> Metadata {
         if self.groups.len() == 3 {
             meta.extra
                 .push(("perturbation_peaks".into(), peaks.describe()));

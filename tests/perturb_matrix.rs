@@ -1,7 +1,7 @@
 //! Every kind of perturbation on every geometry family (issue 9): each
 //! kind is built alone on each grid layout where it makes sense — slab,
 //! sphere and disk lines, `[R, phi]`, `[x, y]`, `[x, z]`, `[R, z]`,
-//! `[r, theta]`, `[R, phi, z]`, `[r, theta, phi]`, `[x, y, z]` — and the
+//! `[r, theta]`, `[R, phi, z]`, `[r, theta, phi]` (disk and sphere), `[x, y, z]` — and the
 //! files are read back with h5py (`tests/perturb_matrix_check.py`):
 //! `/perturbation` is `/state` − `/background`, the recorded peaks are
 //! those of the data, the perturbation is not lost in the projection onto
@@ -128,6 +128,19 @@ const GEOMETRIES: &[Geometry] = &[
         axes: &[("r", 0.5, 2.0, 8), ("theta", 0.3, 2.8, 8)],
         components: &["r", "theta", "phi"],
         other_directions: &["x", "z"],
+        waves: &["x", "y", "z"],
+        disk: false,
+    },
+    Geometry {
+        name: "sphere-rthetaphi",
+        physics: SPHERE,
+        axes: &[
+            ("r", 0.5, 2.0, 6),
+            ("theta", 0.3, 2.8, 6),
+            ("phi", 0.0, 2.0 * PI, 8),
+        ],
+        components: &["r", "theta", "phi"],
+        other_directions: &["x", "y", "R", "z"],
         waves: &["x", "y", "z"],
         disk: false,
     },
@@ -329,18 +342,14 @@ fn cases(g: &Geometry) -> Vec<(String, String, String, &'static str)> {
             "wave",
         ));
     }
-    if g.disk {
-        out.push((
-            "planet".into(),
-            r#"{ "kind": "planet", "mass_ratio": 1e-3, "orbit_radius": 1.2, "azimuth": 0.3, "softening": 0.1, "indirect": true, "in_potential": true }"#.into(),
-            String::new(),
-            "planet",
-        ));
+    // An azimuthal mode turns about the z axis: disks and spheres have
+    // one; the check script compares it with its formula cell by cell.
+    if g.disk || g.name.starts_with("sphere") {
         out.push((
             "mode".into(),
             r#"{ "kind": "mode", "field": "density", "amplitude": 1e-3, "relative_to": "value", "m": 2, "phase": 0.5, "radial_envelope": "exp(-(R - 1.2)^2/0.2)" }"#.into(),
             String::new(),
-            "",
+            "mode",
         ));
         if !g.axes.iter().any(|a| a.0 == "x") {
             out.push((
@@ -350,6 +359,14 @@ fn cases(g: &Geometry) -> Vec<(String, String, String, &'static str)> {
                 "",
             ));
         }
+    }
+    if g.disk {
+        out.push((
+            "planet".into(),
+            r#"{ "kind": "planet", "mass_ratio": 1e-3, "orbit_radius": 1.2, "azimuth": 0.3, "softening": 0.1, "indirect": true, "in_potential": true }"#.into(),
+            String::new(),
+            "planet",
+        ));
     }
     out
 }
@@ -427,12 +444,6 @@ fn issue9_kinds_that_do_not_fit_are_refused_naming_the_key() {
             &["mode", "balance.shape"],
         ),
         (
-            "sphere-xyz",
-            mode.into(),
-            "perturbations[0]",
-            &["balance.shape"],
-        ),
-        (
             "slab-z",
             velocity("x"),
             "perturbations[0].field",
@@ -476,6 +487,12 @@ fn issue9_kinds_that_do_not_fit_are_refused_naming_the_key() {
         ),
         (
             "disk-xy",
+            band.into(),
+            "perturbations[0].azimuthal_band",
+            &["phi axis"],
+        ),
+        (
+            "sphere-xyz",
             band.into(),
             "perturbations[0].azimuthal_band",
             &["phi axis"],

@@ -20,6 +20,11 @@ Usage: perturb_matrix_check.py MANIFEST
   - "extra" "wave": dP = c^2 drho and sum of dv_c^2 = c^2 (drho/rho)^2 at
     every cell (the linear acoustic wave, e.g. Landau & Lifshitz, Fluid
     Mechanics, section 64; the grid's components are orthonormal).
+  - "extra" "mode": drho/rho = A exp(-(R - 1.2)^2/0.2) cos(m phi - phase)
+    at every cell centre (A = 1e-3, m = 2, phase = 0.5, the profile's
+    formula; R and phi from the file's own cell-centre coordinates, with
+    the tool's documented defaults for coordinates a grid leaves out:
+    phi = 0, z = 0 on an R line, theta = pi/2 on a radius).
 Exits 1 naming every disagreement.
 """
 import json
@@ -102,7 +107,35 @@ def check(entry):
             err = big(v2 - want)
             if not err <= 1e-9 * big(want):
                 bad.append(f"{path}: |dv|^2 - c^2 (drho/rho)^2 = {err:.3e} of {big(want):.3e}")
+        if entry["extra"] == "mode":
+            R, phi = centre_R_phi(f)
+            want = 1e-3 * np.exp(-((R - 1.2) ** 2) / 0.2) * np.cos(2 * phi - 0.5)
+            got = p["density"][...] / b["density"][...]
+            err = big(got - want)
+            if not err <= 1e-14:
+                bad.append(f"{path}: drho/rho differs from the mode's formula by {err:.3e}")
     return bad
+
+
+def centre_R_phi(f):
+    """Cylindrical R and azimuth phi of every cell centre, in the file's
+    array order, from /grid/<axis>_centers."""
+    # The axes in array order: the order of the profile's grid keys (the
+    # recorded profile, as the file carries it).
+    axes = list(json.loads(f.attrs["profile"])["grid"])
+    mesh = np.meshgrid(*[f[f"grid/{a}_centers"][...] for a in axes], indexing="ij")
+    c = dict(zip(axes, mesh))
+    shape = mesh[0].shape
+    zero = np.zeros(shape)
+    if "r" in c:
+        theta = c.get("theta", zero + np.pi / 2)
+        ph = c.get("phi", zero)
+        R = c["r"] * np.sin(theta)
+        return R, ph
+    if "x" in c or "y" in c:
+        x, y = c.get("x", zero), c.get("y", zero)
+        return np.hypot(x, y), np.arctan2(y, x)
+    return c["R"], c.get("phi", zero)
 
 
 def main():

@@ -88,6 +88,58 @@ impl Peaks {
         }
     }
 
+    /// Fold in the peaks `other` saw (another part of the grid): the
+    /// largest of each, fields first seen here keeping their place.
+    pub fn merge(&mut self, other: &Peaks) {
+        for (name, p) in &other.fields {
+            match self.fields.iter_mut().find(|(n, _)| n == name) {
+                Some((_, mine)) => *mine = mine.max(*p),
+                None => self.fields.push((name.clone(), *p)),
+            }
+        }
+        for (name, d, q) in &other.potentials {
+            match self.potentials.iter_mut().find(|(n, ..)| n == name) {
+                Some((_, md, mq)) => {
+                    *md = md.max(*d);
+                    *mq = mq.max(*q);
+                }
+                None => self.potentials.push((name.clone(), *d, *q)),
+            }
+        }
+    }
+
+    /// The peaks as JSON text, every number to the bit (for passing
+    /// between MPI ranks); [`Peaks::from_json`] reads it back.
+    pub fn to_json(&self) -> String {
+        let bits = |x: f64| serde_json::Value::from(x.to_bits());
+        serde_json::json!({
+            "adiabatic": bits(self.adiabatic),
+            "fields": self.fields.iter().map(|(n, p)| serde_json::json!([n, bits(*p)])).collect::<Vec<_>>(),
+            "potentials": self.potentials.iter().map(|(n, d, q)| serde_json::json!([n, bits(*d), bits(*q)])).collect::<Vec<_>>(),
+        })
+        .to_string()
+    }
+
+    /// The peaks [`Peaks::to_json`] wrote; None for any other text.
+    pub fn from_json(text: &str) -> Option<Peaks> {
+        let v: serde_json::Value = serde_json::from_str(text).ok()?;
+        let num = |v: &serde_json::Value| v.as_u64().map(f64::from_bits);
+        let name = |v: &serde_json::Value| v.as_str().map(str::to_string);
+        Some(Peaks {
+            adiabatic: num(&v["adiabatic"])?,
+            fields: v["fields"]
+                .as_array()?
+                .iter()
+                .map(|e| Some((name(&e[0])?, num(&e[1])?)))
+                .collect::<Option<_>>()?,
+            potentials: v["potentials"]
+                .as_array()?
+                .iter()
+                .map(|e| Some((name(&e[0])?, num(&e[1])?, num(&e[2])?)))
+                .collect::<Option<_>>()?,
+        })
+    }
+
     /// The peaks of the potentials that change: (field, max |δΦ|/max |Φ|).
     pub fn potential_peaks(&self) -> Vec<(String, f64)> {
         self.potentials
@@ -290,4 +342,42 @@ pub fn parameters_json(records: &[super::Record]) -> String {
         })
         .collect();
     serde_json::Value::Array(list).to_string()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn peaks_merge_to_the_largest_and_travel_as_json_to_the_bit() {
+        let a = Peaks {
+            adiabatic: 1.4f64.sqrt(),
+            fields: vec![("density".into(), 1e-6), ("pressure".into(), 0.1 + 0.2)],
+            potentials: vec![("planet_potential".into(), 3.0, 7.0)],
+        };
+        let b = Peaks {
+            adiabatic: a.adiabatic,
+            fields: vec![("density".into(), 2e-6), ("velocity_x".into(), 5e-3)],
+            potentials: vec![("planet_potential".into(), 1.0, 9.0)],
+        };
+        assert_eq!(Peaks::from_json(&a.to_json()), Some(a.clone()));
+        let mut m = a.clone();
+        m.merge(&b);
+        assert_eq!(
+            m.fields,
+            vec![
+                ("density".to_string(), 2e-6),
+                ("pressure".to_string(), 0.1 + 0.2),
+                ("velocity_x".to_string(), 5e-3)
+            ]
+        );
+        assert_eq!(
+            m.potentials,
+            vec![("planet_potential".to_string(), 3.0, 9.0)]
+        );
+        let mut empty = Peaks::new(1.4);
+        empty.merge(&a);
+        assert_eq!(empty.fields, a.fields);
+        assert_eq!(Peaks::from_json("{}"), None);
+    }
 }

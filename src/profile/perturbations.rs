@@ -122,13 +122,15 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
             None => Ok(None),
         }
     };
-    let needs_disk = |what: &str| -> Result<(), ProfileError> {
-        if names.frame == Frame::Axisymmetric {
-            Ok(())
-        } else {
+    // An azimuth φ about the z axis: a disk's, or a sphere's (r, θ, φ);
+    // a slab's layers have no axis to turn about.
+    let needs_azimuth = |what: &str| -> Result<(), ProfileError> {
+        if names.frame == Frame::Slab {
             Err(node.error(format!(
-                "{what} needs an azimuth: it works on a disk (balance.shape \"disk\") only"
+                "{what} needs an azimuth: it works on a disk or a sphere (balance.shape \"disk\", \"stratified_disk\" or \"sphere\"), not on a slab"
             )))
+        } else {
+            Ok(())
         }
     };
     let kind = match kind {
@@ -224,7 +226,7 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
                 None => None,
                 Some(b) => {
                     let b = b.node();
-                    needs_disk("an azimuthal band")?;
+                    needs_azimuth("an azimuthal band")?;
                     let axes = names.grid.axes();
                     let has = |c: Coord| axes.iter().any(|a| a.coord == c);
                     if !has(Coord::Phi) && (has(Coord::X) || has(Coord::Y)) {
@@ -251,7 +253,7 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
             }
         }
         3 => {
-            needs_disk("a mode")?;
+            needs_azimuth("a mode")?;
             let t = target(node, names, true)?;
             let m_node = node.require("m")?;
             let m = m_node
