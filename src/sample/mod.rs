@@ -27,6 +27,7 @@
 //! rotation v_φ is projected on e_φ (on a Cartesian grid v_x = −v_φ y/R,
 //! v_y = v_φ x/R).
 
+pub mod extras;
 pub mod gauss;
 mod perturbed;
 mod slots;
@@ -37,6 +38,7 @@ use thiserror::Error;
 use crate::background::Background;
 use crate::fields::{Field, FieldSet};
 use crate::grid::{Embedding, Grid};
+pub use extras::Extras;
 use gauss::MAX_POINTS;
 pub use stream::{Cuts, Sampler};
 
