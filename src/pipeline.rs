@@ -365,20 +365,27 @@ pub fn build<'a>(
 /// The optional fields `output.fields` asks for, prepared for sampling;
 /// an error at `output.fields` for one that cannot be computed exactly.
 fn extras(loaded: &Loaded, solution: &Solution) -> Result<sample::Extras, Error> {
-    use sample::extras::{requested, Extras};
+    use sample::extras::{component_names, requested, Extras};
     let model = &loaded.model;
     let frame = model.shape.frame();
     let comps = loaded.grid.velocity_components();
     let wanted = loaded.output.fields.clone().unwrap_or_default();
     let quantities = requested(&wanted, frame, &comps);
     let rotation = match solution {
-        Solution::Torus { .. } => Err("a torus is at rest outside its surface (the floor), where              the derivatives of its rotation law do not describe the velocity written;              it is not available for a torus yet"
+        Solution::Torus { .. } => Err("a torus is at rest outside its surface (the floor), \
+             where the derivatives of its rotation law do not describe the velocity written; \
+             it is not available for a torus yet"
             .to_string()),
         Solution::Closure { .. } => {
             let laws = closure::Laws::build(model).map_err(|e| Error::closure(loaded, e))?;
             if laws.column.is_some() {
-                Err("a disk integrated up its columns (balance.vertical \"quadrature\" or a                      surface density) has no closed-form v_phi(R, z): its derivatives would need                      R-derivatives of the column integrals; give c^2(R) for the closed-form disk"
-                    .to_string())
+                Err(
+                    "a disk integrated up its columns (balance.vertical \"quadrature\" or a \
+                     surface density) has no closed-form v_phi(R, z): its derivatives would \
+                     need R-derivatives of the column integrals; give c^2(R) for the \
+                     closed-form disk"
+                        .to_string(),
+                )
             } else {
                 match (laws.rotation, laws.rotation_sq) {
                     (Some(v), _) => Ok(v),
@@ -396,7 +403,14 @@ fn extras(loaded: &Loaded, solution: &Solution) -> Result<sample::Extras, Error>
         ProfileError::at(
             &loaded.source,
             "output.fields",
-            format!("`{}` cannot be written: {}", r.field, r.why),
+            format!(
+                "`{}` cannot be written: {}",
+                component_names(r.quantity, frame, &comps)
+                    .into_iter()
+                    .find(|n| wanted.contains(n))
+                    .unwrap_or_else(|| r.quantity.name().to_string()),
+                r.why
+            ),
         )
         .into()
     })

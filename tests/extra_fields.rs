@@ -195,7 +195,9 @@ fn balance_fields(comps: &[&str]) -> Vec<String> {
 /// gravity + pressure-gradient acceleration + centrifugal term = 0 in the
 /// file, in the grid's own components, on a meridional, a spherical
 /// meridional and a Cartesian grid, at cell centres and at Gauss–Legendre
-/// nodes; each acceleration against SymPy (h5py reads the file).
+/// nodes; each acceleration against SymPy (h5py reads the file). On the
+/// meridional grid also the vorticity (−∂v_φ/∂z, the vertical shear, and
+/// (1/R) ∂(R v_φ)/∂R) and κ² against SymPy's derivatives.
 #[test]
 fn issue8_accelerations_balance_in_the_file() {
     let d = tempfile::tempdir().unwrap();
@@ -224,7 +226,18 @@ fn issue8_accelerations_balance_in_the_file() {
                 r#"{ "rule": "gauss-legendre-nodes", "points": 3 }"#,
             ),
         ] {
-            let text = profile(DISK, grid, sampling, &balance_fields(comps));
+            let mut fields = balance_fields(comps);
+            if name == "meridional" {
+                for f in [
+                    "vorticity_R",
+                    "vorticity_z",
+                    "vorticity_phi",
+                    "epicyclic_frequency_sq",
+                ] {
+                    fields.push(f.to_string());
+                }
+            }
+            let text = profile(DISK, grid, sampling, &fields);
             let tag = format!("{name}-{}", rule.replace(':', ""));
             let file = build(d.path(), &tag, &text);
             python(&["balance", &file, rule]);

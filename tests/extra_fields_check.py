@@ -39,7 +39,8 @@ import h5py
 import numpy as np
 import sympy as sp
 
-R, z = sp.symbols("R z", real=True)
+R = sp.Symbol("R", positive=True)
+z = sp.Symbol("z", real=True)
 G = M = R0 = rho0 = 1
 
 
@@ -158,6 +159,26 @@ def balance(path, rule="center"):
                 sys.exit(f"FAIL {d} has no units or sampling attribute")
 
 
+def vertical_diagnostics(path):
+    """Vorticity and kappa^2 of the stratified disk on its meridional grid,
+    against SymPy's derivatives of v_phi = sqrt(v_phi^2)(R, z)."""
+    f = h5py.File(path, "r")
+    b = f["background"]
+    if "vorticity_R" not in b:
+        return
+    Rv, zv = np.meshgrid(f["grid/R_centers"][:], f["grid/z_centers"][:], indexing="ij")
+    _, _, _, v2 = vertical_disk()
+    v = sp.sqrt(v2)
+    w_R = fn(-sp.diff(v, z))(Rv, zv)
+    w_z = fn(sp.diff(R * v, R) / R)(Rv, zv)
+    k2 = fn(sp.diff(R**2 * v2, R) / R**3)(Rv, zv)
+    scale = max(np.max(np.abs(w_R)), np.max(np.abs(w_z)))
+    close(f"{path}: vorticity_R vs SymPy", b["vorticity_R"][...], w_R, 1e-12, scale)
+    close(f"{path}: vorticity_z vs SymPy", b["vorticity_z"][...], w_z, 1e-12, scale)
+    close(f"{path}: vorticity_phi = 0", b["vorticity_phi"][...], 0.0, 1e-300, scale)
+    close(f"{path}: epicyclic_frequency_sq vs SymPy", b["epicyclic_frequency_sq"][...], k2, 1e-12)
+
+
 def powerlaw(h0):
     p, q = 1, sp.Rational(1, 2)
     cs2 = h0**2 * G * M / R0 * (R / R0) ** (-q)
@@ -218,6 +239,8 @@ def main():
         points(sys.argv[2])
     elif mode == "balance":
         balance(sys.argv[2], sys.argv[3] if len(sys.argv) > 3 else "center")
+        if len(sys.argv) <= 3 or sys.argv[3] == "center":
+            vertical_diagnostics(sys.argv[2])
     elif mode == "diagnostics":
         diagnostics(sys.argv[2], sys.argv[3])
     elif mode == "keplerian":

@@ -117,15 +117,15 @@ impl Quantity {
 /// Why a requested quantity cannot be sampled for this build.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Refusal {
-    /// The field name asked for.
-    pub field: String,
+    /// The quantity.
+    pub quantity: Quantity,
     /// Why, and what to do instead.
     pub why: String,
 }
 
 /// The field names of `q` on a grid with velocity components `comps` in
 /// `frame`.
-fn component_names(q: Quantity, frame: Frame, comps: &[Coord]) -> Vec<String> {
+pub fn component_names(q: Quantity, frame: Frame, comps: &[Coord]) -> Vec<String> {
     if !q.is_vector() {
         return vec![q.name().to_string()];
     }
@@ -200,13 +200,7 @@ impl Extras {
         rotation: Result<Expr, String>,
         lookup: &dyn Fn(&str) -> Option<f64>,
     ) -> Result<Extras, Refusal> {
-        let refuse = |q: Quantity, why: String| Refusal {
-            field: component_names(q, frame, comps)
-                .into_iter()
-                .next()
-                .unwrap_or_default(),
-            why,
-        };
+        let refuse = |q: Quantity, why: String| Refusal { quantity: q, why };
         let mut list: Vec<(&str, Expr)> = Vec::new();
         for &q in &quantities {
             if q.needs_rotation() && frame != Frame::Axisymmetric {
@@ -249,7 +243,7 @@ impl Extras {
             let refs: Vec<(&str, &Expr)> = list.iter().map(|(n, e)| (*n, e)).collect();
             Some(
                 Kernel::compile(&refs, &["R", "z"], lookup).map_err(|e| Refusal {
-                    field: "output.fields".into(),
+                    quantity: Quantity::Vorticity,
                     why: format!("the derivatives of the rotation law do not compile: {e}"),
                 })?,
             )
