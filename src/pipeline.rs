@@ -335,6 +335,23 @@ pub fn build<'a>(
         (Solution::Closure { background, domain }, metadata)
     };
     metadata.cautions.clear();
+    let grid = &loaded.grid;
+    if grid.halo().iter().any(|n| *n > 0) {
+        // Ghost layers: the grid datasets include them; say how many.
+        let per_axis: Vec<String> = grid
+            .axes()
+            .iter()
+            .zip(grid.halo())
+            .map(|(a, n)| format!("{}: {n}", a.coord.name()))
+            .collect();
+        metadata.extra.push((
+            "halo".into(),
+            format!(
+                "ghost layers per side, included in the grid and every field: {}",
+                per_axis.join(", ")
+            ),
+        ));
+    }
     let perturbations = Perturbations::bind(
         &loaded.perturbations,
         &loaded.model,
@@ -399,7 +416,7 @@ fn extras(loaded: &Loaded, solution: &Solution) -> Result<sample::Extras, Error>
         }
     };
     let lookup = |n: &str| model.lookup(n);
-    Extras::new(quantities, frame, &comps, model.gamma, rotation, &lookup).map_err(|r| {
+    Extras::new(quantities, frame, model.gamma, rotation, &lookup).map_err(|r| {
         ProfileError::at(
             &loaded.source,
             "output.fields",

@@ -359,3 +359,76 @@ fn issue8_refused_diagnostics_name_the_key() {
     );
     assert!(!d.path().join("x.h5").exists());
 }
+
+/// Ghost layers (`grid.<axis>.halo`): the axes in the file include the
+/// added cells, which continue the axis's spacing, and the background is
+/// evaluated there like anywhere else (Σ = σ0 R⁻¹ and
+/// v_φ² = GM/R − (p + q) c² of the power-law disk, the closed form of the
+/// radial balance, derived by hand: R (Φ_R + (Σc²)_R/Σ)).
+#[test]
+fn issue8_halo_layers_extend_the_axes_and_hold_the_background() {
+    let d = tempfile::tempdir().unwrap();
+    let fields = vec!["density".to_string(), "velocity_phi".to_string()];
+    let text = profile(POWERLAW, "", r#"{ "rule": "center" }"#, &fields)
+        .replace("H0", "0.05")
+        .replace(r#""spacing": "log" }"#, r#""spacing": "log", "halo": 2 }"#)
+        .replace(
+            r#""phi": { "cells": 4 }"#,
+            r#""phi": { "cells": 4, "halo": 1 }"#,
+        );
+    let file = build(d.path(), "halo", &text);
+    let f = hdf5::File::open(&file).unwrap();
+    let e = f
+        .dataset("grid/R_edges")
+        .unwrap()
+        .read_raw::<f64>()
+        .unwrap();
+    let c = f
+        .dataset("grid/R_centers")
+        .unwrap()
+        .read_raw::<f64>()
+        .unwrap();
+    let phi = f
+        .dataset("grid/phi_edges")
+        .unwrap()
+        .read_raw::<f64>()
+        .unwrap();
+    assert_eq!(c.len(), 24 + 4);
+    assert_eq!(phi.len(), 4 + 2 + 1);
+    let ratio = (2.5f64 / 0.4).powf(1.0 / 24.0);
+    assert!((e[2] - 0.4).abs() < 1e-15 && (e[26] - 2.5).abs() < 1e-15);
+    assert!((e[0] - 0.4 / ratio / ratio).abs() < 1e-14, "{}", e[0]);
+    assert!((e[28] - 2.5 * ratio * ratio).abs() < 1e-13, "{}", e[28]);
+    let tau = std::f64::consts::TAU;
+    assert!((phi[0] + tau / 4.0).abs() < 1e-14 && (phi[6] - 1.25 * tau).abs() < 1e-14);
+    let rho = f
+        .dataset("background/density")
+        .unwrap()
+        .read_raw::<f64>()
+        .unwrap();
+    let v = f
+        .dataset("background/velocity_phi")
+        .unwrap()
+        .read_raw::<f64>()
+        .unwrap();
+    let nphi = 6;
+    let mut worst = 0.0f64;
+    for (i, r) in c.iter().enumerate() {
+        let c2 = 0.05f64 * 0.05 * r.powf(-0.5);
+        let v2 = 1.0 / r - 1.5 * c2;
+        for k in 0..nphi {
+            worst = worst.max((rho[i * nphi + k] - 1.0 / r).abs() * r);
+            worst = worst.max((v[i * nphi + k] * v[i * nphi + k] - v2).abs() / v2);
+        }
+    }
+    eprintln!(
+        "halo file: Σ and v_phi^2 against the closed forms, ghost cells included: {worst:.3e}"
+    );
+    assert!(worst < 1e-13, "{worst}");
+    let halo = f
+        .attr("halo")
+        .unwrap()
+        .read_scalar::<hdf5::types::VarLenUnicode>();
+    let halo = halo.map(|s| s.to_string()).unwrap_or_default();
+    assert!(halo.contains("R: 2, phi: 1"), "{halo}");
+}

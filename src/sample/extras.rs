@@ -195,7 +195,6 @@ impl Extras {
     pub fn new(
         quantities: Vec<Quantity>,
         frame: Frame,
-        comps: &[Coord],
         gamma: f64,
         rotation: Result<Expr, String>,
         lookup: &dyn Fn(&str) -> Option<f64>,
@@ -421,7 +420,6 @@ mod tests {
         let e = Extras::new(
             vec![Quantity::AngularMomentum],
             Frame::Slab,
-            &[Coord::Z],
             1.4,
             Err("no".into()),
             &look,
@@ -430,7 +428,6 @@ mod tests {
         let e = Extras::new(
             vec![Quantity::Bernoulli],
             Frame::Axisymmetric,
-            &[Coord::R, Coord::Phi],
             1.0,
             Err("no".into()),
             &look,
