@@ -356,22 +356,21 @@ impl Extras {
                     kernel_out += 1;
                 }
                 Quantity::Bernoulli => {
-                    for i in 0..n {
+                    for (i, o) in values[slot][..n].iter_mut().enumerate() {
                         let vv = speed_sq(st, i);
-                        values[slot][i] = 0.5 * vv
+                        *o = 0.5 * vv
                             + g / (g - 1.0) * (st.pressure[i] / st.density[i])
                             + st.potential[i];
                     }
                 }
                 Quantity::Entropy => {
-                    for i in 0..n {
-                        values[slot][i] = st.pressure[i].ln() - g * st.density[i].ln();
+                    for (i, o) in values[slot][..n].iter_mut().enumerate() {
+                        *o = st.pressure[i].ln() - g * st.density[i].ln();
                     }
                 }
                 Quantity::Mach => {
-                    for i in 0..n {
-                        values[slot][i] =
-                            (speed_sq(st, i) / (st.pressure[i] / st.density[i])).sqrt();
+                    for (i, o) in values[slot][..n].iter_mut().enumerate() {
+                        *o = (speed_sq(st, i) / (st.pressure[i] / st.density[i])).sqrt();
                     }
                 }
             }

@@ -22,6 +22,9 @@
 //!   with c² the law's, and the file says so (`gas_law` = `isothermal`);
 //! * `sound_speed`: ⟨√(P/ρ)⟩, the isothermal sound speed (not √(γP/ρ));
 //! * `temperature`: ⟨(μ m_u/k_B) P/ρ⟩, only when a conversion is given.
+//! * on request (`output.fields`, see [`extras`]): the accelerations
+//!   `gravity_<c>`, `pressure_acceleration_<c>` and the diagnostic fields,
+//!   plain volume averages of their point values.
 //!
 //! Velocity components are named by [`Grid::velocity_components`]: the
 //! rotation v_φ is projected on e_φ (on a Cartesian grid v_x = −v_φ y/R,
