@@ -389,6 +389,8 @@ fn extras(loaded: &Loaded, solution: &Solution) -> Result<sample::Extras, Error>
     let wanted = loaded.output.fields.clone().unwrap_or_default();
     let quantities = requested(&wanted, frame, &comps);
     let rotation = match solution {
+        // Nothing asked for: the laws are not rebuilt.
+        _ if quantities.is_empty() => Err(String::new()),
         Solution::Torus { .. } => Err("a torus is at rest outside its surface (the floor), \
              where the derivatives of its rotation law do not describe the velocity written; \
              it is not available for a torus yet"
