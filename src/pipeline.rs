@@ -260,6 +260,8 @@ pub struct Built<'a> {
     /// (resolving samples the grid twice per step; every sampler of the
     /// build uses the same rule).
     resolved: std::sync::OnceLock<sample::Resolved>,
+    /// The accelerations and diagnostic fields `output.fields` asks for.
+    extras: sample::Extras,
     /// File metadata, without cautions: they come with the verification
     /// ([`Built::verify`], which [`Built::write_hdf5`] runs).
     pub metadata: Metadata,
@@ -333,6 +335,23 @@ pub fn build<'a>(
         (Solution::Closure { background, domain }, metadata)
     };
     metadata.cautions.clear();
+    let grid = &loaded.grid;
+    if grid.halo().iter().any(|n| *n > 0) {
+        // Ghost layers: the grid datasets include them; say how many.
+        let per_axis: Vec<String> = grid
+            .axes()
+            .iter()
+            .zip(grid.halo())
+            .map(|(a, n)| format!("{}: {n}", a.coord.name()))
+            .collect();
+        metadata.extra.push((
+            "halo".into(),
+            format!(
+                "ghost layers per side, included in the grid and every field: {}",
+                per_axis.join(", ")
+            ),
+        ));
+    }
     let perturbations = Perturbations::bind(
         &loaded.perturbations,
         &loaded.model,
@@ -349,12 +368,70 @@ pub fn build<'a>(
             crate::perturb::report::parameters_json(&perturbations.parameters()),
         ));
     }
+    let extras = extras(loaded, &solution)?;
     Ok(Built {
         loaded,
         solution,
         perturbations,
         resolved: std::sync::OnceLock::new(),
+        extras,
         metadata,
+    })
+}
+
+/// The optional fields `output.fields` asks for, prepared for sampling;
+/// an error at `output.fields` for one that cannot be computed exactly.
+fn extras(loaded: &Loaded, solution: &Solution) -> Result<sample::Extras, Error> {
+    use sample::extras::{component_names, requested, Extras};
+    let model = &loaded.model;
+    let frame = model.shape.frame();
+    let comps = loaded.grid.velocity_components();
+    let wanted = loaded.output.fields.clone().unwrap_or_default();
+    let quantities = requested(&wanted, frame, &comps);
+    let rotation = match solution {
+        // Nothing asked for: the laws are not rebuilt.
+        _ if quantities.is_empty() => Err(String::new()),
+        Solution::Torus { .. } => Err("a torus is at rest outside its surface (the floor), \
+             where the derivatives of its rotation law do not describe the velocity written; \
+             it is not available for a torus yet"
+            .to_string()),
+        Solution::Closure { .. } => {
+            let laws = closure::Laws::build(model).map_err(|e| Error::closure(loaded, e))?;
+            if laws.column.is_some() {
+                Err(
+                    "a disk integrated up its columns (balance.vertical \"quadrature\" or a \
+                     surface density) has no closed-form v_phi(R, z): its derivatives would \
+                     need R-derivatives of the column integrals; give c^2(R) for the \
+                     closed-form disk"
+                        .to_string(),
+                )
+            } else {
+                match (laws.rotation, laws.rotation_sq) {
+                    (Some(v), _) => Ok(v),
+                    (None, Some(v2)) => Ok(crate::formula::Expr::call(
+                        crate::formula::Func::Sqrt,
+                        vec![v2],
+                    )),
+                    (None, None) => Err("this background has no rotation law".to_string()),
+                }
+            }
+        }
+    };
+    let lookup = |n: &str| model.lookup(n);
+    Extras::new(quantities, frame, model.gamma, rotation, &lookup).map_err(|r| {
+        ProfileError::at(
+            &loaded.source,
+            "output.fields",
+            format!(
+                "`{}` cannot be written: {}",
+                component_names(r.quantity, frame, &comps)
+                    .into_iter()
+                    .find(|n| wanted.contains(n))
+                    .unwrap_or_else(|| r.quantity.name().to_string()),
+                r.why
+            ),
+        )
+        .into()
     })
 }
 
@@ -420,7 +497,10 @@ impl Built<'_> {
     /// The sampler of the state (background and perturbations) on the
     /// profile's grid and rule.
     pub fn sampler(&self) -> Result<Sampler<'_>, Error> {
-        Ok(self.background_sampler()?.perturbed(&self.perturbations))
+        Ok(self
+            .background_sampler()?
+            .perturbed(&self.perturbations)
+            .with_extras(&self.extras))
     }
 
     /// The sampler of the background alone; a rule to a tolerance is
@@ -490,8 +570,11 @@ impl Built<'_> {
     }
 
     fn sample_every_field(&self) -> Result<FieldSet, Error> {
-        sample::sample_whole(&self.background_sampler()?, &self.loaded.grid)
-            .map_err(|e| self.sample_error(e))
+        sample::sample_whole(
+            &self.background_sampler()?.with_extras(&self.extras),
+            &self.loaded.grid,
+        )
+        .map_err(|e| self.sample_error(e))
     }
 
     /// The groups of the file: `/background` with the sampled fields, and
@@ -535,16 +618,22 @@ impl Built<'_> {
                     names.push(f.name.as_str());
                 }
             }
+            let optional = sample::extras::optional_names(
+                self.loaded.model.shape.frame(),
+                &self.loaded.grid.velocity_components(),
+            );
             if let Some(bad) = wanted.iter().find(|w| !names.contains(&w.as_str())) {
                 return Err(crate::profile::ProfileError::at(
                     &self.loaded.source,
                     "output.fields",
                     format!(
-                        "`{bad}` is not a field of this build{}; its fields are {}",
+                        "`{bad}` is not a field of this build{}; its fields are {}; on request \
+                         also {}",
                         crate::profile::closest(bad, &names)
                             .map(|n| format!(" (did you mean `{n}`?)"))
                             .unwrap_or_default(),
-                        names.join(", ")
+                        names.join(", "),
+                        optional.join(", ")
                     ),
                 )
                 .into());

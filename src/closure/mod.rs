@@ -38,7 +38,7 @@ mod vertical;
 pub use domain::{spaced, Domain};
 pub use laws::{derived_laws, DerivedLaw, Gradients, Laws, Parts};
 
-pub use solved::{accelerations, Solved};
+pub use solved::{accelerations, vertical_accelerations, Solved};
 pub use table::{closure_for, closure_of, Closure, Gas, Integrated, LawKey, CLOSURES};
 
 use crate::background::Shape;

@@ -108,8 +108,12 @@ impl Solved {
         let refs: Vec<(&str, &Expr)> = list.iter().map(|(n, e)| (*n, e)).collect();
         let lookup = |n: &str| model.lookup(n);
         let kernel = Kernel::compile(&refs, vars, &lookup).map_err(fail("laws"))?;
-        let accel = accelerations(laws, integral.as_ref().map(|i| i.0), s);
-        let accel_refs = [("g", &accel[0]), ("a", &accel[1])];
+        let [g, a] = accelerations(laws, integral.as_ref().map(|i| i.0), s);
+        let mut accel_list = vec![("g", g), ("a", a)];
+        if let Some([gz, az]) = vertical_accelerations(laws, model.shape) {
+            accel_list.extend([("g_z", gz), ("a_z", az)]);
+        }
+        let accel_refs: Vec<(&str, &Expr)> = accel_list.iter().map(|(n, e)| (*n, e)).collect();
         let accel = Kernel::compile(&accel_refs, vars, &lookup).map_err(fail("accelerations"))?;
         let rotation_sq = laws
             .rotation_sq
@@ -204,6 +208,16 @@ impl Solved {
         }
     }
 
+    /// A vertical acceleration component: the kernel's value for a
+    /// stratified disk, 0 where the laws do not depend on z.
+    fn vertical(&self, a: f64) -> f64 {
+        if self.accel.outputs().len() > 2 {
+            a
+        } else {
+            0.0
+        }
+    }
+
     fn velocity(&self, v: f64) -> [f64; 3] {
         match (self.out.v, &self.column) {
             (Some(_), _) | (None, Some(_)) => [0.0, v, 0.0],
@@ -261,6 +275,25 @@ pub fn accelerations(laws: &Laws, kind: Option<Integrated>, s: &str) -> [Expr; 2
     [g, a.simplify()]
 }
 
+/// The vertical components −∂Φ/∂z and −(1/ρ) ∂P/∂z of a stratified disk, as
+/// formulas in (R, z) (None for other shapes): exact derivatives of the
+/// closed-form ρ and P. A disk integrated up its columns has
+/// ln P = ln P_mid(R) − ∫₀ᶻ (∂Φ/∂z)/c² dz′ (design.md §2, last row), whose
+/// z-derivative is −(∂Φ/∂z)/c² exactly (the fundamental theorem of
+/// calculus, no quadrature), so −(1/ρ) ∂P/∂z = −c² ∂ln P/∂z = ∂Φ/∂z.
+pub fn vertical_accelerations(laws: &Laws, shape: Shape) -> Option<[Expr; 2]> {
+    if shape != Shape::StratifiedDisk {
+        return None;
+    }
+    let phi_z = laws.potential.diff("z").simplify();
+    let a = match (&laws.pressure, &laws.density, &laws.column) {
+        (Some(p), Some(rho), _) => (-(p.diff("z") / rho.clone())).simplify(),
+        (_, _, Some(_)) => phi_z.clone(),
+        _ => Expr::num(f64::NAN),
+    };
+    Some([(-phi_z).simplify(), a])
+}
+
 impl Background for Solved {
     fn frame(&self) -> Frame {
         self.shape.frame()
@@ -274,7 +307,7 @@ impl Background for Solved {
 
     fn workspace(&self) -> Workspace {
         Workspace {
-            buffers: (0..ACCEL + 2).map(|_| Vec::new()).collect(),
+            buffers: (0..ACCEL + 4).map(|_| Vec::new()).collect(),
             kernels: vec![
                 self.laws.workspace(),
                 self.accel.workspace(),
@@ -289,12 +322,13 @@ impl Background for Solved {
         let s = x[0];
         let xs = &x[..self.vars];
         let mut o = [0.0; 8];
-        let mut a = [0.0; 2];
+        let mut a = [0.0; 4];
         // The registers of this thread's scalar evaluations, reused.
         let i = SCALAR.with(|w| {
             let (laws, table) = &mut *w.borrow_mut();
             self.laws.eval(xs, &mut o, laws);
-            self.accel.eval(xs, &mut a, laws);
+            self.accel
+                .eval(xs, &mut a[..self.accel.outputs().len()], laws);
             match &self.integral {
                 Some((_, t, _)) => t.at(s, table),
                 None => 0.0,
@@ -318,8 +352,8 @@ impl Background for Solved {
             pressure,
             potential: self.potential(s, o[self.out.phi]),
             velocity: self.velocity(v),
-            gravity: [a[0], 0.0, 0.0],
-            pressure_accel: [pa, 0.0, 0.0],
+            gravity: [a[0], 0.0, self.vertical(a[2])],
+            pressure_accel: [pa, 0.0, self.vertical(a[3])],
         }
     }
 
@@ -410,17 +444,24 @@ impl Background for Solved {
             None => out.velocity[1][..n].fill(0.0),
         }
         if want.accelerations {
-            let (g, a) = ws.buffers[ACCEL..ACCEL + 2].split_at_mut(1);
-            self.accel.run(
-                &coords[..self.vars],
-                &mut [&mut g[0][..n], &mut a[0][..n]],
-                &mut accel_ws[0],
-            );
-            out.gravity[0][..n].copy_from_slice(&g[0][..n]);
-            out.pressure_accel[0][..n].copy_from_slice(&a[0][..n]);
-            for c in 1..3 {
-                out.gravity[c][..n].fill(0.0);
-                out.pressure_accel[c][..n].fill(0.0);
+            let k = self.accel.outputs().len();
+            let mut outs: Vec<&mut [f64]> = ws.buffers[ACCEL..ACCEL + k]
+                .iter_mut()
+                .map(|b| &mut b[..n])
+                .collect();
+            self.accel
+                .run(&coords[..self.vars], &mut outs, &mut accel_ws[0]);
+            let b = &ws.buffers[ACCEL..];
+            out.gravity[0][..n].copy_from_slice(&b[0][..n]);
+            out.pressure_accel[0][..n].copy_from_slice(&b[1][..n]);
+            out.gravity[1][..n].fill(0.0);
+            out.pressure_accel[1][..n].fill(0.0);
+            if k > 2 {
+                out.gravity[2][..n].copy_from_slice(&b[2][..n]);
+                out.pressure_accel[2][..n].copy_from_slice(&b[3][..n]);
+            } else {
+                out.gravity[2][..n].fill(0.0);
+                out.pressure_accel[2][..n].fill(0.0);
             }
         }
         if let Some(col) = &self.column {

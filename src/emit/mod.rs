@@ -14,7 +14,7 @@
 pub mod chebyshev;
 mod lang;
 
-use crate::background::{Background, Shape};
+use crate::background::Background;
 use crate::closure::{self, Integrated, Laws};
 use crate::formula::{Cond, Expr, Func};
 use crate::keys::Keyed;
@@ -277,14 +277,11 @@ pub fn prepare(loaded: &Loaded, tolerance: f64) -> Result<Emission, crate::pipel
     }
     let mut gravity = [g, zero(), zero()];
     let mut pressure_accel = [a, zero(), zero()];
-    if m.shape == Shape::StratifiedDisk {
-        // The vertical components by exact derivatives (the background's
-        // own state carries the radial ones only).
-        gravity[2] = (-laws.potential.diff("z")).simplify();
-        pressure_accel[2] = match (&laws.pressure, &laws.density) {
-            (Some(p), Some(rho)) => (-(p.diff("z") / rho.clone())).simplify(),
-            _ => nan(),
-        };
+    if let Some([gz, az]) = closure::vertical_accelerations(&laws, m.shape) {
+        // The vertical components by exact derivatives, the formulas the
+        // background itself evaluates.
+        gravity[2] = gz;
+        pressure_accel[2] = az;
     }
     let integral = match kind {
         None => None,

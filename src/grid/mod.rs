@@ -15,6 +15,7 @@
 
 mod axis;
 mod embed;
+mod halo;
 
 use std::f64::consts::{FRAC_PI_2, PI};
 
@@ -231,6 +232,8 @@ pub struct Grid {
     axes: Vec<Axis>,
     layout: Layout,
     slab_axis: usize,
+    /// Ghost layers per side of each axis (see `halo.rs`).
+    halo: Vec<usize>,
 }
 
 impl Grid {
@@ -299,6 +302,7 @@ impl Grid {
             .position(|c| *c == Coord::Z)
             .unwrap_or(coords.len() - 1);
         Ok(Grid {
+            halo: vec![0; axes.len()],
             axes,
             layout,
             slab_axis,

@@ -220,6 +220,8 @@ pub(super) fn grid(
         return Err(node.error("expected at least one axis (R, phi, x, y, z, r or theta)"));
     }
     let mut axes = Vec::new();
+    let mut halo = Vec::new();
+    let mut halo_nodes = Vec::new();
     let mut edge_values = 0u64;
     for key in map.keys() {
         let owned = node.require(key)?;
@@ -233,7 +235,32 @@ pub(super) fn grid(
                 "unknown axis `{key}`{hint}; axes are R, phi, x, y, z, r, theta"
             )));
         };
-        ax.only_keys(&["from", "to", "cells", "spacing", "edges", "edges_file"])?;
+        ax.only_keys(&[
+            "from",
+            "to",
+            "cells",
+            "spacing",
+            "edges",
+            "edges_file",
+            "halo",
+        ])?;
+        let layers = match ax.child("halo") {
+            None => 0,
+            Some(h) => {
+                let n = match h.node().value.as_u64() {
+                    Some(n) if n <= 64 => n as usize,
+                    _ => {
+                        return Err(h
+                            .node()
+                            .error("the ghost layers per side are a whole number from 0 to 64"))
+                    }
+                };
+                // Where an error about these layers is reported.
+                halo_nodes.push((axes.len(), h.node().error(String::new())));
+                n
+            }
+        };
+        halo.push(layers);
         let err = |e: crate::grid::GridError| ax.error(e.to_string());
         // Explicit edges fix the cells themselves: any other way of choosing
         // them alongside would be silently ignored, so refuse it.
@@ -300,7 +327,15 @@ pub(super) fn grid(
             shape.join(" x ")
         )));
     }
-    Grid::new(axes).map_err(|e| node.error(e.to_string()))
+    let grid = Grid::new(axes).map_err(|e| node.error(e.to_string()))?;
+    grid.with_halo(&halo)
+        .map_err(|(a, e)| match halo_nodes.iter().find(|(i, _)| *i == a) {
+            Some((_, at)) => ProfileError {
+                message: e.to_string(),
+                ..at.clone()
+            },
+            None => node.error(e.to_string()),
+        })
 }
 
 /// An axis's edges, centres and widths are held whole: refuse before

@@ -22,11 +22,15 @@
 //!   with c² the law's, and the file says so (`gas_law` = `isothermal`);
 //! * `sound_speed`: ⟨√(P/ρ)⟩, the isothermal sound speed (not √(γP/ρ));
 //! * `temperature`: ⟨(μ m_u/k_B) P/ρ⟩, only when a conversion is given.
+//! * on request (`output.fields`, see [`extras`]): the accelerations
+//!   `gravity_<c>`, `pressure_acceleration_<c>` and the diagnostic fields,
+//!   plain volume averages of their point values.
 //!
 //! Velocity components are named by [`Grid::velocity_components`]: the
 //! rotation v_φ is projected on e_φ (on a Cartesian grid v_x = −v_φ y/R,
 //! v_y = v_φ x/R).
 
+pub mod extras;
 pub mod gauss;
 mod perturbed;
 mod slots;
@@ -37,6 +41,7 @@ use thiserror::Error;
 use crate::background::Background;
 use crate::fields::{Field, FieldSet};
 use crate::grid::{Embedding, Grid};
+pub use extras::Extras;
 use gauss::MAX_POINTS;
 pub use stream::{Cuts, Sampler};
 

@@ -23,6 +23,7 @@ use std::ops::Range;
 
 use rayon::prelude::*;
 
+use super::extras::{self, Extras};
 use super::gauss::GaussLegendre;
 use super::perturbed::{self, Perturbed};
 use super::slots::{self, Entry, Slots, RHO};
@@ -148,6 +149,7 @@ struct ThreadBuffers {
     bad: Vec<(usize, slots::Failure)>,
     weight: Vec<f64>,
     perturbed: Option<perturbed::Buffers>,
+    extras: Option<extras::Buffers>,
 }
 
 /// A background prepared for sampling on a grid under a rule. Produces the
@@ -174,6 +176,8 @@ pub struct Sampler<'a> {
     sampling: String,
     /// Perturbations added at every point, when there are any.
     perturb: Option<Perturbed<'a>>,
+    /// Fields sampled on request, with their first slot and slot count.
+    extras: Option<(&'a Extras, usize, usize)>,
     /// The groups of fields a slab holds, in order: (name, count).
     groups: Vec<(&'static str, usize)>,
     /// Reduced arrays of earlier slabs, for reuse.
@@ -254,6 +258,7 @@ impl<'a> Sampler<'a> {
             entries,
             sampling: rule.describe(grid),
             perturb: None,
+            extras: None,
             groups,
             scratch: std::sync::Mutex::new(Vec::new()),
         })
@@ -276,6 +281,7 @@ impl<'a> Sampler<'a> {
         if p.is_empty() {
             return self;
         }
+        debug_assert!(self.extras.is_none(), "perturb before adding extras");
         let pt = Perturbed::new(p, self.grid, self.slots);
         let (state, alone) = pt.entries(&self.entries);
         let nb = self.entries.len();
@@ -289,6 +295,33 @@ impl<'a> Sampler<'a> {
         self.active = vec![true; self.grid.axes().len()];
         self.lane = self.active.len() - 1;
         self.perturb = Some(pt);
+        self
+    }
+
+    /// Sample the fields of `x` too (the accelerations and diagnostic
+    /// fields asked for in `output.fields`), at the same points and by the
+    /// same rule, appended to the `background` group. Call after
+    /// [`Sampler::perturbed`]: they are fields of the equilibrium.
+    pub fn with_extras(mut self, x: &'a Extras) -> Sampler<'a> {
+        if x.is_empty() {
+            return self;
+        }
+        let placement = self.entries[0].spec.placement.clone();
+        let specs = x.specs(self.embed.components(), &placement);
+        let first = self.value_slots();
+        let at = self.groups[0].1;
+        let new: Vec<Entry> = specs
+            .into_iter()
+            .enumerate()
+            .map(|(k, spec)| Entry {
+                spec,
+                slot: first + k,
+            })
+            .collect();
+        let count = new.len();
+        self.entries.splice(at..at, new);
+        self.groups[0].1 += count;
+        self.extras = Some((x, first, count));
         self
     }
 
@@ -308,7 +341,9 @@ impl<'a> Sampler<'a> {
     /// Value slots of a point: the background's, and with perturbations
     /// the perturbed state's and the perturbation's.
     fn value_slots(&self) -> usize {
-        self.slots.len() - 1 + self.perturb.as_ref().map_or(0, Perturbed::extra_slots)
+        self.slots.len() - 1
+            + self.perturb.as_ref().map_or(0, Perturbed::extra_slots)
+            + self.extras.map_or(0, |e| e.2)
     }
 
     /// Values the reduced array of a slab of `rows` rows holds (for memory
@@ -460,6 +495,7 @@ impl<'a> Sampler<'a> {
             bad: Vec::new(),
             weight: vec![0.0; LANES],
             perturbed: self.perturb.as_ref().map(Perturbed::buffers),
+            extras: self.extras.map(|(x, ..)| x.buffers(self.slots.ncomp)),
         }
     }
 
@@ -524,8 +560,10 @@ impl<'a> Sampler<'a> {
                 let grid_lanes: Vec<&[f64]> = buf.grid.iter().map(|v| &v[..n]).collect();
                 self.embed.to_frame(&grid_lanes, n, &mut buf.frame);
                 let frame: Vec<&[f64]> = buf.frame[..dims].iter().map(|v| &v[..n]).collect();
-                self.bg
-                    .eval(&frame, Want::default(), &mut buf.state, &mut buf.bg);
+                let want = Want {
+                    accelerations: self.extras.is_some_and(|x| x.0.needs_accelerations()),
+                };
+                self.bg.eval(&frame, want, &mut buf.state, &mut buf.bg);
                 self.embed.project(
                     &grid_lanes,
                     &frame,
@@ -559,6 +597,18 @@ impl<'a> Sampler<'a> {
                         &self.gas,
                         pb,
                         &mut buf.values,
+                        &mut buf.bad,
+                    );
+                }
+                if let (Some((x, first, count)), Some(xb)) = (self.extras, buf.extras.as_mut()) {
+                    x.fill(
+                        &grid_lanes,
+                        &frame,
+                        &buf.state,
+                        n,
+                        &self.embed,
+                        xb,
+                        &mut buf.values[first..first + count],
                         &mut buf.bad,
                     );
                 }
