@@ -194,7 +194,14 @@ fn issue7_check_lists_stability_for_every_bundled_profile() {
         ),
         (
             "warm-layer-disk",
-            &["kappa^2", "SH 1", "SH 2", "N_z^2", "R dOmega/dz", "Toomre Q"],
+            &[
+                "kappa^2",
+                "SH 1",
+                "SH 2",
+                "N_z^2",
+                "R dOmega/dz",
+                "Toomre Q",
+            ],
         ),
         ("powerlaw-disk", &["kappa^2", "Toomre Q"]),
         ("ring-disk", &["kappa^2"]),

@@ -458,7 +458,7 @@ pub fn from_text(
             .stratified_along(coord)
             .map_err(|e| a.error(e.to_string()))?;
     }
-    check_grid_matches(&grid, shape, label)?;
+    check_grid_matches(&grid, shape, balance.child("torus").is_some(), label)?;
     let sampling = match top.child("sampling") {
         None => SamplingRule::Center,
         Some(s) => sampling(s.node())?,

@@ -356,9 +356,21 @@ fn cell_count(
 pub(super) fn check_grid_matches(
     grid: &Grid,
     shape: Shape,
+    torus: bool,
     label: &str,
 ) -> Result<(), ProfileError> {
     use crate::grid::Layout;
+    // A torus is solved in (R, z) whatever the grid: midplane grids see its
+    // z = 0 plane, grids with height the whole torus.
+    let shape = if torus
+        && shape == Shape::DiskMidplane
+        && grid.axes().len() > 1
+        && !matches!(grid.layout(), Layout::Polar | Layout::Cartesian)
+    {
+        Shape::StratifiedDisk
+    } else {
+        shape
+    };
     let ok = match shape {
         Shape::Slab => matches!(
             grid.layout(),
