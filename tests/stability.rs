@@ -210,6 +210,7 @@ fn issue7_check_lists_stability_for_every_bundled_profile() {
         ("layered-atmosphere", &["N^2"]),
         ("stratified-box-2d", &["N^2"]),
         ("polytropic-envelope", &["N^2"]),
+        ("planet-envelope-box", &["N^2"]),
         ("thick-torus", &["kappa^2"]),
     ];
     for (name, items) in expect {
