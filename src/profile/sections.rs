@@ -609,9 +609,9 @@ pub(super) fn output(node: Node) -> Result<OutputSpec, ProfileError> {
 /// `balance.edges`: a smooth inner cavity (`cavity`: `radius`, `width`), a
 /// smooth outer edge (`rim`: `radius`, `width`) and a `floor`, applied to
 /// the density law (or the surface density) *before* the balance is
-/// solved: law → law · ½(1 + tanh((R − R_c)/w_c)) · ½(1 − tanh((R − R_r)/w_r))
-/// + floor. The rotation then comes from the tapered law, which stays an
-/// exact equilibrium.
+/// solved: law → floor + law · ½(1 + tanh((R − R_c)/w_c)) ·
+/// ½(1 − tanh((R − R_r)/w_r)). The rotation then comes from the tapered
+/// law, which stays an exact equilibrium.
 pub(super) fn edges(
     node: Node,
     consts: &[&str],
