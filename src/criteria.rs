@@ -21,18 +21,24 @@
 //!   ≈ |q| h Ω for T ∝ R^q; Nelson, Gressel & Umurhan 2013, MNRAS 435, 2610;
 //!   from memory). For the column closure ∂_z v_φ² comes from the thermal
 //!   wind relation R ∂_z Ω² = (∂_z P ∂_R ρ − ∂_R P ∂_z ρ)/ρ² (the curl of the
-//!   two balances), which needs only first derivatives; ∂_R j² would need
-//!   ∂²P/∂R², which that closure does not carry, so κ² and Solberg–Høiland
-//!   are listed as not available there.
+//!   two balances), which needs only first derivatives, and ∂_R v_φ² from
+//!   the second R-derivative of the column integrand taken under the
+//!   integral sign (`closure::curvature`).
+//! * Stratified disks normalised to a surface density Σ(R): Toomre's
+//!   Q = c κ/(π G Σ) at the midplane (c = √c²(R, 0), κ² at z = 0; Toomre
+//!   1964, ApJ 139, 1217).
 //!
 //! Owns: the diagnostics and their text. Does not own: N² and κ² on a line
 //! (`stability`), the laws (`closure`).
 
+use std::cell::RefCell;
+use std::collections::HashMap;
 use std::fmt;
 
 use crate::background::{Background, Shape};
+use crate::closure::curvature::Curvature;
 use crate::closure::{self, show, ClosureError, Domain, Laws};
-use crate::formula::{Expr, Program};
+use crate::formula::{Expr, Program, Workspace};
 use crate::grid::Grid;
 use crate::model::Model;
 use crate::stability::{Valued, THRESHOLD};
@@ -219,6 +225,10 @@ fn diagnostic(
 
 const KAPPA: &str = "Rayleigh (1917): kappa^2 = R^-3 d(R^4 Omega^2)/dR > 0 is stable to \
                      axisymmetric perturbations; < 0 where (R v_phi)^2 falls outward";
+const TOOMRE_MID: &str = "Toomre (1964): Q = c kappa/(pi G Sigma), c the midplane sound speed \
+                          sqrt(c^2(R, 0)), kappa at z = 0, Sigma the given surface density; Q < 1 is \
+                          unstable to axisymmetric rings if the simulation includes the disk's \
+                          self-gravity (the background here has none)";
 const TOOMRE: &str = "Toomre (1964): Q = c kappa/(pi G Sigma), c the isothermal sound speed \
                       sqrt(P/Sigma); Q < 1 is unstable to axisymmetric rings if the simulation includes the disk's \
                       self-gravity (the background here has none)";
@@ -333,15 +343,36 @@ fn field(model: &Model, e: &Expr, what: &str) -> Result<Program, ClosureError> {
         })
 }
 
+/// The column integrals [I, I′, I″] per radius (points share radii), and
+/// the scratch of the curvature's kernels.
+#[derive(Default)]
+struct ColumnCache {
+    by_r: RefCell<HashMap<u64, Option<Option<[f64; 3]>>>>,
+    ws: RefCell<Workspace>,
+}
+
+impl ColumnCache {
+    /// The integrals at r: Some(None) without a surface density, None where
+    /// the column could not be integrated.
+    fn get(&self, r: f64, curv: &Curvature, ws: &mut Workspace) -> Option<Option<[f64; 3]>> {
+        *self
+            .by_r
+            .borrow_mut()
+            .entry(r.to_bits())
+            .or_insert_with(|| curv.column_integrals(r, ws).ok())
+    }
+}
+
 /// The local derivatives at (R, z): symbolic for the closed form, from the
 /// background's exact pressure-gradient acceleration and the thermal wind
 /// relation for the column closure.
 fn locals<'a>(
     model: &Model,
     bg: &'a dyn Background,
+    domain: &Domain,
 ) -> Result<Box<dyn Fn(f64, f64) -> Local + 'a>, ClosureError> {
     let laws = Laws::build(model)?;
-    if laws.column.is_some() {
+    if let Some(cl) = &laws.column {
         let c2 = laws
             .sound_speed_sq
             .clone()
@@ -353,7 +384,14 @@ fn locals<'a>(
         // the vertical one is −∂Φ/∂z, the balance each column is integrated
         // from (∂ ln P/∂z = −Φ_z/c²).
         let phi_z = field(model, &laws.potential.diff("z"), "potential")?;
+        let curv = Curvature::new(model, cl, &c2, domain)?;
+        let ints = ColumnCache::default();
         return Ok(Box::new(move |r, z| {
+            let mut ws = ints.ws.borrow_mut();
+            let i = ints.get(r, &curv, &mut ws);
+            let v2_r = i
+                .map(|i| curv.at(r, z, i, &mut ws).v2_r)
+                .unwrap_or(f64::NAN);
             let st = bg.at(&[r, z]);
             let (rho, p) = (st.density, st.pressure);
             let x = [r, z];
@@ -371,7 +409,7 @@ fn locals<'a>(
                 p_r,
                 p_z,
                 v2: st.rotation().powi(2),
-                v2_r: None,
+                v2_r: Some(v2_r),
                 v2_z: r * (p_z * rho_r - p_r * rho_z) / (rho * rho),
             }
         }));
@@ -488,7 +526,7 @@ fn stratified(
     };
     let coords = sec.coords.clone();
     let column = Laws::build(model)?.column.is_some();
-    let at = locals(model, bg)?;
+    let at = locals(model, bg, domain)?;
     let pts = grid
         .and_then(|g| grid_points(g, column))
         .unwrap_or_else(|| field_points(model, domain, column));
@@ -516,22 +554,14 @@ fn stratified(
             )
         })
     };
-    if column {
-        sec.skipped.push(
-            "kappa^2, SH 1, SH 2   not available for the column closure: d(R^2 v_phi^2)/dR \
-             needs d^2P/dR^2, which the quadrature does not carry"
-                .to_string(),
-        );
-    } else {
-        let k2: Criterion = Box::new(|p| {
-            let l = loc(p);
-            let (v, s) = j2r(&l).unwrap_or((f64::NAN, f64::NAN));
-            let r3 = l.r.powi(3);
-            (v / r3, s / r3)
-        });
-        sec.items
-            .push(diagnostic(&coords, &pts, "kappa^2", &k2, true, KAPPA));
-    }
+    let k2: Criterion = Box::new(|p| {
+        let l = loc(p);
+        let (v, s) = j2r(&l).unwrap_or((f64::NAN, f64::NAN));
+        let r3 = l.r.powi(3);
+        (v / r3, s / r3)
+    });
+    sec.items
+        .push(diagnostic(&coords, &pts, "kappa^2", &k2, true, KAPPA));
     let isothermal = crate::physics::is_isothermal(gamma);
     if isothermal {
         sec.skipped.push(
@@ -540,7 +570,7 @@ fn stratified(
                 .to_string(),
         );
     } else {
-        if !column {
+        {
             let sh1: Criterion = Box::new(|p| {
                 let l = loc(p);
                 let (sr, sz, ar, az) = ds(&l);
@@ -605,5 +635,52 @@ fn stratified(
             .to_string(),
     });
     sec.items.push(d);
+    if let Some(sigma) = &model.surface_density {
+        sec.items
+            .push(toomre_mid(model, &sigma.expr, domain, &*at)?);
+    }
     Ok(sec)
+}
+
+/// Toomre's Q at the midplane of a stratified disk normalised to Σ(R): at
+/// up to 33 radii of the domain's scan points, Q = c(R, 0) κ(R, 0)/(π G Σ).
+fn toomre_mid(
+    model: &Model,
+    sigma: &Expr,
+    domain: &Domain,
+    at: &dyn Fn(f64, f64) -> Local,
+) -> Result<Diagnostic, ClosureError> {
+    let g = closure::compile(model, &Expr::name("G"), "G")?.eval(&[1.0]);
+    let sig = closure::compile(model, sigma, "balance.surface_density")?;
+    let c2 = Laws::build(model)?
+        .sound_speed_sq
+        .ok_or_else(|| ClosureError::Incomplete("Toomre's Q needs c^2".into()))?;
+    let c2 = field(model, &c2, "gas.sound_speed_sq")?;
+    let xs = domain.scan_points_for(model);
+    let step = xs.len().div_ceil(33).max(1);
+    let mut rs: Vec<f64> = xs.iter().copied().step_by(step).collect();
+    if rs.last() != xs.last() {
+        rs.extend(xs.last());
+    }
+    let pts: Vec<Vec<f64>> = rs.iter().map(|&r| vec![r, 0.0]).collect();
+    let qs: Vec<f64> = rs
+        .iter()
+        .map(|&r| {
+            let l = at(r, 0.0);
+            let k2 = l.v2_r.map_or(f64::NAN, |d| (2.0 * l.v2 + r * d) / (r * r));
+            c2.eval(&[r, 0.0]).sqrt() * k2.sqrt() / (std::f64::consts::PI * g * sig.eval(&[r]))
+        })
+        .collect();
+    let q = |p: &[f64]| {
+        let i = rs
+            .iter()
+            .position(|r| r.to_bits() == p[0].to_bits())
+            .expect("a scanned radius");
+        (qs[i] - 1.0, qs[i])
+    };
+    let coords = ["R", "z"];
+    let mut d = diagnostic(&coords, &pts, "Toomre Q", &q, true, TOOMRE_MID);
+    d.min.0 += 1.0;
+    d.max.0 += 1.0;
+    Ok(d)
 }

@@ -10,7 +10,7 @@ fn tmp() -> tempfile::TempDir {
     tempfile::tempdir().unwrap()
 }
 
-const BUNDLED: [&str; 15] = [
+const BUNDLED: [&str; 18] = [
     "quiet-slab",
     "layered-atmosphere",
     "powerlaw-disk",
@@ -26,6 +26,9 @@ const BUNDLED: [&str; 15] = [
     "noisy-disk",
     "noisy-disk-3d",
     "warm-layer-disk",
+    "thick-torus",
+    "polytropic-envelope",
+    "planet-envelope-box",
 ];
 
 #[test]

@@ -324,3 +324,136 @@ fn issue7_column_without_rotation_is_refused() {
     assert!(t.contains("v_phi^2 < 0") && t.contains("(R, z) = ("), "{t}");
     assert!(!d.path().join("steep.h5").exists());
 }
+
+/// ∂v_φ²/∂R of the column closure (the second R-derivative of the integrand
+/// under the integral sign, `closure::curvature`) at points in and above
+/// the warm layer: v_φ² agrees with the background's, and κ² with mpmath
+/// at 30 digits (tests/curvature_check.py, mpmath.quad + mpmath.diff) to
+/// 1e-10; `check` lists κ² and both Solberg–Høiland criteria, all stable.
+#[test]
+fn issue7_column_kappa_matches_mpmath() {
+    let l = load(WARM);
+    let (bg, domain) = pipeline::solve(&l).unwrap();
+    let lines = curvature_lines(&l, &bg, &domain);
+    let d = tempfile::tempdir().unwrap();
+    let pts = d.path().join("points.txt");
+    std::fs::write(&pts, lines).unwrap();
+    let mut args = vec![pts.to_str().unwrap(), "warm"];
+    args.extend(WARM_ARGS);
+    python("curvature_check.py", &args);
+    let c = pipeline::centres_for(&l.grid, l.model.shape.frame());
+    let report = check::run(&l.model, &bg, &domain, &c, 1e-10).unwrap();
+    let sec = stillpoint::criteria::section(&l.model, &bg, &domain, Some(&l.grid)).unwrap();
+    for name in ["kappa^2", "SH 1", "SH 2", "N_z^2"] {
+        let dg = sec.get(name).unwrap_or_else(|| panic!("{name}: {sec}"));
+        assert!(dg.fails.is_none() && dg.min.0 > 0.0, "{name}: {sec}");
+    }
+    assert!(!report.to_string().contains("not available"), "{report}");
+}
+
+/// "v2r R z value" lines of `Curvature` at points in and above the layer,
+/// after checking its v_φ² against the background's.
+fn curvature_lines(
+    l: &Loaded,
+    bg: &dyn Background,
+    domain: &stillpoint::closure::Domain,
+) -> String {
+    use stillpoint::closure::curvature::Curvature;
+    let laws = stillpoint::closure::Laws::build(&l.model).unwrap();
+    let cl = laws.column.as_ref().unwrap();
+    let c2 = laws.sound_speed_sq.as_ref().unwrap();
+    let curv = Curvature::new(&l.model, cl, c2, domain).unwrap();
+    let mut ws = stillpoint::formula::Workspace::new();
+    let mut out = String::new();
+    for r in [0.6f64, 1.0, 1.7, 2.4] {
+        let ints = curv.column_integrals(r, &mut ws).unwrap();
+        for u in [0.0f64, 1.5, 3.0, 4.5] {
+            let z = u * 0.05 * r;
+            let c = curv.at(r, z, ints, &mut ws);
+            let v2 = bg.at(&[r, z]).rotation().powi(2);
+            assert!(
+                (c.v2 / v2 - 1.0).abs() < 1e-11,
+                "R {r} z {z}: {} {v2}",
+                c.v2
+            );
+            out.push_str(&format!("v2r {r:e} {z:e} {:.17e}\n", c.v2_r));
+        }
+    }
+    out
+}
+
+/// Toomre's Q at the midplane of a vertically isothermal disk normalised
+/// to Σ over the grid's heights: against mpmath (Q = c κ/(π G Σ), Toomre
+/// 1964, ApJ 139, 1217; tests/curvature_check.py) to 1e-10 at the
+/// section's extremes and at four radii, and against the closed form of a
+/// Keplerian disk, κ = Ω_K, Q_K = c Ω_K/(π G Σ), to the pressure
+/// correction O(h²) (common practice, no source for the bound).
+#[test]
+fn issue7_toomre_q_of_a_stratified_disk_matches_mpmath() {
+    let text = surface("grid")
+        .replace(
+            "*(1 + (A - 1)*0.5*(1 + tanh((abs(z)/(h0*R) - zt)/dzt)))",
+            "",
+        )
+        .replace(r#""vertical": "quadrature","#, "");
+    let l = load(&text);
+    let (bg, domain) = pipeline::solve(&l).unwrap();
+    let sec = stillpoint::criteria::section(&l.model, &bg, &domain, Some(&l.grid)).unwrap();
+    let q = sec.get("Toomre Q").unwrap_or_else(|| panic!("{sec}"));
+    assert!(q.fails.is_none(), "{sec}");
+    let mut lines = String::new();
+    for (v, at) in [&q.min, &q.max] {
+        lines.push_str(&format!("Q {:e} {:.17e}\n", at[0], v));
+        // Keplerian closed form: c = h0 (G M/R)^1/2 ... here c^2 = h0^2/R
+        // (G = M = R0 = 1), Ω_K = R^-3/2, Σ = 0.002/R.
+        let r = at[0];
+        let qk = (0.05f64.powi(2) / r).sqrt() * r.powf(-1.5) / (std::f64::consts::PI * 0.002 / r);
+        let dev = (v / qk - 1.0).abs();
+        assert!(
+            dev < 5.0 * 0.05f64.powi(2) && dev > 1e-6,
+            "R {r}: Q {v}, Q_K {qk}"
+        );
+    }
+    // Four radii straight from the curvature (the section's own path).
+    use stillpoint::closure::curvature::Curvature;
+    let laws = stillpoint::closure::Laws::build(&l.model).unwrap();
+    let curv = Curvature::new(
+        &l.model,
+        laws.column.as_ref().unwrap(),
+        laws.sound_speed_sq.as_ref().unwrap(),
+        &domain,
+    )
+    .unwrap();
+    assert!(curv.has_surface());
+    let mut ws = stillpoint::formula::Workspace::new();
+    for r in [0.6f64, 1.0, 1.7, 2.4] {
+        let ints = curv.column_integrals(r, &mut ws).unwrap();
+        let c = curv.at(r, 0.0, ints, &mut ws);
+        let v2 = bg.at(&[r, 0.0]).rotation().powi(2);
+        assert!((c.v2 / v2 - 1.0).abs() < 1e-11, "R {r}: {} {v2}", c.v2);
+        let kappa = ((2.0 * c.v2 + r * c.v2_r) / (r * r)).sqrt();
+        let qv = (0.05f64.powi(2) / r).sqrt() * kappa / (std::f64::consts::PI * 0.002 / r);
+        lines.push_str(&format!("Q {r:e} {qv:.17e}\n"));
+        for u in [1.0f64, 2.5] {
+            let z = u * 0.05 * r;
+            let c = curv.at(r, z, ints, &mut ws);
+            lines.push_str(&format!("v2r {r:e} {z:e} {:.17e}\n", c.v2_r));
+        }
+    }
+    let d = tempfile::tempdir().unwrap();
+    let pts = d.path().join("points.txt");
+    std::fs::write(&pts, lines).unwrap();
+    python(
+        "curvature_check.py",
+        &[
+            pts.to_str().unwrap(),
+            "sigma",
+            "M=1",
+            "h0=0.05",
+            "q=-1",
+            "sigma0=0.002",
+            "zmax=0.3",
+            "R0=1",
+        ],
+    );
+}

@@ -194,7 +194,14 @@ fn issue7_check_lists_stability_for_every_bundled_profile() {
         ),
         (
             "warm-layer-disk",
-            &["N_z^2", "R dOmega/dz", "not available"],
+            &[
+                "kappa^2",
+                "SH 1",
+                "SH 2",
+                "N_z^2",
+                "R dOmega/dz",
+                "Toomre Q",
+            ],
         ),
         ("powerlaw-disk", &["kappa^2", "Toomre Q"]),
         ("ring-disk", &["kappa^2"]),
@@ -203,6 +210,7 @@ fn issue7_check_lists_stability_for_every_bundled_profile() {
         ("layered-atmosphere", &["N^2"]),
         ("stratified-box-2d", &["N^2"]),
         ("polytropic-envelope", &["N^2"]),
+        ("planet-envelope-box", &["N^2"]),
         ("thick-torus", &["kappa^2"]),
     ];
     for (name, items) in expect {

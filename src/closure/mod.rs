@@ -24,6 +24,7 @@
 pub mod axis;
 mod barotropic;
 pub mod column;
+pub mod curvature;
 pub mod defined;
 mod domain;
 pub mod existence;

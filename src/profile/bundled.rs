@@ -60,6 +60,10 @@ pub const BUNDLED: &[(&str, &str)] = &[
         "polytropic-envelope",
         include_str!("../../profiles/polytropic-envelope.json"),
     ),
+    (
+        "planet-envelope-box",
+        include_str!("../../profiles/planet-envelope-box.json"),
+    ),
 ];
 
 /// The text of a bundled profile by name.

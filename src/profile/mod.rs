@@ -272,6 +272,7 @@ pub fn from_text(
         "vertical",
         "surface_density",
         "column",
+        "edges",
     ])?;
     let shape = balance.require("shape")?.node().choice(Shape::KEYS)?;
     let unknown = balance.require("solve_for")?.node().choice(Unknown::KEYS)?;
@@ -286,10 +287,25 @@ pub fn from_text(
             })),
         }
     };
-    let density = law("density")?;
+    let mut density = law("density")?;
     let rotation = law("rotation")?;
     let pressure = law("pressure")?;
-    let surface_density = law("surface_density")?;
+    let mut surface_density = law("surface_density")?;
+    if let Some(e) = balance.child("edges") {
+        let e = e.node();
+        if !shape.is_disk() {
+            return Err(e.error(
+                "edges taper a disk's density in R: give balance.shape \"disk\" or \"stratified_disk\"",
+            ));
+        }
+        let tapered = sections::edges(e, &consts, &lookup)?;
+        match (&mut surface_density, &mut density) {
+            (Some(l), _) | (None, Some(l)) => l.expr = tapered.apply(l.expr.clone()),
+            (None, None) => return Err(e.error(
+                "edges taper the density law: give balance.density (or balance.surface_density)",
+            )),
+        }
+    }
     let vertical = match balance.child("vertical") {
         None => Vertical::ClosedForm,
         Some(n) => {
@@ -458,7 +474,7 @@ pub fn from_text(
             .stratified_along(coord)
             .map_err(|e| a.error(e.to_string()))?;
     }
-    check_grid_matches(&grid, shape, label)?;
+    check_grid_matches(&grid, shape, balance.child("torus").is_some(), label)?;
     let sampling = match top.child("sampling") {
         None => SamplingRule::Center,
         Some(s) => sampling(s.node())?,

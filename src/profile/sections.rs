@@ -391,9 +391,21 @@ fn cell_count(
 pub(super) fn check_grid_matches(
     grid: &Grid,
     shape: Shape,
+    torus: bool,
     label: &str,
 ) -> Result<(), ProfileError> {
     use crate::grid::Layout;
+    // A torus is solved in (R, z) whatever the grid: midplane grids see its
+    // z = 0 plane, grids with height the whole torus.
+    let shape = if torus
+        && shape == Shape::DiskMidplane
+        && grid.axes().len() > 1
+        && !matches!(grid.layout(), Layout::Polar | Layout::Cartesian)
+    {
+        Shape::StratifiedDisk
+    } else {
+        shape
+    };
     let ok = match shape {
         Shape::Slab => matches!(
             grid.layout(),
@@ -627,4 +639,98 @@ pub(super) fn output(node: Node) -> Result<OutputSpec, ProfileError> {
         fields,
         filters: crate::output::Filters { deflate, shuffle },
     })
+}
+
+/// `balance.edges`: a smooth inner cavity (`cavity`: `radius`, `width`), a
+/// smooth outer edge (`rim`: `radius`, `width`) and a `floor`, applied to
+/// the density law (or the surface density) *before* the balance is
+/// solved: law → floor + law · ½(1 + tanh((R − R_c)/w_c)) ·
+/// ½(1 − tanh((R − R_r)/w_r)). The rotation then comes from the tapered
+/// law, which stays an exact equilibrium.
+pub(super) fn edges(
+    node: Node,
+    consts: &[&str],
+    lookup: &dyn Fn(&str) -> Option<f64>,
+) -> Result<Tapered, ProfileError> {
+    use crate::formula::Func;
+    node.only_keys(&["cavity", "rim", "floor"])?;
+    let half = |sign: f64, c: Node| -> Result<(f64, Expr), ProfileError> {
+        c.only_keys(&["radius", "width"])?;
+        let radius = c.require("radius")?.node().value(consts, lookup)?;
+        let w = c.require("width")?;
+        let width = w.node().value(consts, lookup)?;
+        if radius.is_nan() || radius <= 0.0 {
+            return Err(c
+                .require("radius")?
+                .node()
+                .error(format!("{radius} is not a radius; give a positive number")));
+        }
+        if width.is_nan() || width <= 0.0 {
+            return Err(w.node().error(format!(
+                "{width} is not a width: give a positive length (the distance over which the \
+                 taper rises from 12% to 88%: about a width on either side of the radius)"
+            )));
+        }
+        let arg = (Expr::name("R") - Expr::num(radius)) / Expr::num(width);
+        let t =
+            Expr::num(0.5) * (Expr::num(1.0) + Expr::num(sign) * Expr::call(Func::Tanh, vec![arg]));
+        Ok((radius, t))
+    };
+    let mut factor: Option<Expr> = None;
+    let mut cavity_radius = None;
+    if let Some(c) = node.child("cavity") {
+        let (r, t) = half(1.0, c.node())?;
+        cavity_radius = Some(r);
+        factor = Some(t);
+    }
+    if let Some(c) = node.child("rim") {
+        let (r, t) = half(-1.0, c.node())?;
+        if let Some(inner) = cavity_radius {
+            if r <= inner {
+                return Err(c.node().error(format!(
+                    "the rim's radius {r} lies inside the cavity's {inner}: nothing would be left"
+                )));
+            }
+        }
+        factor = Some(match factor {
+            Some(f) => f * t,
+            None => t,
+        });
+    }
+    let floor = match node.child("floor") {
+        None => None,
+        Some(f) => {
+            let v = f.node().value(consts, lookup)?;
+            if v.is_nan() || v <= 0.0 {
+                return Err(f
+                    .node()
+                    .error(format!("{v} is not a floor: give a positive density")));
+            }
+            Some(v)
+        }
+    };
+    if factor.is_none() && floor.is_none() {
+        return Err(node.error("give at least one of cavity, rim or floor"));
+    }
+    Ok(Tapered { factor, floor })
+}
+
+/// What `balance.edges` does to a law.
+pub(super) struct Tapered {
+    factor: Option<Expr>,
+    floor: Option<f64>,
+}
+
+impl Tapered {
+    /// law · factor + floor.
+    pub(super) fn apply(&self, law: Expr) -> Expr {
+        let law = match &self.factor {
+            Some(f) => law * f.clone(),
+            None => law,
+        };
+        match self.floor {
+            Some(v) => law + Expr::num(v),
+            None => law,
+        }
+    }
 }
