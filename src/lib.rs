@@ -40,6 +40,7 @@ pub mod cli;
 pub mod closure;
 pub mod confirm;
 pub mod criteria;
+pub mod drift;
 pub mod emit;
 pub mod estimate;
 pub mod fields;

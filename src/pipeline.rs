@@ -217,6 +217,61 @@ pub fn perturbations_alone(loaded: &Loaded, bg: &dyn Background) -> Vec<Result<A
         .collect()
 }
 
+/// The drift forecast of the background on the profile's grid and rule
+/// (see [`crate::drift`]), against `amplitude` when given, else against the
+/// largest peak of the profile's perturbations (each sampled alone).
+pub fn drift_forecast(
+    loaded: &Loaded,
+    bg: &dyn Background,
+    domain: &Domain,
+    amplitude: Option<f64>,
+    alone: &[Alone],
+) -> Result<crate::drift::Drift, crate::drift::DriftError> {
+    let cuts = Cuts {
+        coordinate: loaded.model.shape.coordinate().to_string(),
+        at: domain
+            .switches(&loaded.model)
+            .iter()
+            .map(|w| w.at)
+            .collect(),
+    };
+    let amplitude = match amplitude {
+        Some(a) => Some((a, "--amplitude".to_string())),
+        None => alone
+            .iter()
+            .map(|a| {
+                (
+                    a.peaks.largest(),
+                    format!("the largest peak of {} ({})", a.origin, a.kind),
+                )
+            })
+            .filter(|a| a.0.is_finite() && a.0 > 0.0)
+            .max_by(|a, b| a.0.total_cmp(&b.0)),
+    };
+    let inputs = crate::drift::Inputs {
+        model: &loaded.model,
+        bg,
+        grid: &loaded.grid,
+        rule: &loaded.sampling,
+        gas: gas_constants(loaded),
+        cuts: &cuts,
+    };
+    crate::drift::forecast(&inputs, amplitude)
+}
+
+/// The caution of a forecast whose scheme drifts by more than the
+/// perturbation, None otherwise.
+pub fn drift_caution(d: &crate::drift::Drift) -> Option<String> {
+    match d {
+        crate::drift::Drift::Covered(f) if f.drifts() == Some(true) => Some(format!(
+            "a scheme without well-balancing drifts by more than the perturbation amplitude \
+             (drift forecast): {}",
+            f.verdicts().join("; ")
+        )),
+        _ => None,
+    }
+}
+
 /// The gas constants the sampler needs.
 pub fn gas_constants(loaded: &Loaded) -> GasConstants {
     GasConstants {
@@ -395,6 +450,7 @@ impl Built<'_> {
                 None
             }
         };
+        let mut alone_list = Vec::new();
         if !loaded.perturbations.is_empty() {
             let mut alone = Vec::new();
             for a in perturbations_alone(loaded, self.background()) {
@@ -413,6 +469,18 @@ impl Built<'_> {
             }
             meta.extra
                 .push(("perturbations_alone".into(), alone_json(&alone, discrete)));
+            alone_list = alone;
+        }
+        if let Solution::Closure { background, domain } = &self.solution {
+            let d = drift_forecast(loaded, background.as_ref(), domain, None, &alone_list);
+            let record = match d {
+                Ok(d) => {
+                    meta.cautions.extend(drift_caution(&d));
+                    d.json()
+                }
+                Err(e) => serde_json::json!({ "not_evaluated": e.to_string() }).to_string(),
+            };
+            meta.extra.push(("drift_forecast".into(), record));
         }
         Ok(meta)
     }
