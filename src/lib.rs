@@ -44,6 +44,7 @@ pub mod drift;
 pub mod emit;
 pub mod estimate;
 pub mod fields;
+pub mod forcing;
 pub mod formula;
 pub mod grid;
 pub mod keys;

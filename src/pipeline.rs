@@ -248,6 +248,7 @@ pub fn drift_forecast(
             .filter(|a| a.0.is_finite() && a.0 > 0.0)
             .max_by(|a, b| a.0.total_cmp(&b.0)),
     };
+    let forcing = crate::forcing::Forcing::of(&loaded.model).ok().flatten();
     let inputs = crate::drift::Inputs {
         model: &loaded.model,
         bg,
@@ -255,6 +256,7 @@ pub fn drift_forecast(
         rule: &loaded.sampling,
         gas: gas_constants(loaded),
         cuts: &cuts,
+        forcing: forcing.as_ref().map(|f| f as &dyn Background),
     };
     crate::drift::forecast(&inputs, amplitude)
 }
@@ -318,6 +320,8 @@ pub struct Built<'a> {
     /// File metadata, without cautions: they come with the verification
     /// ([`Built::verify`], which [`Built::write_hdf5`] runs).
     pub metadata: Metadata,
+    /// The manufactured forcing of an audit (`solve_for: nothing`).
+    forcing: Option<crate::forcing::Forcing>,
 }
 
 /// What a build samples: a closure of the table solved on the grid's
@@ -398,6 +402,15 @@ pub fn build<'a>(
         source_label: loaded.source.clone(),
         error,
     })?;
+    let forcing = match &solution {
+        Solution::Closure { .. } => {
+            crate::forcing::Forcing::of(&loaded.model).map_err(|e| Error::closure(loaded, e))?
+        }
+        Solution::Torus { .. } => None,
+    };
+    if let Some(f) = &forcing {
+        metadata.extra.push(("forcing".into(), f.json()));
+    }
     if !perturbations.is_empty() {
         metadata.extra.push((
             "perturbations".into(),
@@ -410,6 +423,7 @@ pub fn build<'a>(
         perturbations,
         resolved: std::sync::OnceLock::new(),
         metadata,
+        forcing,
     })
 }
 
@@ -554,7 +568,105 @@ impl Built<'_> {
         let mut set = self.sample_every_field()?;
         set.fields
             .retain(|f| groups[0].fields.iter().any(|g| g.name == f.name));
+        if let Some(fs) = self.forcing_sampler()? {
+            let all =
+                sample::sample_whole(&fs, &self.loaded.grid).map_err(|e| self.sample_error(e))?;
+            let kept = self.kept_groups(&self.sampler()?)?;
+            let wanted = kept.iter().find(|g| g.0 == crate::forcing::GROUP);
+            for (spec, k) in self.forcing_fields(&fs) {
+                if wanted.is_some_and(|g| g.1.iter().any(|f| f.name == spec.name)) {
+                    let mut f = all.fields[k].clone();
+                    f.name = spec.name;
+                    f.dim = spec.dim;
+                    set.fields.push(f);
+                }
+            }
+        }
         Ok(set)
+    }
+
+    /// The sampler of the manufactured forcing (an audit only), under the
+    /// build's rule (a rule to a tolerance at the points it resolved to).
+    fn forcing_sampler(&self) -> Result<Option<Sampler<'_>>, Error> {
+        let Some(f) = &self.forcing else {
+            return Ok(None);
+        };
+        let rule = match &self.loaded.sampling {
+            SamplingRule::AverageTo { .. } => {
+                self.background_sampler()?;
+                let points = self.resolved.get().map_or(4, |r| r.points);
+                SamplingRule::Average { points }
+            }
+            rule => *rule,
+        };
+        let gas = gas_constants(self.loaded);
+        Sampler::with_cuts(f, &self.loaded.grid, &rule, &gas, &self.cuts())
+            .map(Some)
+            .map_err(|e| self.sample_error(e))
+    }
+
+    /// The forcing fields (`forcing_<component>`, a force density) and the
+    /// position of each in the forcing sampler's slabs (its velocity
+    /// components).
+    fn forcing_fields(&self, fs: &Sampler<'_>) -> Vec<(FieldSpec, usize)> {
+        let m = &self.loaded.model;
+        let mass = if m.vertically_integrated {
+            crate::units::Dim::SURFACE_DENSITY
+        } else {
+            crate::units::Dim::DENSITY
+        };
+        let dim = mass.times(crate::units::Dim::new(1, 0, -2, 0));
+        fs.fields()
+            .into_iter()
+            .enumerate()
+            .filter_map(|(k, f)| {
+                let c = f.name.strip_prefix("velocity_")?.to_string();
+                Some((
+                    FieldSpec {
+                        name: format!("forcing_{c}"),
+                        dim,
+                        placement: f.placement,
+                    },
+                    k,
+                ))
+            })
+            .collect()
+    }
+
+    /// The sampler's groups and, for an audit, the forcing group.
+    fn all_groups(
+        &self,
+        sampler: &Sampler<'_>,
+    ) -> Result<Vec<(&'static str, Vec<FieldSpec>)>, Error> {
+        let mut groups = sampler.groups();
+        if let Some(fs) = self.forcing_sampler()? {
+            let specs = self.forcing_fields(&fs).into_iter().map(|f| f.0).collect();
+            groups.push((crate::forcing::GROUP, specs));
+        }
+        Ok(groups)
+    }
+
+    /// A slab of the state and, for an audit, the forcing fields of the
+    /// same rows after it.
+    fn produce(
+        &self,
+        sampler: &Sampler<'_>,
+        forcing: Option<&Sampler<'_>>,
+        rows: std::ops::Range<usize>,
+        reuse: Vec<Vec<f64>>,
+    ) -> Result<Slab, Error> {
+        let mut slab = sampler
+            .slab_into(rows.clone(), reuse)
+            .map_err(|e| self.sample_error(e))?;
+        if let Some(fs) = forcing {
+            let extra = fs.slab(rows).map_err(|e| self.sample_error(e))?;
+            let picks: Vec<usize> = self.forcing_fields(fs).into_iter().map(|f| f.1).collect();
+            let mut data: Vec<Option<Vec<f64>>> = extra.data.into_iter().map(Some).collect();
+            for k in picks {
+                slab.data.push(data[k].take().unwrap_or_default());
+            }
+        }
+        Ok(slab)
     }
 
     fn sample_every_field(&self) -> Result<FieldSet, Error> {
@@ -569,6 +681,7 @@ impl Built<'_> {
         let sampler = self.sampler()?;
         let kept = self.kept_groups(&sampler)?;
         let fields = kept[0].1.clone();
+        let perturbed = kept.iter().any(|g| g.0 == "state");
         let mut groups: Vec<GroupPlan> = kept
             .into_iter()
             .map(|(name, f)| GroupPlan {
@@ -577,13 +690,16 @@ impl Built<'_> {
                 link_to: None,
             })
             .collect();
-        if groups.len() == 1 {
+        if !perturbed {
             // Nothing perturbs the state: /state links to /background.
-            groups.push(GroupPlan {
-                name: "state".into(),
-                fields,
-                link_to: Some("background".into()),
-            });
+            groups.insert(
+                1,
+                GroupPlan {
+                    name: "state".into(),
+                    fields,
+                    link_to: Some("background".into()),
+                },
+            );
         }
         Ok(groups)
     }
@@ -595,7 +711,7 @@ impl Built<'_> {
         &self,
         sampler: &Sampler<'_>,
     ) -> Result<Vec<(&'static str, Vec<FieldSpec>)>, Error> {
-        let mut groups = sampler.groups();
+        let mut groups = self.all_groups(sampler)?;
         if let Some(wanted) = &self.loaded.output.fields {
             let mut names: Vec<&str> = Vec::new();
             for f in groups.iter().flat_map(|(_, f)| f) {
@@ -663,8 +779,9 @@ impl Built<'_> {
             )
         };
         // The sampler's fields that `output.fields` keeps, in slab order.
-        let keep: Vec<bool> = sampler
-            .groups()
+        let forcing = self.forcing_sampler()?;
+        let keep: Vec<bool> = self
+            .all_groups(&sampler)?
             .iter()
             .zip(&kept)
             .flat_map(|((_, all), (_, kept))| {
@@ -701,9 +818,7 @@ impl Built<'_> {
             let mut peaks = Peaks::new(gamma);
             for r in slab_ranges(shape[0], rows) {
                 let cells = r.end * row_cells;
-                let slab = sampler
-                    .slab_into(r, reuse)
-                    .map_err(|e| self.sample_error(e))?;
+                let slab = self.produce(&sampler, forcing.as_ref(), r, reuse)?;
                 reuse = split.write(&mut out, select(slab), &mut peaks)?;
                 report(Progress { cells, total });
             }
@@ -741,9 +856,7 @@ impl Built<'_> {
                         break; // the verifier's error is reported
                     }
                     let reuse = spent.try_recv().unwrap_or_default();
-                    let slab = sampler
-                        .slab_into(r, reuse)
-                        .map_err(|e| self.sample_error(e))?;
+                    let slab = self.produce(&sampler, forcing.as_ref(), r, reuse)?;
                     if tx.send(select(slab)).is_err() {
                         break; // the writer stopped: its error is reported
                     }
@@ -792,6 +905,12 @@ impl GroupWriter {
         }
     }
 
+    /// Whether the groups are background, state and perturbation (the
+    /// first three; a forcing group may follow).
+    fn perturbed(&self) -> bool {
+        self.groups.get(2).is_some_and(|g| g.0 == "perturbation")
+    }
+
     /// Write every group of `slab`; returns its arrays for reuse.
     fn write(
         &self,
@@ -800,7 +919,7 @@ impl GroupWriter {
         peaks: &mut Peaks,
     ) -> Result<Vec<Vec<f64>>, OutputError> {
         let Slab { rows, mut data } = slab;
-        if self.groups.len() == 3 {
+        if self.perturbed() {
             let (nb, ns) = (self.groups[0].1.len(), self.groups[1].1.len());
             peaks.update(
                 &self.groups[0].1,
@@ -825,7 +944,7 @@ impl GroupWriter {
 
     /// The metadata with the perturbation's peaks, when there is one.
     fn with_peaks(&self, mut meta: Metadata, peaks: &Peaks) -> Metadata {
-        if self.groups.len() == 3 {
+        if self.perturbed() {
             meta.extra
                 .push(("perturbation_peaks".into(), peaks.describe()));
         }

@@ -94,6 +94,8 @@ pub struct Forecast {
     /// DG drift at the grid's resolution by degree 1 to 6 (what order
     /// would be needed), when an amplitude is known.
     pub by_degree: Vec<(usize, f64)>,
+    /// Whether the manufactured forcing was added (an audit).
+    pub forced: bool,
 }
 
 /// The forecast, or why there is none.
@@ -119,6 +121,9 @@ pub struct Inputs<'a> {
     pub gas: GasConstants,
     /// The switch points cell averages are split at.
     pub cuts: &'a Cuts,
+    /// The manufactured forcing of an audit (its velocity is the force
+    /// density, see [`crate::forcing`]), added to both schemes as a source.
+    pub forcing: Option<&'a dyn Background>,
 }
 
 /// The line the forecast runs on: its geometry, coordinate and the grid
@@ -179,6 +184,29 @@ fn gravity_at(bg: &dyn Background, xs: &[f64]) -> Vec<f64> {
         out.extend_from_slice(&block.gravity[0][..chunk.len()]);
     }
     out
+}
+
+/// The exact gravity at `xs` plus, for an audit, the manufactured force
+/// density sampled under `rule` on `grid` divided by the density `rho`.
+fn sources(
+    inp: &Inputs<'_>,
+    grid: &Grid,
+    rule: &SamplingRule,
+    coord: Coord,
+    xs: &[f64],
+    rho: &[f64],
+) -> Result<Vec<f64>, DriftError> {
+    let mut g = gravity_at(inp.bg, xs);
+    if let Some(f) = inp.forcing {
+        let set = sample::sample_with_cuts(f, grid, rule, &inp.gas, inp.cuts)?;
+        let name = format!("velocity_{}", coord.name());
+        if let Some(field) = set.get(&name) {
+            for ((g, f), r) in g.iter_mut().zip(&field.data).zip(rho) {
+                *g += f / r;
+            }
+        }
+    }
+    Ok(g)
 }
 
 /// The primitive values of a field set sampled on a line along `coord`.
@@ -275,7 +303,7 @@ pub fn forecast(inp: &Inputs<'_>, amplitude: Option<(f64, String)>) -> Result<Dr
         let set = sample::sample_with_cuts(inp.bg, &grid, &cell_rule.0, &inp.gas, inp.cuts)?;
         let v = primitives(&set, coord);
         let xs = grid.axes()[0].centers();
-        let g = gravity_at(inp.bg, &xs);
+        let g = sources(inp, &grid, &cell_rule.0, coord, &xs, &v.rho)?;
         let acc = schemes::finite_volume(geom, &grid.axes()[0].edges, &v, &g, gamma);
         fv.push(level(xs.len(), &xs, &acc, &v, &g, disk));
     }
@@ -317,7 +345,14 @@ pub fn forecast(inp: &Inputs<'_>, amplitude: Option<(f64, String)>) -> Result<Dr
                 rule.nodes.iter().map(move |t| m + h * t)
             })
             .collect();
-        let g = gravity_at(inp.bg, &xs);
+        let g = sources(
+            inp,
+            &grid,
+            &SamplingRule::Nodes { family, points },
+            coord,
+            &xs,
+            &v.rho,
+        )?;
         let acc = schemes::nodal_dg(geom, e, &rule.nodes, &rule.weights, &v, &g, gamma);
         Ok(level(e.len() - 1, &xs, &acc, &v, &g, disk))
     };
@@ -359,6 +394,7 @@ pub fn forecast(inp: &Inputs<'_>, amplitude: Option<(f64, String)>) -> Result<Dr
         dg,
         amplitude,
         by_degree,
+        forced: inp.forcing.is_some(),
     })))
 }
 

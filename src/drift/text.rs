@@ -88,6 +88,15 @@ impl Forecast {
         let eta = self.amplitude.as_ref().map(|a| a.0);
         let s = &self.coordinate;
         let mut out = vec![self.finite_volume.verdict("finite volume", eta, s)];
+        if self.forced {
+            out.insert(
+                0,
+                "the laws do not balance (solve_for: nothing): both schemes add the manufactured \
+                 forcing (the file's /forcing group) as a source, so what remains is their \
+                 discretisation error"
+                    .to_string(),
+            );
+        }
         if let Some(dg) = &self.dg {
             out.push(dg.verdict("nodal DG", eta, s));
         }
@@ -128,6 +137,7 @@ impl Forecast {
             "dg_drift_by_degree": self.by_degree.iter()
                 .map(|(k, d)| serde_json::json!({"degree": k, "drift": finite(*d)}))
                 .collect::<Vec<_>>(),
+            "with_manufactured_forcing": self.forced,
             "verdict": self.verdicts(),
         })
     }

@@ -60,6 +60,10 @@ pub const BUNDLED: &[(&str, &str)] = &[
         "polytropic-envelope",
         include_str!("../../profiles/polytropic-envelope.json"),
     ),
+    (
+        "keplerian-audit",
+        include_str!("../../profiles/keplerian-audit.json"),
+    ),
 ];
 
 /// The text of a bundled profile by name.
