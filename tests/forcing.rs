@@ -21,10 +21,12 @@ fn variant(dir: &Path, name: &str, edit: impl Fn(&mut serde_json::Value)) -> Str
     file
 }
 
-/// The bundled ring on Keplerian rotation, sampled at the cell centres.
+/// The bundled ring on Keplerian rotation, sampled at the cell centres of
+/// a radial line.
 fn ring(dir: &Path) -> String {
     variant(dir, "keplerian-audit", |v| {
         v["sampling"] = serde_json::json!({"rule": "center"});
+        v["grid"] = serde_json::json!({"R": {"from": 0.5, "to": 1.5, "cells": 128}});
     })
 }
 
@@ -109,8 +111,9 @@ fn issue8_forcing_fields_are_selected_like_other_fields() {
     assert!(text(&o).contains("output.fields"), "{}", text(&o));
 }
 
-/// The emitted `_forcing` functions (C with gcc, Python with NumPy) give
-/// the file's values at the cell centres to 1e-13 relative.
+/// The emitted `_forcing` functions (C with gcc, Fortran with gfortran,
+/// Python with NumPy) give the file's values at the cell centres to 1e-13
+/// relative.
 #[test]
 fn issue8_emitted_forcing_matches_the_file() {
     let d = tempfile::tempdir().unwrap();
@@ -172,4 +175,44 @@ fn issue8_emitted_forcing_matches_the_file() {
         .map(|v| v.parse().unwrap())
         .collect();
     compare(&got, "c");
+    // Fortran 2008 with gfortran; the points are read from a file.
+    let o = stillpoint(
+        d.path(),
+        &["emit", &file, "--lang", "fortran", "-o", "k.f90"],
+    );
+    assert!(o.status.success(), "{}", text(&o));
+    std::fs::write(d.path().join("r.txt"), points.join("\n") + "\n").unwrap();
+    let main = format!(
+        "program main\n  use iso_fortran_env, only: real64\n  \
+         use stillpoint_keplerian_audit_mod\n  implicit none\n  real(real64) :: r, f(3)\n  \
+         integer :: i\n  open(10, file='r.txt', status='old')\n  do i = 1, {}\n    \
+         read(10, *) r\n    call stillpoint_keplerian_audit_forcing(r, f)\n    \
+         print '(es26.17e3)', f(1)\n  end do\nend program main\n",
+        points.len()
+    );
+    std::fs::write(d.path().join("main.f90"), main).unwrap();
+    let o = Command::new("gfortran")
+        .args([
+            "-std=f2008",
+            "-Wall",
+            "-Werror",
+            "-O1",
+            "k.f90",
+            "main.f90",
+            "-o",
+            "mainf",
+        ])
+        .current_dir(d.path())
+        .output()
+        .expect("gfortran is needed (.ci/run installs it)");
+    assert!(o.status.success(), "gfortran: {}", text(&o));
+    let o = Command::new(d.path().join("mainf"))
+        .current_dir(d.path())
+        .output()
+        .unwrap();
+    let got: Vec<f64> = String::from_utf8_lossy(&o.stdout)
+        .split_whitespace()
+        .map(|v| v.parse().unwrap())
+        .collect();
+    compare(&got, "fortran");
 }

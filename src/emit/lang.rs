@@ -142,6 +142,10 @@ fn forcing(
             if let Some(at) = s.rfind(&end) {
                 s.insert_str(at, &sub[1..]);
             }
+            let public = format!("  public :: {id}\n");
+            if let Some(at) = s.find(&public) {
+                s.insert_str(at + public.len(), &format!("  public :: {id}_forcing\n"));
+            }
         }
         Lang::Python => {
             let _ = writeln!(
