@@ -122,6 +122,11 @@ pub enum Command {
         /// rounding alone leaves residuals of 1e-16 to 1e-13).
         #[arg(long, value_name = "T", default_value = "1e-10", value_parser = positive_tolerance)]
         tolerance: f64,
+        /// Relative amplitude of the perturbation the drift forecast compares
+        /// with (positive; default: the largest peak of the profile's
+        /// perturbations).
+        #[arg(long, value_name = "ETA", value_parser = positive_tolerance)]
+        amplitude: Option<f64>,
     },
     /// Print the background along its coordinate (rotation curve for disks).
     #[command(
@@ -432,7 +437,11 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                     .install(run),
             }
         }
-        Command::Check { common, tolerance } => {
+        Command::Check {
+            common,
+            tolerance,
+            amplitude,
+        } => {
             let loaded = common.load()?;
             if loaded.model.torus.is_some() {
                 return check_torus(&loaded, tolerance);
@@ -448,6 +457,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                 Err(e) => say!("stability\n  not evaluated: {e}"),
             }
             let mut more = Vec::new();
+            let mut alone = Vec::new();
             if !loaded.perturbations.is_empty() {
                 let discrete = report.discrete.map(|d| d.0);
                 say!("perturbations (each alone at the cell centres; peak relative to the background)");
@@ -461,10 +471,18 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                             if loaded.output.precision == output::Precision::Single {
                                 more.extend(a.single_precision_caution());
                             }
+                            alone.push(a);
                         }
                         Err(e) => say!("  cannot be sampled alone: {e}"),
                     }
                 }
+            }
+            match pipeline::drift_forecast(&loaded, &bg, &domain, amplitude, &alone) {
+                Ok(d) => {
+                    say!("{d}");
+                    more.extend(pipeline::drift_caution(&d));
+                }
+                Err(e) => say!("drift forecast\n  not evaluated: {e}"),
             }
             for c in pipeline::cautions(&loaded, &bg, &domain)
                 .into_iter()
@@ -865,9 +883,12 @@ fn build(
     })?;
     let mut written = vec![h5.clone(), xmf.clone()];
     if csv_path.is_some() || npy.is_some() || raw.is_some() {
-        // The same numbers as the HDF5 file: sampling does not depend on
-        // the slab size.
-        let set = built.sample_all()?;
+        // The state, the same numbers as the HDF5 file's `/state`:
+        // sampling does not depend on the slab size.
+        let bar = crate::progress::Bar::new(loaded.grid.len(), quiet);
+        let set = built.sample_state_all(&|p| bar.update(p));
+        bar.finish();
+        let set = set?;
         let doc = Document {
             grid: &loaded.grid,
             background: &set,

@@ -254,6 +254,7 @@ fn write(
     // sampler's slabs as a serial build cuts them.
     let groups = built.groups()?;
     let split = built.split(&sampler)?;
+    let forcing = built.forcing_sampler()?;
     let mut peaks = crate::perturb::report::Peaks::new(loaded.model.gamma);
     let parallel = Parallel {
         comm: world.as_raw(),
@@ -282,7 +283,7 @@ fn write(
     for round in 0..rounds {
         let slab = mine
             .get(round)
-            .map(|r| sampler.slab(r.clone()).map_err(|e| built.sample_error(e)));
+            .map(|r| built.produce(&sampler, forcing.as_ref(), r.clone(), Vec::new()));
         let failed = matches!(slab, Some(Err(_)));
         if !all_ok(world, !failed) {
             // Every rank stops at the same round; the rank that failed

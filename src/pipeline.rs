@@ -217,6 +217,63 @@ pub fn perturbations_alone(loaded: &Loaded, bg: &dyn Background) -> Vec<Result<A
         .collect()
 }
 
+/// The drift forecast of the background on the profile's grid and rule
+/// (see [`crate::drift`]), against `amplitude` when given, else against the
+/// largest peak of the profile's perturbations (each sampled alone).
+pub fn drift_forecast(
+    loaded: &Loaded,
+    bg: &dyn Background,
+    domain: &Domain,
+    amplitude: Option<f64>,
+    alone: &[Alone],
+) -> Result<crate::drift::Drift, crate::drift::DriftError> {
+    let cuts = Cuts {
+        coordinate: loaded.model.shape.coordinate().to_string(),
+        at: domain
+            .switches(&loaded.model)
+            .iter()
+            .map(|w| w.at)
+            .collect(),
+    };
+    let amplitude = match amplitude {
+        Some(a) => Some((a, "--amplitude".to_string())),
+        None => alone
+            .iter()
+            .map(|a| {
+                (
+                    a.peaks.largest(),
+                    format!("the largest peak of {} ({})", a.origin, a.kind),
+                )
+            })
+            .filter(|a| a.0.is_finite() && a.0 > 0.0)
+            .max_by(|a, b| a.0.total_cmp(&b.0)),
+    };
+    let forcing = crate::forcing::Forcing::of(&loaded.model).ok().flatten();
+    let inputs = crate::drift::Inputs {
+        model: &loaded.model,
+        bg,
+        grid: &loaded.grid,
+        rule: &loaded.sampling,
+        gas: gas_constants(loaded),
+        cuts: &cuts,
+        forcing: forcing.as_ref().map(|f| f as &dyn Background),
+    };
+    crate::drift::forecast(&inputs, amplitude)
+}
+
+/// The caution of a forecast whose scheme drifts by more than the
+/// perturbation, None otherwise.
+pub fn drift_caution(d: &crate::drift::Drift) -> Option<String> {
+    match d {
+        crate::drift::Drift::Covered(f) if f.drifts() == Some(true) => Some(format!(
+            "a scheme without well-balancing drifts by more than the perturbation amplitude \
+             (drift forecast): {}",
+            f.verdicts().join("; ")
+        )),
+        _ => None,
+    }
+}
+
 /// The gas constants the sampler needs.
 pub fn gas_constants(loaded: &Loaded) -> GasConstants {
     GasConstants {
@@ -265,6 +322,8 @@ pub struct Built<'a> {
     /// File metadata, without cautions: they come with the verification
     /// ([`Built::verify`], which [`Built::write_hdf5`] runs).
     pub metadata: Metadata,
+    /// The manufactured forcing of an audit (`solve_for: nothing`).
+    forcing: Option<crate::forcing::Forcing>,
 }
 
 /// What a build samples: a closure of the table solved on the grid's
@@ -362,6 +421,15 @@ pub fn build<'a>(
         source_label: loaded.source.clone(),
         error,
     })?;
+    let forcing = match &solution {
+        Solution::Closure { .. } => {
+            crate::forcing::Forcing::of(&loaded.model).map_err(|e| Error::closure(loaded, e))?
+        }
+        Solution::Torus { .. } => None,
+    };
+    if let Some(f) = &forcing {
+        metadata.extra.push(("forcing".into(), f.json()));
+    }
     if !perturbations.is_empty() {
         metadata.extra.push((
             "perturbations".into(),
@@ -376,6 +444,7 @@ pub fn build<'a>(
         resolved: std::sync::OnceLock::new(),
         extras,
         metadata,
+        forcing,
     })
 }
 
@@ -472,6 +541,7 @@ impl Built<'_> {
                 None
             }
         };
+        let mut alone_list = Vec::new();
         if !loaded.perturbations.is_empty() {
             let mut alone = Vec::new();
             for a in perturbations_alone(loaded, self.background()) {
@@ -490,6 +560,18 @@ impl Built<'_> {
             }
             meta.extra
                 .push(("perturbations_alone".into(), alone_json(&alone, discrete)));
+            alone_list = alone;
+        }
+        if let Solution::Closure { background, domain } = &self.solution {
+            let d = drift_forecast(loaded, background.as_ref(), domain, None, &alone_list);
+            let record = match d {
+                Ok(d) => {
+                    meta.cautions.extend(drift_caution(&d));
+                    d.json()
+                }
+                Err(e) => serde_json::json!({ "not_evaluated": e.to_string() }).to_string(),
+            };
+            meta.extra.push(("drift_forecast".into(), record));
         }
         Ok(meta)
     }
@@ -559,6 +641,55 @@ impl Built<'_> {
         }
     }
 
+    /// The state — the initial condition: the background plus every
+    /// perturbation — on the whole grid in memory, the fields
+    /// `output.fields` keeps (CSV tables, plain arrays). Sampled slab by
+    /// slab, as the HDF5 file is, and the same numbers as its `/state`
+    /// (sampling does not depend on the slab size); `report` hears of each
+    /// slab.
+    pub fn sample_state_all(&self, report: &dyn Fn(Progress)) -> Result<FieldSet, Error> {
+        let sampler = self.sampler()?;
+        let split = self.split(&sampler)?;
+        let forcing = self.forcing_sampler()?;
+        let grid = &self.loaded.grid;
+        let shape = grid.shape();
+        let total = grid.len();
+        let row_cells: usize = shape[1..].iter().product();
+        let rows = (65_536 / row_cells.max(1)).max(1);
+        let state = usize::from(split.perturbed());
+        let mut peaks = Peaks::new(self.loaded.model.gamma);
+        let mut data: Vec<Vec<f64>> = Vec::new();
+        for r in slab_ranges(shape[0], rows) {
+            let cells = r.end * row_cells;
+            let slab = self.produce(&sampler, forcing.as_ref(), r, Vec::new())?;
+            let part = split.parts(slab, &mut peaks).swap_remove(state);
+            if data.is_empty() {
+                data = part.data;
+            } else {
+                for (d, p) in data.iter_mut().zip(part.data) {
+                    d.extend(p);
+                }
+            }
+            report(Progress { cells, total });
+        }
+        let fields = split.groups[state]
+            .1
+            .iter()
+            .zip(data)
+            .map(|(spec, data)| crate::fields::Field {
+                name: spec.name.clone(),
+                dim: spec.dim,
+                data,
+                placement: spec.placement.clone(),
+            })
+            .collect();
+        Ok(FieldSet {
+            shape,
+            sampling: sampler.sampling().to_string(),
+            fields,
+        })
+    }
+
     /// Every field on the whole grid (those `output.fields` keeps), in
     /// memory (small grids, CSV tables, plain arrays).
     pub fn sample_all(&self) -> Result<FieldSet, Error> {
@@ -566,7 +697,105 @@ impl Built<'_> {
         let mut set = self.sample_every_field()?;
         set.fields
             .retain(|f| groups[0].fields.iter().any(|g| g.name == f.name));
+        if let Some(fs) = self.forcing_sampler()? {
+            let all =
+                sample::sample_whole(&fs, &self.loaded.grid).map_err(|e| self.sample_error(e))?;
+            let kept = self.kept_groups(&self.sampler()?)?;
+            let wanted = kept.iter().find(|g| g.0 == crate::forcing::GROUP);
+            for (spec, k) in self.forcing_fields(&fs) {
+                if wanted.is_some_and(|g| g.1.iter().any(|f| f.name == spec.name)) {
+                    let mut f = all.fields[k].clone();
+                    f.name = spec.name;
+                    f.dim = spec.dim;
+                    set.fields.push(f);
+                }
+            }
+        }
         Ok(set)
+    }
+
+    /// The sampler of the manufactured forcing (an audit only), under the
+    /// build's rule (a rule to a tolerance at the points it resolved to).
+    pub(crate) fn forcing_sampler(&self) -> Result<Option<Sampler<'_>>, Error> {
+        let Some(f) = &self.forcing else {
+            return Ok(None);
+        };
+        let rule = match &self.loaded.sampling {
+            SamplingRule::AverageTo { .. } => {
+                self.background_sampler()?;
+                let points = self.resolved.get().map_or(4, |r| r.points);
+                SamplingRule::Average { points }
+            }
+            rule => *rule,
+        };
+        let gas = gas_constants(self.loaded);
+        Sampler::with_cuts(f, &self.loaded.grid, &rule, &gas, &self.cuts())
+            .map(Some)
+            .map_err(|e| self.sample_error(e))
+    }
+
+    /// The forcing fields (`forcing_<component>`, a force density) and the
+    /// position of each in the forcing sampler's slabs (its velocity
+    /// components).
+    fn forcing_fields(&self, fs: &Sampler<'_>) -> Vec<(FieldSpec, usize)> {
+        let m = &self.loaded.model;
+        let mass = if m.vertically_integrated {
+            crate::units::Dim::SURFACE_DENSITY
+        } else {
+            crate::units::Dim::DENSITY
+        };
+        let dim = mass.times(crate::units::Dim::new(1, 0, -2, 0));
+        fs.fields()
+            .into_iter()
+            .enumerate()
+            .filter_map(|(k, f)| {
+                let c = f.name.strip_prefix("velocity_")?.to_string();
+                Some((
+                    FieldSpec {
+                        name: format!("forcing_{c}"),
+                        dim,
+                        placement: f.placement,
+                    },
+                    k,
+                ))
+            })
+            .collect()
+    }
+
+    /// The sampler's groups and, for an audit, the forcing group.
+    fn all_groups(
+        &self,
+        sampler: &Sampler<'_>,
+    ) -> Result<Vec<(&'static str, Vec<FieldSpec>)>, Error> {
+        let mut groups = sampler.groups();
+        if let Some(fs) = self.forcing_sampler()? {
+            let specs = self.forcing_fields(&fs).into_iter().map(|f| f.0).collect();
+            groups.push((crate::forcing::GROUP, specs));
+        }
+        Ok(groups)
+    }
+
+    /// A slab of the state and, for an audit, the forcing fields of the
+    /// same rows after it.
+    pub(crate) fn produce(
+        &self,
+        sampler: &Sampler<'_>,
+        forcing: Option<&Sampler<'_>>,
+        rows: std::ops::Range<usize>,
+        reuse: Vec<Vec<f64>>,
+    ) -> Result<Slab, Error> {
+        let mut slab = sampler
+            .slab_into(rows.clone(), reuse)
+            .map_err(|e| self.sample_error(e))?;
+        if let Some(fs) = forcing {
+            let extra = fs.slab(rows).map_err(|e| self.sample_error(e))?;
+            let picks: Vec<usize> = self.forcing_fields(fs).into_iter().map(|f| f.1).collect();
+            let mut data: Vec<Option<Vec<f64>>> = extra.data.into_iter().map(Some).collect();
+            for k in picks {
+                slab.data.push(data[k].take().unwrap_or_default());
+            }
+        }
+        Ok(slab)
     }
 
     fn sample_every_field(&self) -> Result<FieldSet, Error> {
@@ -584,6 +813,7 @@ impl Built<'_> {
         let sampler = self.sampler()?;
         let kept = self.kept_groups(&sampler)?;
         let fields = kept[0].1.clone();
+        let perturbed = kept.iter().any(|g| g.0 == "state");
         let mut groups: Vec<GroupPlan> = kept
             .into_iter()
             .map(|(name, f)| GroupPlan {
@@ -592,13 +822,16 @@ impl Built<'_> {
                 link_to: None,
             })
             .collect();
-        if groups.len() == 1 {
+        if !perturbed {
             // Nothing perturbs the state: /state links to /background.
-            groups.push(GroupPlan {
-                name: "state".into(),
-                fields,
-                link_to: Some("background".into()),
-            });
+            groups.insert(
+                1,
+                GroupPlan {
+                    name: "state".into(),
+                    fields,
+                    link_to: Some("background".into()),
+                },
+            );
         }
         Ok(groups)
     }
@@ -610,7 +843,7 @@ impl Built<'_> {
         &self,
         sampler: &Sampler<'_>,
     ) -> Result<Vec<(&'static str, Vec<FieldSpec>)>, Error> {
-        let mut groups = sampler.groups();
+        let mut groups = self.all_groups(sampler)?;
         if let Some(wanted) = &self.loaded.output.fields {
             let mut names: Vec<&str> = Vec::new();
             for f in groups.iter().flat_map(|(_, f)| f) {
@@ -647,7 +880,10 @@ impl Built<'_> {
 
     /// How `sampler`'s slabs become the file's groups (see [`Split`]).
     pub fn split(&self, sampler: &Sampler<'_>) -> Result<Split, Error> {
-        Ok(Split::new(&sampler.groups(), &self.kept_groups(sampler)?))
+        Ok(Split::new(
+            &self.all_groups(sampler)?,
+            &self.kept_groups(sampler)?,
+        ))
     }
 
     /// Verify, sample slab by slab and stream into a new HDF5 file at
@@ -687,6 +923,7 @@ impl Built<'_> {
                 self.loaded.output.filters,
             )
         };
+        let forcing = self.forcing_sampler()?;
         let shape = grid.shape();
         let rows = slab_rows(&shape, fields.len(), opts);
         let gamma = self.loaded.model.gamma;
@@ -701,9 +938,7 @@ impl Built<'_> {
             let mut peaks = Peaks::new(gamma);
             for r in slab_ranges(shape[0], rows) {
                 let cells = r.end * row_cells;
-                let slab = sampler
-                    .slab_into(r, reuse)
-                    .map_err(|e| self.sample_error(e))?;
+                let slab = self.produce(&sampler, forcing.as_ref(), r, reuse)?;
                 reuse = split.write(&mut out, slab, &mut peaks)?;
                 report(Progress { cells, total });
             }
@@ -741,9 +976,7 @@ impl Built<'_> {
                         break; // the verifier's error is reported
                     }
                     let reuse = spent.try_recv().unwrap_or_default();
-                    let slab = sampler
-                        .slab_into(r, reuse)
-                        .map_err(|e| self.sample_error(e))?;
+                    let slab = self.produce(&sampler, forcing.as_ref(), r, reuse)?;
                     if tx.send(slab).is_err() {
                         break; // the writer stopped: its error is reported
                     }
@@ -810,6 +1043,12 @@ impl Split {
         }
     }
 
+    /// Whether the groups are background, state and perturbation (the
+    /// first three; a forcing group may follow).
+    pub fn perturbed(&self) -> bool {
+        self.groups.get(2).is_some_and(|g| g.0 == "perturbation")
+    }
+
     /// The names of the written groups, in slab order.
     pub fn names(&self) -> impl Iterator<Item = &str> {
         self.groups.iter().map(|(n, _)| n.as_str())
@@ -827,7 +1066,7 @@ impl Split {
                 .filter_map(|(d, k)| k.then_some(d))
                 .collect()
         };
-        if self.groups.len() == 3 {
+        if self.perturbed() {
             let (nb, ns) = (self.groups[0].1.len(), self.groups[1].1.len());
             peaks.update(
                 &self.groups[0].1,
@@ -865,7 +1104,7 @@ impl Split {
 
     /// The metadata with the perturbation's peaks, when there is one.
     pub fn with_peaks(&self, mut meta: Metadata, peaks: &Peaks) -> Metadata {
-        if self.groups.len() == 3 {
+        if self.perturbed() {
             meta.extra
                 .push(("perturbation_peaks".into(), peaks.describe()));
         }

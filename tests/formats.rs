@@ -136,8 +136,12 @@ fn issue10_xdmf_beside_every_hdf5_file_is_read_by_vtk() {
 #[test]
 fn issue10_npy_and_raw_folders_match_the_hdf5_file_to_the_bit() {
     let d = tempfile::tempdir().unwrap();
+    // Perturbed profiles too: the folders hold the state (the initial
+    // condition), /state of the HDF5 file, not the background.
     for (name, raw) in [
         ("quiet-slab", vec!["--byte-order", "big"]),
+        ("noisy-disk", vec![]),
+        ("pulsed-slab", vec!["--array-order", "fortran"]),
         ("powerlaw-disk", vec!["--array-order", "fortran"]),
         (
             "tapered-disk-cartesian",

@@ -89,6 +89,19 @@ fn issue11_mpi_builds_match_the_serial_build_byte_for_byte() {
     assert!(o.status.success(), "{}", text(&o));
     let o = serial(d.path(), &["build", "noisy-disk", "-o", "noisy.h5"]);
     assert!(o.status.success(), "{}", text(&o));
+    // An audit (not an equilibrium) carries its manufactured forcing.
+    let o = mpirun(
+        d.path(),
+        2,
+        &["build", "keplerian-audit", "-o", "audit2.h5"],
+        &[],
+    );
+    assert!(o.status.success(), "{}", text(&o));
+    let o = serial(d.path(), &["build", "keplerian-audit", "-o", "audit.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let f = hdf5::File::open(d.path().join("audit2.h5")).unwrap();
+    assert!(f.group("forcing").is_ok());
+    drop(f);
     let f = hdf5::File::open(d.path().join("noisy3.h5")).unwrap();
     assert!(f.group("perturbation").is_ok() && f.attr("perturbations_alone").is_ok());
     // The peaks of the perturbation, gathered from every rank's rows, are
@@ -113,6 +126,7 @@ fn issue11_mpi_builds_match_the_serial_build_byte_for_byte() {
         &["serial.h5", "n2.h5", "n3.h5"][..],
         &["ring.h5", "ring3.h5"][..],
         &["noisy.h5", "noisy3.h5"][..],
+        &["audit.h5", "audit2.h5"][..],
     ] {
         let o = Command::new("python3")
             .arg(check)

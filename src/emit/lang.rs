@@ -78,11 +78,89 @@ pub fn write(e: &Emission, lang: Lang) -> Result<String, String> {
         .iter()
         .map(|(n, x)| (n.trim_start_matches('@').to_string(), code(x)))
         .collect();
-    Ok(match lang {
+    let mut text = match lang {
         Lang::C => c(e, d, &code, &temps),
         Lang::Fortran => fortran(e, d, &code, &temps),
         Lang::Python => python(e, d, &code, &temps),
-    })
+    };
+    if let Some(f) = &e.forcing {
+        forcing(&mut text, e, d, lang, f, &code);
+    }
+    Ok(text)
+}
+
+/// The function `<ident>_forcing` of an audit: the manufactured force
+/// density at a point, components in the basis (no shared temporaries:
+/// each component is written out).
+fn forcing(
+    s: &mut String,
+    e: &Emission,
+    d: &Dialect,
+    lang: Lang,
+    f: &[Expr; 3],
+    code: &dyn Fn(&Expr) -> String,
+) {
+    let id = &e.ident;
+    let coords = e.coords.join(", ");
+    let about = format!(
+        "The manufactured force density at ({coords}) that makes this state steady: add it \
+         to the momentum equation (Roache 2002); components in the basis above"
+    );
+    match lang {
+        Lang::C => {
+            let args: Vec<String> = e.coords.iter().map(|c| format!("double {c}")).collect();
+            let _ = writeln!(
+                s,
+                "\n/* {about}. */\nSTILLPOINT_FN void {id}_forcing({}, double forcing[3])\n{{",
+                args.join(", ")
+            );
+            for (n, v) in &e.constants {
+                let _ = writeln!(
+                    s,
+                    "    const double {} = {};\n    (void){};",
+                    constant(n),
+                    d.number(*v),
+                    constant(n)
+                );
+            }
+            for (k, x) in f.iter().enumerate() {
+                let _ = writeln!(s, "    forcing[{k}] = {};", code(x));
+            }
+            s.push_str("}\n");
+        }
+        Lang::Fortran => {
+            let mut sub = format!(
+                "\n  ! {about}.\n  pure subroutine {id}_forcing({coords}, forcing)\n    \
+                 real(real64), intent(in) :: {coords}\n    \
+                 real(real64), intent(out) :: forcing(3)\n"
+            );
+            for (k, x) in f.iter().enumerate() {
+                sub += &fortran_lines("    ", &format!("forcing({}) = {}", k + 1, code(x)));
+            }
+            let _ = writeln!(sub, "  end subroutine {id}_forcing");
+            let end = format!("end module {id}_mod");
+            if let Some(at) = s.rfind(&end) {
+                s.insert_str(at, &sub[1..]);
+            }
+            let public = format!("  public :: {id}\n");
+            if let Some(at) = s.find(&public) {
+                s.insert_str(at + public.len(), &format!("  public :: {id}_forcing\n"));
+            }
+        }
+        Lang::Python => {
+            let _ = writeln!(
+                s,
+                "\n\ndef {id}_forcing({coords}):\n    \"\"\"{about}.\"\"\""
+            );
+            for c in &e.coords {
+                let _ = writeln!(s, "    {c} = np.asarray({c}, dtype=float)");
+            }
+            let _ = writeln!(s, "    zero = np.zeros(np.broadcast({coords}).shape)");
+            s.push_str("    with np.errstate(all=\"ignore\"):\n");
+            let parts: Vec<String> = f.iter().map(|x| format!("zero + ({})", code(x))).collect();
+            let _ = writeln!(s, "        return ({})", parts.join(", "));
+        }
+    }
 }
 
 /// The fields in order with their names in the emitted code.

@@ -131,6 +131,9 @@ pub struct Emission {
     pub constants: Vec<(String, f64)>,
     /// The interpolant of an integrated closure.
     pub integral: Option<Interpolant>,
+    /// The manufactured force density of an audit (`solve_for: nothing`),
+    /// in the basis (see [`crate::forcing`]).
+    pub forcing: Option<[Expr; 3]>,
     /// The comment block, a line each (no comment markers).
     pub comment: Vec<String>,
 }
@@ -287,12 +290,15 @@ pub fn prepare(loaded: &Loaded, tolerance: f64) -> Result<Emission, crate::pipel
         None => None,
         Some(kind) => Some(interpolate(loaded, &bg, &domain, kind, tolerance)?),
     };
+    let forcing =
+        crate::forcing::formulas(m).map_err(|e| crate::pipeline::Error::closure(loaded, e))?;
     let mut names = std::collections::BTreeSet::new();
     for e in [&density, &pressure, &potential]
         .into_iter()
         .chain(&velocity)
         .chain(&gravity)
         .chain(&pressure_accel)
+        .chain(forcing.iter().flatten())
     {
         names.extend(e.names());
     }
@@ -332,6 +338,7 @@ pub fn prepare(loaded: &Loaded, tolerance: f64) -> Result<Emission, crate::pipel
         pressure_accel,
         constants,
         integral,
+        forcing,
         comment: Vec::new(),
     };
     e.comment = comment(loaded, &e, &domain);
@@ -588,6 +595,19 @@ fn comment(loaded: &Loaded, e: &Emission, domain: &closure::Domain) -> Vec<Strin
     }
     if m.unknown == Unknown::Nothing {
         c.push("Caution: an audit (solve_for: nothing); this state need not be in balance.".into());
+    }
+    if let Some(f) = &e.forcing {
+        c.push(
+            "Manufactured forcing (Roache 2002, J. Fluids Eng. 124, 4): the force density f that \
+             makes this state steady, 0 = -grad P - rho grad Phi + rho v_phi^2/R e_R + f; add it \
+             to the momentum equation (the energy source is 0: v is perpendicular to f):"
+                .into(),
+        );
+        for (k, x) in f.iter().enumerate() {
+            if e.basis[k] != "-" {
+                c.push(format!("  f_{} = {}", e.basis[k], show(x)));
+            }
+        }
     }
     c.dedup_by(|a, b| a.is_empty() && b.is_empty());
     c

@@ -64,6 +64,10 @@ pub const BUNDLED: &[(&str, &str)] = &[
         "planet-envelope-box",
         include_str!("../../profiles/planet-envelope-box.json"),
     ),
+    (
+        "keplerian-audit",
+        include_str!("../../profiles/keplerian-audit.json"),
+    ),
 ];
 
 /// The text of a bundled profile by name.
