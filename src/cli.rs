@@ -885,7 +885,7 @@ fn build(
     if csv_path.is_some() || npy.is_some() || raw.is_some() {
         // The state, the same numbers as the HDF5 file's `/state`:
         // sampling does not depend on the slab size.
-        let bar = crate::progress::Bar::new(loaded.grid.len(), quiet);
+        let bar = crate::progress::Bar::labelled(loaded.grid.len(), quiet, "arrays: ");
         let set = built.sample_state_all(&|p| bar.update(p));
         bar.finish();
         let set = set?;

@@ -29,6 +29,12 @@ impl Bar {
     /// A bar for `total` cells; silent when `quiet` or when standard error
     /// is not a terminal.
     pub fn new(total: usize, quiet: bool) -> Bar {
+        Bar::labelled(total, quiet, "")
+    }
+
+    /// [`Bar::new`] with `label` before the figures (for instance
+    /// "arrays: " while the CSV, .npy or raw outputs are sampled).
+    pub fn labelled(total: usize, quiet: bool, label: &str) -> Bar {
         let delay = std::env::var("STILLPOINT_PROGRESS_DELAY")
             .ok()
             .and_then(|s| s.parse::<f64>().ok())
@@ -36,7 +42,7 @@ impl Bar {
             .map_or(DELAY, Duration::from_secs_f64);
         let bar = (!quiet && std::io::stderr().is_terminal()).then(|| {
             let style = ProgressStyle::with_template(
-                "{percent:>3}% of {human_len} cells, {rate}, {left} {wide_bar}",
+                "{prefix}{percent:>3}% of {human_len} cells, {rate}, {left} {wide_bar}",
             )
             .unwrap_or_else(|_| ProgressStyle::default_bar())
             .with_key("rate", |s: &ProgressState, w: &mut dyn std::fmt::Write| {
@@ -47,6 +53,7 @@ impl Bar {
             });
             let b = ProgressBar::with_draw_target(Some(total as u64), ProgressDrawTarget::hidden());
             b.set_style(style);
+            b.set_prefix(label.to_string());
             b
         });
         Bar {

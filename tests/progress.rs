@@ -63,7 +63,16 @@ fn issue10_on_a_terminal_the_bar_shows_cells_per_second_and_time_left() {
     // powerlaw-disk has 192 x 384 = 73,728 cells.
     assert!(seen.contains("of 73,728 cells"), "{seen}");
     assert!(seen.contains("cells/s") && seen.contains(" left"), "{seen}");
-    let quiet = on_terminal(d.path(), "--quiet");
+    // The CSV, .npy and raw outputs are sampled in memory after the HDF5
+    // file, under a bar of their own.
+    let arrays = on_terminal(d.path(), "--npy");
+    assert!(
+        arrays.contains("arrays: ") && arrays.contains("wrote t-npy"),
+        "{arrays}"
+    );
+    assert!(!seen.contains("arrays: "), "{seen}");
+    let quiet = on_terminal(d.path(), "--npy --quiet");
     assert!(quiet.contains("wrote t.h5"), "{quiet}");
     assert!(!quiet.contains("cells/s"), "{quiet}");
+    assert!(quiet.contains("wrote t-npy"), "{quiet}");
 }
