@@ -25,6 +25,11 @@ Usage: perturb_matrix_check.py MANIFEST
     formula; R and phi from the file's own cell-centre coordinates, with
     the tool's documented defaults for coordinates a grid leaves out:
     phi = 0, z = 0 on an R line, theta = pi/2 on a radius).
+  - "extra" "band": band-limited noise (m = 1..3) on a Cartesian grid,
+    keyed per ring of width the smallest x/y cell and per cell of the other
+    axes: in each ring (and z cell) with at least 12 cells, drho/rho is a
+    combination of cos m phi and sin m phi, m = 1..3, to 1e-12 of the
+    amplitude (least squares with numpy.linalg.lstsq).
 Exits 1 naming every disagreement.
 """
 import json
@@ -114,6 +119,33 @@ def check(entry):
             err = big(got - want)
             if not err <= 1e-14:
                 bad.append(f"{path}: drho/rho differs from the mode's formula by {err:.3e}")
+        if entry["extra"] == "band":
+            bad += band_check(f, path, p["density"][...] / b["density"][...])
+    return bad
+
+
+def band_check(f, path, rel):
+    axes = list(json.loads(f.attrs["profile"])["grid"])
+    R, phi = centre_R_phi(f)
+    width = min(np.diff(f[f"grid/{a}_edges"][...]).min() for a in axes if a in ("x", "y"))
+    key = np.floor(R / width)
+    if "z" in axes:
+        iz = np.indices(R.shape)[axes.index("z")]
+        key = key * 10_000 + iz
+    bad, fitted = [], 0
+    for k in np.unique(key):
+        sel = key == k
+        if sel.sum() < 12:
+            continue
+        ph = phi[sel]
+        basis = np.stack([g(m * ph) for m in (1, 2, 3) for g in (np.cos, np.sin)], axis=1)
+        coef, *_ = np.linalg.lstsq(basis, rel[sel], rcond=None)
+        err = big(basis @ coef - rel[sel])
+        fitted += 1
+        if not err <= 1e-12 * 1e-3:
+            bad.append(f"{path}: ring {k}: not a band m = 1..3 (residual {err:.3e})")
+    if fitted == 0:
+        bad.append(f"{path}: no ring with 12 cells to test the band")
     return bad
 
 

@@ -120,6 +120,36 @@ pub(super) struct Bound {
     /// Stride and count of the azimuthal axis of the grid, for keys of
     /// band-limited noise that leave φ out.
     azimuth: Option<(u64, u64)>,
+    /// On a grid with x or y axes and no φ axis: the keys of band-limited
+    /// noise are rings of this width in R (the smallest cell width in x
+    /// and y) and the cells of the other axes.
+    rings: Option<Rings>,
+}
+
+/// How band-limited noise keys its coefficients on a Cartesian grid: a
+/// ring ⌊R/width⌋ and the indices of the axes that are neither x nor y.
+#[derive(Clone, Debug)]
+struct Rings {
+    width: f64,
+    /// Per grid axis (C order): its cell count and whether it is x or y.
+    axes: Vec<(u64, bool)>,
+}
+
+impl Rings {
+    fn key(&self, cell: u64, big_r: f64) -> u64 {
+        let ring = (big_r / self.width).floor().max(0.0) as u64;
+        let mut rest = cell;
+        let mut idx = vec![0u64; self.axes.len()];
+        for (a, (n, _)) in self.axes.iter().enumerate().rev() {
+            idx[a] = rest % n;
+            rest /= n;
+        }
+        self.axes
+            .iter()
+            .zip(idx)
+            .filter(|((_, xy), _)| !xy)
+            .fold(ring, |key, ((n, _), i)| key * n + i)
+    }
 }
 
 impl Bound {
@@ -183,11 +213,26 @@ impl Bound {
                 let stride: usize = shape[a + 1..].iter().product();
                 (stride as u64, shape[a] as u64)
             });
+        let axes = grid.axes();
+        let xy = |c: Coord| c == Coord::X || c == Coord::Y;
+        let rings = (azimuth.is_none() && axes.iter().any(|a| xy(a.coord))).then(|| Rings {
+            width: axes
+                .iter()
+                .filter(|a| xy(a.coord))
+                .flat_map(|a| a.edges.windows(2).map(|w| (w[1] - w[0]).abs()))
+                .fold(f64::INFINITY, f64::min),
+            axes: axes
+                .iter()
+                .zip(&shape)
+                .map(|(a, n)| (*n as u64, xy(a.coord)))
+                .collect(),
+        });
         Ok(Bound {
             spec: p.clone(),
             kernel,
             eps,
             azimuth,
+            rings,
         })
     }
 
@@ -312,11 +357,12 @@ impl Bound {
                     *s = match band {
                         None => draw(cell, 0),
                         Some((m1, m2)) => {
-                            let key = match self.azimuth {
-                                Some((stride, count)) => {
+                            let key = match (self.azimuth, &self.rings) {
+                                (Some((stride, count)), _) => {
                                     (cell / (stride * count)) * stride + cell % stride
                                 }
-                                None => cell,
+                                (None, Some(rings)) => rings.key(cell, ctx.pts.col(3)[k]),
+                                (None, None) => cell,
                             };
                             let mut t = 0.0;
                             for m in *m1..=*m2 {

@@ -227,13 +227,6 @@ fn one(node: Node, names: &Names) -> Result<Perturbation, ProfileError> {
                 Some(b) => {
                     let b = b.node();
                     needs_azimuth("an azimuthal band")?;
-                    let axes = names.grid.axes();
-                    let has = |c: Coord| axes.iter().any(|a| a.coord == c);
-                    if !has(Coord::Phi) && (has(Coord::X) || has(Coord::Y)) {
-                        return Err(b.error(
-                            "band-limited noise keys its random coefficients on the cells off the azimuth; it needs a grid with a phi axis (or none that varies in azimuth), not a Cartesian one",
-                        ));
-                    }
                     let items = b.array()?;
                     let m: Vec<Option<u64>> =
                         items.iter().map(|i| i.node().value.as_u64()).collect();
