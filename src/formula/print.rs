@@ -427,8 +427,10 @@ fn product(e: &Expr, m: Parens) -> (String, u8) {
             s += &wrap_after(piece(d, m), POWER, m, false);
         }
     } else if !bottom.is_empty() {
-        let below: Vec<&Expr> = bottom.iter().collect();
-        s += &format!("/({})", factors(&below));
+        // The divisors print as the product they read back as (`-1*0`
+        // reads back as `-(0)`, printed `-0`).
+        s += "/";
+        s += &wrap_after(piece(&Expr::Mul(bottom), m), POWER, m, false);
     }
     (s, PRODUCT)
 }
@@ -630,6 +632,7 @@ mod tests {
         for (src, printed) in [
             ("sin(1.5)/(-p)/2", "sin(1.5)/(-p*2)"),
             ("1.5/(-0.5)/x", "1.5/(-0.5*x)"),
+            ("8/-1/0", "8/(-0)"),
             ("(-p)*q", "-p*q"),
             ("a/((-p)*q)", "a/(-p*q)"),
             ("((-s) - 0.5) + 2", "2 - s - 0.5"),
