@@ -526,6 +526,7 @@ fn fuzz_findings_of_the_printer() {
         "((-sin(y)) - 0.5) + 2",
         "y/2 + 0.5^(-2)*(-1.5)",
         "8/-1/0",
+        "-1*0\t-8-0* 0\t-8-00",
         &format!("{}x{}", "-(".repeat(100), ")".repeat(100)),
         &format!("{}x", "-".repeat(199)),
         &format!("{}x{}", "2^-(".repeat(66), ")".repeat(66)),

@@ -203,7 +203,8 @@ fn negative_exponent(x: &Expr) -> Option<f64> {
 /// Is this term printed with a leading minus (negative number or coefficient)?
 pub(super) fn negated(e: &Expr) -> Option<Expr> {
     match e {
-        Expr::Num(v) if *v < 0.0 => Some(Expr::Num(-v)),
+        // -0 too: it prints `-0`, and `x - 0` reads back as `x + (-0)`.
+        Expr::Num(v) if v.is_sign_negative() && !v.is_nan() => Some(Expr::Num(-v)),
         Expr::Mul(fs) => match fs.first() {
             Some(Expr::Num(c)) if *c < 0.0 => {
                 let mut rest = fs.clone();
@@ -633,6 +634,7 @@ mod tests {
             ("sin(1.5)/(-p)/2", "sin(1.5)/(-p*2)"),
             ("1.5/(-0.5)/x", "1.5/(-0.5*x)"),
             ("8/-1/0", "8/(-0)"),
+            ("-1*0 - 8 - 0*0 - 8 - 00", "-0 - 8 - 0*0 - 8 - 0"),
             ("(-p)*q", "-p*q"),
             ("a/((-p)*q)", "a/(-p*q)"),
             ("((-s) - 0.5) + 2", "2 - s - 0.5"),
