@@ -805,6 +805,11 @@ fn build(
         return Ok(Outcome::Ok);
     }
     let dir = crate::estimate::folder_of(&h5);
+    if dir.is_dir() {
+        if let Some(why) = crate::output::unwritable_folder(&dir) {
+            return Err(Error::Usage(format!("{}: {why}", h5.display())));
+        }
+    }
     if estimate {
         if !dir.is_dir() {
             return Err(Error::Usage(format!(

@@ -278,3 +278,52 @@ fn issue10_output_fields_filters_and_cell_counts_from_parameters() {
         assert!(!d.path().join("bad.h5").exists());
     }
 }
+
+/// Issue 12: a value the text table prints as `-` (here every column of a
+/// row with no equilibrium, R = 0 of the power-law disk, where ρ is
+/// infinite) is an empty cell of the CSV, which numpy.genfromtxt and
+/// pandas.read_csv read as NaN and astropy's Table.read as masked; the
+/// defined row reads back as the numbers of the text table.
+#[test]
+fn issue12_table_csv_leaves_undefined_values_empty_for_numpy_pandas_and_astropy() {
+    let d = tempfile::tempdir().unwrap();
+    let shown = ok(d.path(), &["table", "powerlaw-disk", "--at", "0,1"]);
+    let row0 = shown.lines().nth(2).unwrap();
+    assert_eq!(
+        row0.split_whitespace().filter(|c| *c == "-").count(),
+        9,
+        "{shown}"
+    );
+    let csv = ok(
+        d.path(),
+        &["table", "powerlaw-disk", "--at", "0,1", "--csv"],
+    );
+    assert!(!csv.contains("nan") && !csv.contains("inf,"), "{csv}");
+    std::fs::write(d.path().join("t.csv"), &csv).unwrap();
+    let script = r#"
+import sys, math
+import numpy, pandas
+from astropy.table import Table
+f = sys.argv[1]
+a = numpy.genfromtxt(f, delimiter=",", names=True, dtype=None, encoding="utf-8")
+p = pandas.read_csv(f)
+t = Table.read(f, format="csv")
+cols = [c for c in p.columns if c not in ("R [code]", "note")]
+assert len(cols) == 9, cols
+for c in cols:
+    assert math.isnan(p[c][0]), (c, p[c][0])
+    assert hasattr(t[c], "mask") and bool(t[c].mask[0]) and not bool(t[c].mask[1]), c
+for name in a.dtype.names[1:10]:
+    assert math.isnan(a[name][0]), (name, a[name][0])
+assert abs(p["rho [code]"][1] - 1.0) < 1e-15 and abs(a[a.dtype.names[1]][1] - 1.0) < 1e-15
+assert abs(float(t["H/R [1]"][1]) - 0.05) < 1e-15
+print("ok")
+"#;
+    let o = Command::new("python3")
+        .arg("-c")
+        .arg(script)
+        .arg(d.path().join("t.csv"))
+        .output()
+        .expect("python3 runs");
+    assert!(o.status.success(), "{}", text(&o));
+}

@@ -365,8 +365,82 @@ fn coordinate() -> impl Strategy<Value = f64> {
     ]
 }
 
+/// Random formula *texts* as a user types them: parentheses where they
+/// are not needed, minus signs before anything, quotients in a row — the
+/// shapes a parsed tree has and a built one may not.
+fn typed_text() -> impl Strategy<Value = String> {
+    let leaf = prop::sample::select(vec!["x", "y", "2", "1.5", "0.5", "pi"]).prop_map(String::from);
+    leaf.prop_recursive(5, 48, 4, |inner| {
+        let two = (inner.clone(), inner.clone());
+        prop_oneof![
+            two.clone().prop_map(|(a, b)| format!("{a} + {b}")),
+            two.clone().prop_map(|(a, b)| format!("{a} - {b}")),
+            two.clone().prop_map(|(a, b)| format!("{a}*{b}")),
+            two.clone().prop_map(|(a, b)| format!("{a}/{b}")),
+            two.clone().prop_map(|(a, b)| format!("{a}^{b}")),
+            inner.clone().prop_map(|a| format!("-{a}")),
+            inner.clone().prop_map(|a| format!("({a})")),
+            inner.clone().prop_map(|a| format!("sin({a})")),
+            (inner.clone(), inner.clone(), inner.clone(), inner.clone())
+                .prop_map(|(a, b, c, d)| format!("({a} if {b} < {c} else {d})")),
+        ]
+    })
+}
+
+/// Texts nested close to the parser's limit of 200 levels: a chain of
+/// steps, each adding one to three levels (a minus, a parenthesis, `^`).
+fn deep_text() -> impl Strategy<Value = String> {
+    let step = prop::sample::select(vec![
+        ("-", ""),
+        ("-(", ")"),
+        ("1 - -(", ")"),
+        ("y*-(", ")"),
+        ("2^-(", ")"),
+        ("y/2/(", ")"),
+        ("y/-2/(", ")"),
+        ("-y - 2 + (", ")"),
+        ("(1 if y < 2 else -(", "))"),
+        ("sin(-", ")"),
+        ("(--", ")"),
+    ]);
+    prop::collection::vec(step, 40..160).prop_map(|steps| {
+        let open: String = steps.iter().map(|s| s.0).collect();
+        let close: String = steps.iter().rev().map(|s| s.1).collect();
+        format!("{open}x{close}")
+    })
+}
+
+/// A parsed text prints as a text that parses, prints the same once more
+/// and has the same value at the points.
+fn check_typed(src: &str) -> Result<(), String> {
+    let Ok(e) = parse(src) else { return Ok(()) };
+    let once = e.to_string();
+    let back = parse(&once).map_err(|err| format!("`{src}` prints as `{once}`: {err}"))?;
+    let twice = back.to_string();
+    if twice != once {
+        return Err(format!("`{src}` prints as `{once}`, then as `{twice}`"));
+    }
+    for (x, y) in POINTS {
+        let (a, b) = (at(&e, x, y), at(&back, x, y));
+        if a.is_finite() && a.abs() < 1e12 && off_switches(&e, x, y) && !close(a, b, 1e-9) {
+            return Err(format!("`{src}` at ({x}, {y}): {a}, printed {b}"));
+        }
+    }
+    Ok(())
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 200, ..ProptestConfig::default() })]
+
+    #[test]
+    fn typed_text_prints_as_a_fixed_point(src in typed_text()) {
+        check_typed(&src).map_err(TestCaseError::fail)?;
+    }
+
+    #[test]
+    fn deep_text_prints_within_the_nesting_limit(src in deep_text()) {
+        check_typed(&src).map_err(TestCaseError::fail)?;
+    }
 
     #[test]
     fn kernel_block_scalar_and_stack_machine_agree_to_the_bit(
@@ -437,6 +511,28 @@ fn checks_run_on_fixed_formulas() {
         assert!(check_round_trip(&e).unwrap() >= 4, "{s}");
         assert!(check_simplify(&e).unwrap() >= 4, "{s}");
         assert!(check_program(&e).unwrap() >= 4, "{s}");
+    }
+}
+
+/// The printer findings of the fuzz target, pinned: a negated divisor in
+/// a quotient (`(-p)*q` printed once with and once without parentheses),
+/// and about a hundred nested minus signs, which printed with a
+/// parenthesis per minus past the nesting limit and did not read back.
+#[test]
+fn fuzz_findings_of_the_printer() {
+    for src in [
+        "sin(1.5)/(-y)/2",
+        "x/((-y)*x)",
+        "((-sin(y)) - 0.5) + 2",
+        "y/2 + 0.5^(-2)*(-1.5)",
+        "8/-1/0",
+        "-1*0\t-8-0* 0\t-8-00",
+        &format!("{}x{}", "-(".repeat(100), ")".repeat(100)),
+        &format!("{}x", "-".repeat(199)),
+        &format!("{}x{}", "2^-(".repeat(66), ")".repeat(66)),
+    ] {
+        assert!(parse(src).is_ok(), "{src}");
+        check_typed(src).unwrap();
     }
 }
 

@@ -30,7 +30,21 @@ use std::ops::Range;
 
 /// Parse `src`; with `known`, every name must be in it or built in.
 pub(crate) fn parse(src: &str, known: Option<&[&str]>) -> Result<Expr, FormulaError> {
-    let toks = lex(src)?;
+    run(src, known).0
+}
+
+/// Is `src` refused for being nested deeper than [`MAX_NESTING`]? The
+/// printer asks, to fall back to its form with fewer parentheses.
+pub(crate) fn too_deep(src: &str) -> bool {
+    run(src, None).1
+}
+
+/// The parse, and whether the nesting limit was hit.
+fn run(src: &str, known: Option<&[&str]>) -> (Result<Expr, FormulaError>, bool) {
+    let toks = match lex(src) {
+        Ok(t) => t,
+        Err(e) => return (Err(e), false),
+    };
     let mut p = Parser {
         src,
         toks,
@@ -38,12 +52,13 @@ pub(crate) fn parse(src: &str, known: Option<&[&str]>) -> Result<Expr, FormulaEr
         known,
         legacy: Legacy::default(),
         depth: 0,
+        too_deep: false,
     };
     let result = p.whole();
     // The old form is reported first: its rewrite is what the user needs
     // before anything else can be read.
-    p.legacy.refuse(src)?;
-    result
+    let result = p.legacy.refuse(src).and(result);
+    (result, p.too_deep)
 }
 
 fn syntax(span: Range<usize>, message: impl Into<String>) -> FormulaError {
@@ -96,6 +111,8 @@ struct Parser<'a> {
     legacy: Legacy,
     /// Current nesting (see [`MAX_NESTING`]).
     depth: usize,
+    /// Set when the nesting limit refused the formula.
+    too_deep: bool,
 }
 
 impl Parser<'_> {
@@ -106,6 +123,7 @@ impl Parser<'_> {
         inner: fn(&mut Self) -> Result<Item, FormulaError>,
     ) -> Result<Item, FormulaError> {
         if self.depth >= MAX_NESTING {
+            self.too_deep = true;
             return Err(syntax(
                 self.here().span.clone(),
                 format!(

@@ -86,9 +86,33 @@ pub(crate) fn number(v: f64) -> String {
     }
 }
 
-/// Plain text for a tree.
+/// Plain text for a tree. Its parentheses are the readable ones
+/// (`2*(-x)`, `-(-x)`, `x^(-y)`, divisors in one quotient) unless the text
+/// would then be nested deeper than the parser reads: it is printed with
+/// only the parentheses the grammar needs (`2*-x`, `--x`, `x^-y`, `a/b/c`),
+/// which are never more than the text the tree was parsed from had.
 pub(crate) fn text(e: &Expr) -> String {
-    piece(e).0
+    let t = pretty(e);
+    if super::parser::too_deep(&t) {
+        piece(e, Parens::Needed).0
+    } else {
+        t
+    }
+}
+
+/// Which parentheses a text gets beyond those the grammar needs.
+#[derive(Clone, Copy, PartialEq, Eq)]
+enum Parens {
+    /// Around a minus after an operator, around an exponent that starts
+    /// with a minus, around a product of divisors.
+    Readable,
+    /// Only those the grammar needs (and around a literal after a minus,
+    /// which would otherwise fold into it).
+    Needed,
+}
+
+fn pretty(e: &Expr) -> String {
+    piece(e, Parens::Readable).0
 }
 
 fn wrap(p: (String, u8), min: u8) -> String {
@@ -99,44 +123,70 @@ fn wrap(p: (String, u8), min: u8) -> String {
     }
 }
 
-/// `wrap` for the operand right after an operator or a minus: text that
-/// starts with a minus goes in parentheses too, so that a minus is never
-/// printed against another (`--1.5` reads back as `1.5`, a literal).
-fn wrap_after(p: (String, u8), min: u8) -> String {
-    if p.0.starts_with('-') {
-        format!("({})", p.0)
+/// `wrap` for an operand where the grammar takes a unary minus (after an
+/// operator or a minus): readable text that starts with a minus goes in
+/// parentheses too, so that a minus is never printed against another.
+/// With only the needed parentheses it goes bare, unless it follows a minus
+/// (`after_minus`) and is a minus before a literal: `--1.5` reads back as
+/// the literal `1.5`.
+fn wrap_after(p: (String, u8), min: u8, m: Parens, after_minus: bool) -> String {
+    if !p.0.starts_with('-') {
+        return wrap(p, min);
+    }
+    let folds = folds_into_literal(&p.0);
+    let bare = m == Parens::Needed && !(after_minus && folds) && p.1 >= NEG.min(min);
+    if bare {
+        p.0
     } else {
-        wrap(p, min)
+        format!("({})", p.0)
     }
 }
-
-/// The literal number this text reads back as, if it is one (`1.5`,
-/// `-(0.5)`, `-0`): the parser folds a minus into a literal, so a minus in
-/// front of a negative one would change the number, not negate a tree.
-fn reads_as_number(t: &str) -> Option<f64> {
-    let mut s = t;
-    let mut negative = false;
-    loop {
-        if let Some(r) = s.strip_prefix('-') {
-            negative = !negative;
-            s = r;
-        } else if let Some(r) = s.strip_prefix('(').and_then(|r| r.strip_suffix(')')) {
-            // A wrong split, as in `(a)*(b)`, leaves a parenthesis behind
-            // and so no number.
-            s = r;
-        } else {
-            break;
+/// Does a minus before this text fold into a literal, as the parser does
+/// for `-` before a number that is not the base of a power (`--1.5` is
+/// the literal 1.5, `--1.5^2` is not a literal)?
+fn folds_into_literal(t: &str) -> bool {
+    let s = t.trim_start_matches('-');
+    if !s.starts_with(|c: char| c.is_ascii_digit()) {
+        return false;
+    }
+    let b = s.as_bytes();
+    let mut i = 0;
+    while i < b.len() && (b[i].is_ascii_digit() || b[i] == b'.') {
+        i += 1;
+    }
+    if i < b.len() && (b[i] == b'e' || b[i] == b'E') {
+        i += 1;
+        if i < b.len() && (b[i] == b'-' || b[i] == b'+') {
+            i += 1;
+        }
+        while i < b.len() && b[i].is_ascii_digit() {
+            i += 1;
         }
     }
-    if !s.starts_with(|c: char| c.is_ascii_digit()) {
-        return None;
-    }
-    let v: f64 = s.parse().ok()?;
-    Some(if negative { -v } else { v })
+    !s[i..].trim_start().starts_with('^')
 }
 
-fn reads_as_negative_number(t: &str) -> bool {
-    reads_as_number(t).is_some_and(f64::is_sign_negative)
+/// The literal number the text of this tree reads back as, if it is one
+/// (`1.5`, `-(0.5)`, `-0`): the parser folds a minus into a literal, so a
+/// minus in front of a negative one would change the number, not negate a
+/// tree. Worked out on the tree, not by printing it (which, asked at every
+/// level of nested minus signs, would take exponential time).
+fn reads_as_number(e: &Expr) -> Option<f64> {
+    match e {
+        Expr::Num(v) if v.is_finite() => Some(*v),
+        Expr::Add(ts) if ts.is_empty() => Some(0.0),
+        Expr::Mul(fs) if fs.is_empty() => Some(1.0),
+        // A lone factor prints as itself (in parentheses at most).
+        Expr::Mul(fs) if fs.len() == 1 => reads_as_number(&fs[0]),
+        // `-` before a number that is not negative; before a negative one
+        // it prints as the product `-1*(-1.5)`.
+        Expr::Mul(fs) if fs.len() == 2 && super::expr::minus_one(&fs[0]) => reads_as_number(&fs[1])
+            .filter(|n| !n.is_sign_negative())
+            .map(|n| -n),
+        // Any other product prints with `*` or `/`; sums, powers, calls,
+        // names and conditionals are never one number.
+        _ => None,
+    }
 }
 
 /// A power's exponent when it reads back as a negative literal: `x^(-n)`
@@ -144,28 +194,17 @@ fn reads_as_negative_number(t: &str) -> bool {
 fn negative_exponent(x: &Expr) -> Option<f64> {
     match x {
         Expr::Num(v) => Some(*v),
-        Expr::Mul(_) if numeric_only(x) => reads_as_number(&text(x)),
+        Expr::Mul(_) => reads_as_number(x),
         _ => None,
     }
     .filter(|v| *v < 0.0)
 }
 
-/// Only numbers, sums, products and powers: the trees whose text can read
-/// back as one number. Checked before printing a subtree to ask that, so
-/// that nested minus signs print in linear, not exponential, time.
-fn numeric_only(e: &Expr) -> bool {
-    match e {
-        Expr::Num(_) => true,
-        Expr::Add(ts) | Expr::Mul(ts) => ts.iter().all(numeric_only),
-        Expr::Pow(b, x) => numeric_only(b) && numeric_only(x),
-        Expr::Name(_) | Expr::Call(..) | Expr::If(..) => false,
-    }
-}
-
 /// Is this term printed with a leading minus (negative number or coefficient)?
 pub(super) fn negated(e: &Expr) -> Option<Expr> {
     match e {
-        Expr::Num(v) if *v < 0.0 => Some(Expr::Num(-v)),
+        // -0 too: it prints `-0`, and `x - 0` reads back as `x + (-0)`.
+        Expr::Num(v) if v.is_sign_negative() && !v.is_nan() => Some(Expr::Num(-v)),
         Expr::Mul(fs) => match fs.first() {
             Some(Expr::Num(c)) if *c < 0.0 => {
                 let mut rest = fs.clone();
@@ -174,7 +213,7 @@ pub(super) fn negated(e: &Expr) -> Option<Expr> {
                     // `-(-1.5)` would read back as the literal 1.5: the
                     // product prints as `-1*(-1.5)` instead.
                     if let [r] = &fs[1..] {
-                        if numeric_only(r) && reads_as_negative_number(&text(r)) {
+                        if reads_as_number(r).is_some_and(f64::is_sign_negative) {
                             return None;
                         }
                     }
@@ -207,8 +246,59 @@ pub(super) fn positive_first(ts: &[Expr]) -> Vec<&Expr> {
     v
 }
 
+/// [`negated`] of a product as printed: the factors it divides by print
+/// after the others, so a product that starts with a divisor and then a
+/// negative number (`x^(-2)*(-3)`) prints with a leading minus too
+/// (`-3/x^2`), and reads back as a negated product.
+fn negated_printed(e: &Expr) -> Option<Expr> {
+    let is_divisor = |f: &Expr| matches!(f, Expr::Pow(_, x) if negative_exponent(x).is_some());
+    if let Expr::Mul(fs) = e {
+        if let Some(k) = fs.iter().position(|f| !is_divisor(f)).filter(|k| *k > 0) {
+            let mut fs = fs.clone();
+            let f = fs.remove(k);
+            fs.insert(0, f);
+            return negated(&Expr::Mul(fs));
+        }
+    }
+    negated(e)
+}
+
+/// The terms of a sum in the order printed: a first term that is itself a
+/// sum prints without parentheses, so its terms are laid out as the sum's
+/// own (the text reads back as one flat sum and must print the same); then
+/// a term without a leading minus goes first, as in `positive_first` (a
+/// sum moved first is laid out in turn).
+fn sum_terms(ts: &[Expr]) -> Vec<&Expr> {
+    let Some((first, rest)) = ts.split_first() else {
+        return Vec::new();
+    };
+    let mut v: Vec<&Expr> = match first {
+        Expr::Add(inner) if !inner.is_empty() => sum_terms(inner),
+        _ => vec![first],
+    };
+    v.extend(rest);
+    while negated_printed(v[0]).is_some() {
+        let Some(j) = v.iter().position(|t| negated_printed(t).is_none()) else {
+            break;
+        };
+        let t = v.remove(j);
+        match t {
+            Expr::Add(inner) if !inner.is_empty() => {
+                let mut front = sum_terms(inner);
+                front.extend(v);
+                v = front;
+            }
+            _ => {
+                v.insert(0, t);
+                break;
+            }
+        }
+    }
+    v
+}
+
 /// Text and binding strength.
-fn piece(e: &Expr) -> (String, u8) {
+fn piece(e: &Expr, m: Parens) -> (String, u8) {
     match e {
         Expr::Num(v) if v.is_finite() => {
             (number(*v), if v.is_sign_negative() { NEG } else { ATOM })
@@ -218,16 +308,16 @@ fn piece(e: &Expr) -> (String, u8) {
         Expr::Add(ts) if ts.is_empty() => ("0".into(), ATOM),
         Expr::Add(ts) => {
             let mut s = String::new();
-            for (i, t) in positive_first(ts).into_iter().enumerate() {
-                match (i, negated(t)) {
-                    (0, _) => s += &wrap(piece(t), SUM),
+            for (i, t) in sum_terms(ts).into_iter().enumerate() {
+                match (i, negated_printed(t)) {
+                    (0, _) => s += &wrap(piece(t, m), SUM),
                     (_, Some(pos)) => {
                         s += " - ";
-                        s += &wrap_after(piece(&pos), PRODUCT);
+                        s += &wrap_after(piece(&pos, m), PRODUCT, m, true);
                     }
                     (_, None) => {
                         s += " + ";
-                        s += &wrap_after(piece(t), PRODUCT);
+                        s += &wrap_after(piece(t, m), PRODUCT, m, false);
                     }
                 }
             }
@@ -235,39 +325,44 @@ fn piece(e: &Expr) -> (String, u8) {
         }
         Expr::Mul(fs) if fs.is_empty() => ("1".into(), ATOM),
         Expr::Mul(_) => {
-            if let Some(pos) = negated(e) {
+            if let Some(pos) = negated_printed(e) {
                 // `-` applies to a unary (a power or another minus), and
                 // the result is a unary that can lead a product bare:
                 // `-x^2`, `-(-x)`, `-(x + 1)`. A product after the minus
                 // prints as one product, `-x*y`, which reads back as
                 // `(-x)*y` and prints the same.
-                let p = piece(&pos);
+                let p = piece(&pos, m);
                 // `-1*x` would read back as the coefficient -1, printed `-x`.
                 let bare_product = p.1 == PRODUCT
                     && !p.0.starts_with('-')
                     && !p.0.starts_with("1*")
                     && !leads_with_product(&pos);
                 let level = if bare_product { PRODUCT } else { NEG };
-                return (format!("-{}", wrap_after(p, level)), level);
+                return (format!("-{}", wrap_after(p, level, m, true)), level);
             }
-            product(e)
+            product(e, m)
         }
         // x^(-n) reads as 1/x^n.
-        Expr::Pow(_, x) if negative_exponent(x).is_some() => product(&Expr::Mul(vec![e.clone()])),
+        Expr::Pow(_, x) if negative_exponent(x).is_some() => {
+            product(&Expr::Mul(vec![e.clone()]), m)
+        }
         Expr::Pow(b, x) => {
-            let base = wrap(piece(b), ATOM);
-            (format!("{base}^{}", wrap(piece(x), POWER)), POWER)
+            let base = wrap(piece(b, m), ATOM);
+            (
+                format!("{base}^{}", wrap_after(piece(x, m), POWER, m, false)),
+                POWER,
+            )
         }
         Expr::Call(f, args) => {
-            let a: Vec<String> = args.iter().map(text).collect();
+            let a: Vec<String> = args.iter().map(|a| piece(a, m).0).collect();
             (format!("{}({})", func_name(*f), a.join(", ")), ATOM)
         }
         Expr::If(c, a, b) => (
             format!(
                 "{} if {} else {}",
-                wrap(piece(a), SUM),
-                cond_text(c),
-                text(b)
+                wrap(piece(a, m), SUM),
+                cond_piece(c, text_style(m)).0,
+                piece(b, m).0
             ),
             CONDITIONAL,
         ),
@@ -281,12 +376,14 @@ fn leads_with_product(e: &Expr) -> bool {
     let Expr::Mul(fs) = e else { return false };
     fs.iter()
         .find(|f| !matches!(f, Expr::Pow(_, x) if negative_exponent(x).is_some()))
-        .is_some_and(|f| piece(f).1 == PRODUCT)
+        .is_some_and(|f| piece(f, Parens::Readable).1 == PRODUCT)
 }
 
-/// A product split into numerator and denominator (`x^(-n)` goes below).
-fn product(e: &Expr) -> (String, u8) {
-    let Expr::Mul(fs) = e else { return piece(e) };
+/// A product split into numerator and denominator (`x^(-n)` goes below):
+/// readable, the divisors are one quotient, `a/(b*c)`; with only the
+/// needed parentheses each is divided by in turn, `a/b/c`.
+fn product(e: &Expr, m: Parens) -> (String, u8) {
+    let Expr::Mul(fs) = e else { return piece(e, m) };
     let mut top = Vec::new();
     let mut bottom = Vec::new();
     for f in fs {
@@ -304,24 +401,37 @@ fn product(e: &Expr) -> (String, u8) {
             other => top.push(other),
         }
     }
-    let mut s = if top.is_empty() {
-        "1".to_string()
-    } else {
-        let parts: Vec<String> = top
+    // The factors of a product: the first may lead with a minus, the
+    // others are operands of `*`.
+    let factors = |fs: &[&Expr]| -> String {
+        let parts: Vec<String> = fs
             .iter()
             .enumerate()
-            .map(|(i, f)| wrap(piece(f), if i == 0 { NEG } else { POWER }))
+            .map(|(i, f)| {
+                if i == 0 {
+                    wrap(piece(f, m), NEG)
+                } else {
+                    wrap_after(piece(f, m), POWER, m, false)
+                }
+            })
             .collect();
         parts.join("*")
     };
-    if !bottom.is_empty() {
-        s += "/";
-        if bottom.len() == 1 {
-            s += &wrap(piece(&bottom[0]), POWER);
-        } else {
-            let parts: Vec<String> = bottom.iter().map(|f| wrap(piece(f), POWER)).collect();
-            s += &format!("({})", parts.join("*"));
+    let mut s = if top.is_empty() {
+        "1".to_string()
+    } else {
+        factors(&top)
+    };
+    if bottom.len() == 1 || (m == Parens::Needed && !bottom.is_empty()) {
+        for d in &bottom {
+            s += "/";
+            s += &wrap_after(piece(d, m), POWER, m, false);
         }
+    } else if !bottom.is_empty() {
+        // The divisors print as the product they read back as (`-1*0`
+        // reads back as `-(0)`, printed `-0`).
+        s += "/";
+        s += &wrap_after(piece(&Expr::Mul(bottom), m), POWER, m, false);
     }
     (s, PRODUCT)
 }
@@ -357,7 +467,7 @@ pub(super) struct CondStyle {
 }
 
 const TEXT: CondStyle = CondStyle {
-    expr: |e| wrap(piece(e), SUM),
+    expr: |e| wrap(piece(e, Parens::Readable), SUM),
     op: op_text,
     and: " and ",
     or: " or ",
@@ -367,9 +477,18 @@ const TEXT: CondStyle = CondStyle {
     group_and_in_or: false,
 };
 
-fn cond_text(c: &Cond) -> String {
-    cond_piece(c, &TEXT).0
+/// The text style of conditions, for each choice of parentheses.
+fn text_style(m: Parens) -> &'static CondStyle {
+    match m {
+        Parens::Readable => &TEXT,
+        Parens::Needed => &TEXT_NEEDED,
+    }
 }
+
+const TEXT_NEEDED: CondStyle = CondStyle {
+    expr: |e| wrap(piece(e, Parens::Needed), SUM),
+    ..TEXT
+};
 
 /// The parts of a conjunction, left to right (`and` is associative).
 fn conjuncts<'a>(c: &'a Cond, out: &mut Vec<&'a Cond>) {
@@ -503,6 +622,63 @@ mod tests {
             let back: f64 = number(v).parse().unwrap();
             assert_eq!(back.to_bits(), v.to_bits(), "{v}");
         }
+    }
+
+    /// Text → tree → text is a fixed point: once printed, a formula prints
+    /// the same after reading it back (found by the fuzz target: a minus
+    /// leading a divisor, a sum inside the first term of a sum, a product
+    /// that starts with a divisor and then a negative number).
+    #[test]
+    fn printing_is_a_fixed_point() {
+        for (src, printed) in [
+            ("sin(1.5)/(-p)/2", "sin(1.5)/(-p*2)"),
+            ("1.5/(-0.5)/x", "1.5/(-0.5*x)"),
+            ("8/-1/0", "8/(-0)"),
+            ("-1*0 - 8 - 0*0 - 8 - 00", "-0 - 8 - 0*0 - 8 - 0"),
+            ("(-p)*q", "-p*q"),
+            ("a/((-p)*q)", "a/(-p*q)"),
+            ("((-s) - 0.5) + 2", "2 - s - 0.5"),
+            ("(-x - q) + (2/2 + s)", "2/2 + s - x - q"),
+            ("-a + (-b - c) + d", "d - b - c - a"),
+            ("p/2 + 0.5^(-2)*(-1.5)", "p/2 - 1.5/0.5^2"),
+            ("-(p^-2*(-2) + (s - p) + 1.5)", "-(s - p - 2/p^2 + 1.5)"),
+        ] {
+            assert_eq!(rt(src), printed, "{src}");
+            assert_eq!(rt(printed), printed, "{printed}");
+        }
+    }
+
+    /// A text nested close to the limit prints as a text the parser reads
+    /// (readable parentheses would add a level per minus: `-(-(-x))`), that
+    /// prints the same again; minus signs alone read back to the same tree.
+    #[test]
+    fn deep_formulas_print_within_the_nesting_limit() {
+        use super::super::parser::MAX_NESTING;
+        for (src, same_tree) in [
+            (format!("{}x", "-".repeat(150)), true),
+            (format!("{}x{}", "-(".repeat(99), ")".repeat(99)), true),
+            (format!("{}x{}", "1 - -(".repeat(99), ")".repeat(99)), false),
+            (format!("{}x{}", "2*-(".repeat(99), ")".repeat(99)), false),
+            (format!("{}x{}", "2^-(".repeat(66), ")".repeat(66)), true),
+            (format!("{}x{}", "a/b/(".repeat(190), ")".repeat(190)), true),
+            (format!("{}--1.5{}", "-(".repeat(98), ")".repeat(98)), true),
+        ] {
+            let e = parse(&src).unwrap();
+            let printed = text(&e);
+            let back = parse(&printed).unwrap_or_else(|err| panic!("{printed}: {err}"));
+            assert!(!same_tree || back == e, "{printed}");
+            assert_eq!(text(&back), printed);
+        }
+        // Readable parentheses as long as they fit.
+        assert_eq!(rt("---x"), "-(-(-x))");
+        assert_eq!(rt("2*-(1 - -x)"), "2*(-(1 - (-x)))");
+        // Past the limit minus signs before a power of a literal go bare
+        // (they do not fold into it), at exactly the limit.
+        let deep = format!("{}1.5^2", "-".repeat(MAX_NESTING - 1));
+        let e = parse(&deep).unwrap();
+        assert_eq!(text(&e), deep);
+        assert!(folds_into_literal("-1.5e-3*x") && folds_into_literal("--2"));
+        assert!(!folds_into_literal("-1.5e-3^x") && !folds_into_literal("-x"));
     }
 
     #[test]

@@ -74,16 +74,16 @@ pub fn write_csv(doc: &Document, path: &Path) -> Result<(), OutputError> {
     })
 }
 
-/// A value in the table: Rust's shortest round-trip form (`{:e}`), and
-/// `nan`, `inf`, `-inf` for the non-finite values, which NumPy, pandas and
-/// astropy all read as such.
+/// A value in the table: Rust's shortest round-trip form (`{:e}`); a value
+/// that is not finite (what the text table prints as `-`: undefined, as Ω
+/// on the axis) is an empty cell, which `numpy.genfromtxt` and
+/// `pandas.read_csv` read as NaN and astropy's `Table.read` as a masked
+/// value.
 pub fn number(v: f64) -> String {
-    if v.is_nan() {
-        "nan".into()
-    } else if v.is_infinite() {
-        if v > 0.0 { "inf" } else { "-inf" }.into()
-    } else {
+    if v.is_finite() {
         format!("{v:e}")
+    } else {
+        String::new()
     }
 }
 
@@ -118,8 +118,8 @@ mod tests {
             "shortest round-trip form"
         );
         assert!(!text.contains('#'), "no comment lines");
-        assert_eq!(number(f64::NAN), "nan");
-        assert_eq!(number(f64::NEG_INFINITY), "-inf");
+        assert_eq!(number(f64::NAN), "");
+        assert_eq!(number(f64::NEG_INFINITY), "");
     }
 
     #[test]

@@ -267,6 +267,13 @@ pub fn commit<E: AtPath + From<OutputError>>(
         }
         .into());
     }
+    if let Some(why) = unwritable_folder(dir) {
+        return Err(OutputError::Io {
+            path: path.to_path_buf(),
+            message: why,
+        }
+        .into());
+    }
     partial::remove_stale(path);
     let temp = partial::temp_path(path, std::process::id());
     let _pending = partial::register(&temp);
@@ -325,6 +332,28 @@ pub fn missing_folder(dir: &Path) -> String {
             "the folder {} does not exist (create it first)",
             dir.display()
         )
+    }
+}
+
+/// Why the existing folder `dir` cannot take an output, if it cannot: a
+/// file is created there and removed at once (permission bits do not tell,
+/// for root or on a read-only or virtual file system).
+pub fn unwritable_folder(dir: &Path) -> Option<String> {
+    let probe = dir.join(format!(".stillpoint-probe-{}", std::process::id()));
+    match fs::OpenOptions::new()
+        .write(true)
+        .create_new(true)
+        .open(&probe)
+    {
+        Ok(_) => {
+            let _ = fs::remove_file(&probe);
+            None
+        }
+        Err(e) => Some(format!(
+            "the folder {} is not writable ({}); choose a folder you can write to",
+            dir.display(),
+            e.kind().to_string().to_lowercase()
+        )),
     }
 }
 
