@@ -1259,7 +1259,9 @@ const LIGHT_SI: f64 = 299_792_458.0;
 /// likely cause (a value in the wrong units): a radial axis below zero, a
 /// disk thicker than it is wide (H/R > 1), rotation faster than a tenth of
 /// the speed of light (a mass in grams under astronomical units gives
-/// 1e17 au/yr). The thresholds are common practice, no source.
+/// 1e17 au/yr), a central mass outside 1e19–1e42 kg, a density outside
+/// 1e-30–1e5 kg m^-3 (a surface density outside 1e-12–1e9 kg m^-2). The
+/// thresholds are common practice, no source.
 pub fn plausibility(m: &crate::model::Model, bg: &dyn Background, domain: &Domain) -> Vec<String> {
     let s = m.coordinate();
     let mut out = Vec::new();
@@ -1299,7 +1301,51 @@ pub fn plausibility(m: &crate::model::Model, bg: &dyn Background, domain: &Domai
             closure::show(x)
         ));
     }
-    if m.units.base_units().is_some() {
+    if let Some(base) = m.units.base_units() {
+        let (l, mass) = (base[0].si, base[1].si);
+        let t_si = base[2].si;
+        // The central mass from v_K² = GM/R at the first point, in kg.
+        if let Some(k) = col("v_K") {
+            let (x, v) = (xs[0], t.rows[0][k]);
+            let m_kg = x * l * (v * l / t_si).powi(2) / crate::units::G_SI;
+            if m_kg.is_finite() && m_kg > 0.0 && !(1e19..=1e42).contains(&m_kg) {
+                out.push(format!(
+                    "the central mass is {} kg ({} solar masses), far from any star, planet or \
+                     black hole (1e19 to 1e42 kg): is it in the wrong units? (units: {} takes \
+                     masses in {})",
+                    closure::show(m_kg),
+                    closure::show(m_kg / crate::units::M_SUN_SI),
+                    crate::keys::Keyed::key(m.units),
+                    base[1].symbol
+                ));
+            }
+        }
+        // The density (or surface density) far from that of any gas the
+        // tool is for.
+        let (dim_l, lo, hi, what) = if m.vertically_integrated {
+            (2, 1e-12, 1e9, "surface density")
+        } else {
+            (3, 1e-30, 1e5, "density")
+        };
+        if let Some((rho, x)) = largest(col("rho")) {
+            let si = rho * mass / l.powi(dim_l);
+            if si > 0.0 && !(lo..=hi).contains(&si) {
+                out.push(format!(
+                    "the {what} reaches {} {} at {s} = {}, that is {} kg m^-{dim_l}, outside \
+                     {lo:e} to {hi:e} kg m^-{dim_l} (thin interstellar gas to a planet's deep \
+                     interior): is it in the wrong units? (a value in g cm^-{dim_l} under units: \
+                     astro is one way to get there)",
+                    closure::show(rho),
+                    m.units.unit_string(if m.vertically_integrated {
+                        crate::units::Dim::SURFACE_DENSITY
+                    } else {
+                        crate::units::Dim::DENSITY
+                    }),
+                    closure::show(x),
+                    closure::show(si)
+                ));
+            }
+        }
         // The speed of light in the file's units.
         let (l, t_unit) = match m.units {
             crate::units::UnitSystem::Si => (1.0, 1.0),

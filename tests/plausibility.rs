@@ -87,3 +87,34 @@ fn the_root_attribute_gamma_is_a_number() {
         "{meta}"
     );
 }
+
+#[test]
+fn a_central_mass_or_surface_density_in_the_wrong_units_is_named() {
+    let dir = tempfile::tempdir().unwrap();
+    // A solar mass typed as 1 under SI units is 1 kg; at R = 0.4 m,
+    // v_K = sqrt(G M / R) and M = R v_K^2 / G = 1 kg comes back.
+    let t = disk_with(dir.path(), |p| p["units"] = "si".into());
+    assert!(t.contains("caution: the central mass is 1 kg"), "{t}");
+    assert!(t.contains("units: si takes masses in kg"), "{t}");
+    // A surface density of 1700 g cm^-2 (a common textbook disk value at
+    // 1 au, from memory) typed under astro units, where it means 1700
+    // M_sun au^-2; Σ = sigma0 R^-1 peaks at R = 0.4 with 4250 M_sun au^-2 =
+    // 4250 x 1.98841e30 kg / (1.495978707e11 m)^2 = 3.776e11 kg m^-2.
+    let t = disk_with(dir.path(), |p| {
+        p["units"] = "astro".into();
+        p["parameters"]["sigma0"] = 1700.0.into();
+    });
+    assert!(t.contains("caution: the surface density reaches"), "{t}");
+    assert!(
+        t.contains("4250 M_sun au^-2 at R = 0.4, that is 3.776"),
+        "{t}"
+    );
+    assert!(!t.contains("the central mass is"), "{t}");
+    // The same surface density in M_sun au^-2 (1700 g cm^-2 = 1.9e-5):
+    // no caution.
+    let t = disk_with(dir.path(), |p| {
+        p["units"] = "astro".into();
+        p["parameters"]["sigma0"] = 1.9e-5.into();
+    });
+    assert!(!t.contains("surface density reaches"), "{t}");
+}
