@@ -20,7 +20,7 @@ use mpi::raw::AsRaw;
 use mpi::topology::SimpleCommunicator;
 use mpi::traits::*;
 
-use crate::fields::{slab_ranges, Slab};
+use crate::fields::slab_ranges;
 use crate::output::{H5Stream, Metadata, Parallel};
 use crate::pipeline::{self, Error, StreamOptions};
 use crate::profile::Loaded;

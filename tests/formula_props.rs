@@ -422,7 +422,19 @@ fn check_typed(src: &str) -> Result<(), String> {
     }
     for (x, y) in POINTS {
         let (a, b) = (at(&e, x, y), at(&back, x, y));
-        if a.is_finite() && a.abs() < 1e12 && off_switches(&e, x, y) && !close(a, b, 1e-9) {
+        // Deep nests of powers, quotients and sines can be so ill-conditioned
+        // that rounding alone (the printed tree groups divisors differently)
+        // changes the value: where a relative nudge of 1e-12 to the point
+        // moves the value by more than 1e-6, the value says nothing about
+        // the printing and is not compared.
+        let nudged = at(&e, x * (1.0 + 1e-12), y * (1.0 + 1e-12));
+        let conditioned = close(a, nudged, 1e-6);
+        if a.is_finite()
+            && a.abs() < 1e12
+            && conditioned
+            && off_switches(&e, x, y)
+            && !close(a, b, 1e-9)
+        {
             return Err(format!("`{src}` at ({x}, {y}): {a}, printed {b}"));
         }
     }
