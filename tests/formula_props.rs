@@ -539,6 +539,7 @@ fn fuzz_findings_of_the_printer() {
         "y/2 + 0.5^(-2)*(-1.5)",
         "8/-1/0",
         "-1*0\t-8-0* 0\t-8-00",
+        "-1*-1*0\t- 5*8- 5*80-\ty\t- 5*8- 5*80-\tx-\t-8-0 ",
         &format!("{}x{}", "-(".repeat(100), ")".repeat(100)),
         &format!("{}x", "-".repeat(199)),
         &format!("{}x{}", "2^-(".repeat(66), ")".repeat(66)),

@@ -311,9 +311,19 @@ fn piece(e: &Expr, m: Parens) -> (String, u8) {
             for (i, t) in sum_terms(ts).into_iter().enumerate() {
                 match (i, negated_printed(t)) {
                     (0, _) => s += &wrap(piece(t, m), SUM),
+                    // `- (-0)` (or `- (-1.5)`) reads back as the literal
+                    // `+ 0` (`+ 1.5`): print that.
                     (_, Some(pos)) => {
-                        s += " - ";
-                        s += &wrap_after(piece(&pos, m), PRODUCT, m, true);
+                        match reads_as_number(&pos).filter(|n| n.is_sign_negative()) {
+                            Some(n) => {
+                                s += " + ";
+                                s += &number(-n);
+                            }
+                            None => {
+                                s += " - ";
+                                s += &wrap_after(piece(&pos, m), PRODUCT, m, true);
+                            }
+                        }
                     }
                     (_, None) => {
                         s += " + ";
