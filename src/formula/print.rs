@@ -336,6 +336,11 @@ fn piece(e: &Expr, m: Parens) -> (String, u8) {
         Expr::Mul(fs) if fs.is_empty() => ("1".into(), ATOM),
         Expr::Mul(_) => {
             if let Some(pos) = negated_printed(e) {
+                // `-(-0)` (or `-(-1.5)`) reads back as the literal 0 (1.5):
+                // print that.
+                if let Some(n) = reads_as_number(&pos).filter(|n| n.is_sign_negative()) {
+                    return (number(-n), ATOM);
+                }
                 // `-` applies to a unary (a power or another minus), and
                 // the result is a unary that can lead a product bare:
                 // `-x^2`, `-(-x)`, `-(x + 1)`. A product after the minus
