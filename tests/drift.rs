@@ -4,9 +4,7 @@
 //! record in the file.
 
 mod common;
-use common::{stillpoint, text};
-
-use std::path::Path;
+use common::{stillpoint, text, variant};
 
 /// The numbers of the forecast's resolution lines of the scheme whose
 /// `scheme` line contains `name`: (cells, max acceleration, drift), and
@@ -40,16 +38,6 @@ fn scheme(out: &str, name: &str) -> (Vec<(usize, f64, f64)>, Vec<f64>) {
     }
     assert_eq!(levels.len(), 3, "{name}: {out}");
     (levels, orders)
-}
-
-/// A bundled profile with changes, written into `dir`.
-fn variant(dir: &Path, name: &str, edit: impl Fn(&mut serde_json::Value)) -> String {
-    let o = stillpoint(dir, &["profiles", name]);
-    let mut v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
-    edit(&mut v);
-    let file = format!("{name}-variant.json");
-    std::fs::write(dir.join(&file), v.to_string()).unwrap();
-    file
 }
 
 /// MUSCL with a local Lax–Friedrichs flux is second order on smooth data

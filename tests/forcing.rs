@@ -6,20 +6,10 @@
 //! NumPy) and used by the drift forecast.
 
 mod common;
-use common::{stillpoint, text};
+use common::{stillpoint, text, variant};
 
 use std::path::Path;
 use std::process::Command;
-
-/// A bundled profile with changes, written into `dir`.
-fn variant(dir: &Path, name: &str, edit: impl Fn(&mut serde_json::Value)) -> String {
-    let o = stillpoint(dir, &["profiles", name]);
-    let mut v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
-    edit(&mut v);
-    let file = format!("{name}-variant.json");
-    std::fs::write(dir.join(&file), v.to_string()).unwrap();
-    file
-}
 
 /// The bundled ring on Keplerian rotation, sampled at the cell centres of
 /// a radial line.

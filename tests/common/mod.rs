@@ -5,6 +5,17 @@
 use std::path::Path;
 use std::process::{Command, Output};
 
+/// A bundled profile (printed by `stillpoint profiles NAME`) with the
+/// changes `edit` makes, written into `dir` as `NAME-variant.json`.
+pub fn variant(dir: &Path, name: &str, edit: impl Fn(&mut serde_json::Value)) -> String {
+    let o = stillpoint(dir, &["profiles", name]);
+    let mut v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    edit(&mut v);
+    let file = format!("{name}-variant.json");
+    std::fs::write(dir.join(&file), v.to_string()).unwrap();
+    file
+}
+
 /// Run the built `stillpoint` with `args` in `dir`.
 pub fn stillpoint(dir: &Path, args: &[&str]) -> Output {
     stillpoint_with(dir, args, &[])
