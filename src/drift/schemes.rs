@@ -87,7 +87,7 @@ pub struct Primitives {
 
 /// The momentum flux ρu² + P and the local Lax–Friedrichs flux between a
 /// left and a right state (ρ, u, P); `gamma` = 1 is an isothermal gas.
-fn rusanov(l: [f64; 3], r: [f64; 3], gamma: f64) -> f64 {
+pub(super) fn rusanov(l: [f64; 3], r: [f64; 3], gamma: f64) -> f64 {
     let f = |s: [f64; 3]| s[0] * s[1] * s[1] + s[2];
     let c = |s: [f64; 3]| s[1].abs() + (gamma * s[2] / s[0]).sqrt();
     let a = c(l).max(c(r));
@@ -96,7 +96,7 @@ fn rusanov(l: [f64; 3], r: [f64; 3], gamma: f64) -> f64 {
 
 /// The monotonised-central limited slope from the left and right
 /// differences (per unit length).
-fn mc(a: f64, b: f64) -> f64 {
+pub(super) fn mc(a: f64, b: f64) -> f64 {
     if a * b <= 0.0 {
         0.0
     } else {

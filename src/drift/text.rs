@@ -5,25 +5,44 @@
 
 use std::fmt;
 
-use super::{Drift, Forecast, Scheme};
+use super::{Drift, Forecast, Level, Scheme};
 use crate::check::position;
 
 /// Below this drift the scheme holds the state to rounding.
 const ROUND_OFF: f64 = 1e-12;
 
 impl Scheme {
-    /// Cells along the line that would bring the drift to `eta` at the
-    /// last observed order, None when refining does not reduce it.
-    fn cells_needed(&self, eta: f64) -> Option<usize> {
+    /// The level at the grid's own resolution: the whole grid when the
+    /// refinements ran on a block of it.
+    pub fn at_grid(&self) -> &Level {
+        self.whole.as_ref().unwrap_or(&self.levels[0])
+    }
+
+    /// The cells that would bring the drift to `eta` at the last observed
+    /// order (along the line, or per axis on a plane), None when refining
+    /// does not reduce it.
+    fn cells_needed(&self, eta: f64, coordinate: &str) -> Option<String> {
         let p = *self.orders.last()?;
-        let l = &self.levels[0];
-        (p.is_finite() && p > 0.5)
-            .then(|| (l.cells as f64 * (l.drift / eta).powf(1.0 / p)).ceil() as usize)
+        let l = self.at_grid();
+        let factor = (l.drift / eta).powf(1.0 / p);
+        if !(p.is_finite() && p > 0.5) {
+            return None;
+        }
+        if self.shape.is_empty() {
+            let n = (l.cells as f64 * factor).ceil() as usize;
+            return Some(format!("{n} cells along {coordinate}"));
+        }
+        let per: Vec<String> = self
+            .shape
+            .iter()
+            .map(|(_, n)| ((*n as f64 * factor).ceil() as usize).to_string())
+            .collect();
+        Some(format!("{} cells on {coordinate}", per.join(" x ")))
     }
 
     /// The verdict sentence for amplitude `eta`.
     fn verdict(&self, label: &str, eta: Option<f64>, coordinate: &str) -> String {
-        let d = self.levels[0].drift;
+        let d = self.at_grid().drift;
         if d.is_nan() {
             return format!("{label}: no forecast (the state is not finite somewhere)");
         }
@@ -41,9 +60,9 @@ impl Scheme {
                  the amplitude {eta:.2e}: the perturbation stands above the drift"
             ),
             Some(eta) => {
-                let cells = match self.cells_needed(eta) {
+                let cells = match self.cells_needed(eta, coordinate) {
                     Some(n) => format!(
-                        "about {n} cells along {coordinate} (observed order {:.2})",
+                        "about {n} (observed order {:.2})",
                         self.orders.last().copied().unwrap_or(f64::NAN)
                     ),
                     None => "more cells do not help at the observed order".to_string(),
@@ -58,18 +77,50 @@ impl Scheme {
     }
 
     fn json(&self) -> serde_json::Value {
-        serde_json::json!({
+        let mut v = serde_json::json!({
             "scheme": self.name,
             "data": self.data,
-            "levels": self.levels.iter().map(|l| serde_json::json!({
-                "cells": l.cells,
-                "max_acceleration": finite(l.acceleration),
-                "at": finite(l.at),
-                "max_drift": finite(l.drift),
-                "velocity_in_one_dynamical_time": finite(l.velocity),
-            })).collect::<Vec<_>>(),
+            "levels": self.levels.iter().map(Level::json).collect::<Vec<_>>(),
             "observed_order": self.orders.iter().map(|o| finite(*o)).collect::<Vec<_>>(),
+        });
+        if let Some(r) = &self.region {
+            v["evaluated"] = r.as_str().into();
+            v["cells_per_axis"] = self
+                .shape
+                .iter()
+                .map(|(c, n)| serde_json::json!({"axis": c, "cells": n}))
+                .collect();
+        }
+        if let Some(w) = &self.whole {
+            v["whole_grid"] = w.json();
+        }
+        v
+    }
+}
+
+impl Level {
+    fn json(&self) -> serde_json::Value {
+        let at = if self.point.is_empty() {
+            finite(self.at)
+        } else {
+            self.point.iter().map(|x| finite(*x)).collect()
+        };
+        serde_json::json!({
+            "cells": self.cells,
+            "max_acceleration": finite(self.acceleration),
+            "at": at,
+            "max_drift": finite(self.drift),
+            "velocity_in_one_dynamical_time": finite(self.velocity),
         })
+    }
+
+    /// Where the largest acceleration is, e.g. `0.5` or `(1.2, -0.1)`.
+    fn position(&self) -> String {
+        if self.point.is_empty() {
+            return position(self.at);
+        }
+        let p: Vec<String> = self.point.iter().map(|x| position(*x)).collect();
+        format!("({})", p.join(", "))
     }
 }
 
@@ -101,7 +152,7 @@ impl Forecast {
             out.push(dg.verdict("nodal DG", eta, s));
         }
         if let (Some(eta), Some((k, d))) = (eta, self.by_degree.last()) {
-            let fv = self.finite_volume.levels[0].drift;
+            let fv = self.finite_volume.at_grid().drift;
             if fv > eta || self.dg.as_ref().is_some_and(|g| g.levels[0].drift > eta) {
                 out.push(if *d <= eta {
                     format!(
@@ -121,7 +172,7 @@ impl Forecast {
     pub fn drifts(&self) -> Option<bool> {
         let eta = self.amplitude.as_ref()?.0;
         let dg = self.dg.as_ref().map_or(0.0, |g| g.levels[0].drift);
-        Some(self.finite_volume.levels[0].drift.max(dg) > eta)
+        Some(self.finite_volume.at_grid().drift.max(dg) > eta)
     }
 
     /// The JSON record written into files.
@@ -138,6 +189,7 @@ impl Forecast {
                 .map(|(k, d)| serde_json::json!({"degree": k, "drift": finite(*d)}))
                 .collect::<Vec<_>>(),
             "with_manufactured_forcing": self.forced,
+            "notes": self.notes,
             "verdict": self.verdicts(),
         })
     }
@@ -156,17 +208,29 @@ impl Drift {
 fn scheme(f: &mut fmt::Formatter<'_>, s: &Scheme, coordinate: &str) -> fmt::Result {
     writeln!(f, "  scheme       {}", s.name)?;
     writeln!(f, "    data       {}", s.data)?;
-    for l in &s.levels {
-        writeln!(
-            f,
-            "    {:>6} cells  max acceleration {:.3e} at {coordinate} = {}, drift {:.3e} \
-             (velocity {:.3e} in one dynamical time)",
-            l.cells,
+    if let Some(r) = &s.region {
+        writeln!(f, "    evaluated  {r}")?;
+    }
+    let line = |l: &Level| {
+        format!(
+            "max acceleration {:.3e} at {coordinate} = {}, drift {:.3e} (velocity {:.3e} in one \
+             dynamical time)",
             l.acceleration,
-            position(l.at),
+            l.position(),
             l.drift,
             l.velocity
+        )
+    };
+    if let Some(w) = &s.whole {
+        writeln!(
+            f,
+            "    whole grid at its resolution: {} cells  {}",
+            w.cells,
+            line(w)
         )?;
+    }
+    for l in &s.levels {
+        writeln!(f, "    {:>6} cells  {}", l.cells, line(l))?;
     }
     let o: Vec<String> = s.orders.iter().map(|o| format!("{o:.2}")).collect();
     writeln!(f, "    observed order {}", o.join(", "))
@@ -193,6 +257,9 @@ impl fmt::Display for Drift {
         scheme(f, &fc.finite_volume, s)?;
         if let Some(dg) = &fc.dg {
             scheme(f, dg, s)?;
+        }
+        for n in &fc.notes {
+            writeln!(f, "  note         {n}")?;
         }
         if let Some((eta, from)) = &fc.amplitude {
             writeln!(f, "  amplitude    {eta:.3e} ({from})")?;
