@@ -175,11 +175,260 @@ fn issue8_drift_forecast_is_recorded_in_the_file() {
     for q in fv["observed_order"].as_array().unwrap() {
         assert!((q.as_f64().unwrap() - 2.0).abs() < 0.1, "{v}");
     }
+    // A stratified disk is now forecast on its plane (it used to say "not
+    // evaluated: a stratified disk"); a plane with fewer than five cells
+    // along an axis is not.
     let o = stillpoint(d.path(), &["check", "warm-layer-disk"]);
     assert!(
-        text(&o).contains("drift forecast")
-            && text(&o).contains("not evaluated: a stratified disk"),
+        text(&o).contains("drift forecast") && text(&o).contains("unsplit over [r, theta]"),
         "{}",
         text(&o)
     );
+    let file = variant(d.path(), "noisy-disk-3d", |v| {
+        v["grid"]["z"]["cells"] = 4.into();
+    });
+    let o = stillpoint(d.path(), &["check", &file]);
+    assert!(
+        text(&o).contains("not evaluated: fewer than five cells along z"),
+        "{}",
+        text(&o)
+    );
+}
+
+/// A bundled profile with the grid replaced by `grid` and its
+/// perturbations removed, written as `TAG.json`.
+fn on_grid(dir: &std::path::Path, name: &str, tag: &str, grid: serde_json::Value) -> String {
+    let file = variant(dir, name, |v| {
+        v["grid"] = grid.clone();
+        v.as_object_mut().unwrap().remove("perturbations");
+    });
+    let to = format!("{tag}.json");
+    std::fs::rename(dir.join(file), dir.join(&to)).unwrap();
+    to
+}
+
+/// The smooth states on planes and boxes of the multi-dimensional
+/// forecast, with the plane it runs on and the cells per level's growth.
+fn smooth_planes(dir: &std::path::Path) -> Vec<(String, &'static str, usize)> {
+    use serde_json::json;
+    vec![
+        // A stratified disk below z = H, away from the midplane and from
+        // the height z ≈ 1.34 H where the density has a maximum along R.
+        (
+            on_grid(
+                dir,
+                "noisy-disk-3d",
+                "rz",
+                json!({"R": {"from": 1.0, "to": 2.0, "cells": 32},
+                       "z": {"from": 0.01, "to": 0.05, "cells": 16}}),
+            ),
+            "[R, z]",
+            4,
+        ),
+        (
+            on_grid(
+                dir,
+                "noisy-disk-3d",
+                "rtheta",
+                json!({"r": {"from": 1.0, "to": 2.0, "cells": 32},
+                       "theta": {"from": "pi/2 - 0.05", "to": "pi/2 - 0.01", "cells": 16}}),
+            ),
+            "[r, theta]",
+            4,
+        ),
+        // A disk on Cartesian axes, off the axis and off the lines
+        // y = √2 x and x = √2 y where v_x and v_y have extrema.
+        (
+            on_grid(
+                dir,
+                "tapered-disk-cartesian",
+                "disk-xy",
+                json!({"x": {"from": 1.0, "to": 1.6, "cells": 32},
+                       "y": {"from": 0.1, "to": 0.6, "cells": 32}}),
+            ),
+            "[x, y]",
+            4,
+        ),
+        // A sphere on Cartesian axes, away from its centre and surface.
+        (
+            on_grid(
+                dir,
+                "polytropic-envelope",
+                "sphere-xy",
+                json!({"x": {"from": 0.3, "to": 0.6, "cells": 32},
+                       "y": {"from": 0.3, "to": 0.6, "cells": 32}}),
+            ),
+            "[x, y]",
+            4,
+        ),
+        (
+            on_grid(
+                dir,
+                "noisy-disk-3d",
+                "disk-xyz",
+                json!({"x": {"from": 1.0, "to": 1.6, "cells": 10},
+                       "y": {"from": 0.1, "to": 0.6, "cells": 10},
+                       "z": {"from": 0.02, "to": 0.1, "cells": 10}}),
+            ),
+            "[x, y, z]",
+            8,
+        ),
+    ]
+}
+
+/// The unsplit MUSCL scheme with a local Lax–Friedrichs flux is second
+/// order on smooth data in several dimensions too (Toro 2009, *Riemann
+/// Solvers and Numerical Methods for Fluid Dynamics*, ch. 16 on
+/// multidimensional schemes — from memory): a stratified disk on [R, z]
+/// and on [r, theta], a disk and a sphere on [x, y], a disk on [x, y, z]
+/// show 2 ± 0.1 at both refinements.
+#[test]
+fn issue8_finite_volume_drift_is_second_order_on_planes_and_boxes() {
+    let d = tempfile::tempdir().unwrap();
+    for (file, plane, growth) in smooth_planes(d.path()) {
+        let o = stillpoint(d.path(), &["check", &file]);
+        let out = text(&o);
+        assert!(o.status.success(), "{out}");
+        let (levels, orders) = scheme(&out, &format!("unsplit over {plane}"));
+        assert_eq!(orders.len(), 2, "{out}");
+        for q in &orders {
+            assert!((q - 2.0).abs() < 0.1, "{plane}: order {q}: {out}");
+        }
+        for (w, q) in levels.windows(2).zip(&orders) {
+            assert!(((w[0].1 / w[1].1).log2() - q).abs() < 0.01, "{out}");
+            assert_eq!(w[1].0, growth * w[0].0, "{out}");
+        }
+        let coords = plane.replace('[', "(").replace(']', ")");
+        assert!(out.contains(&format!("at {coords} = (")), "{out}");
+        assert!(out.contains("whole ("), "{out}");
+        assert!(
+            out.contains("nodal DG is forecast only for states along one coordinate"),
+            "{out}"
+        );
+        assert!(!out.contains("observed order is below 2"), "{out}");
+    }
+}
+
+/// At a smooth extremum (a disk's midplane) the MC limiter clips the
+/// slopes and the largest acceleration falls only as the first power of
+/// the cell size: TVD schemes are first order at extrema (Harten 1983,
+/// J. Comput. Phys. 49, 357 — from memory); the rate 1 within 0.1 here is
+/// observed, no source. The output says why the order is below 2.
+#[test]
+fn issue8_drift_at_a_midplane_is_first_order_and_says_why() {
+    let d = tempfile::tempdir().unwrap();
+    let file = on_grid(
+        d.path(),
+        "noisy-disk-3d",
+        "midplane",
+        serde_json::json!({"R": {"from": 1.0, "to": 2.0, "cells": 32},
+                           "z": {"from": -0.05, "to": 0.05, "cells": 16}}),
+    );
+    let o = stillpoint(d.path(), &["check", &file]);
+    let out = text(&o);
+    let (_, orders) = scheme(&out, "unsplit over [R, z]");
+    for q in &orders {
+        assert!((q - 1.0).abs() < 0.1, "order {q}: {out}");
+    }
+    assert!(out.contains("observed order is below 2"), "{out}");
+    assert!(out.contains("smooth extremum"), "{out}");
+}
+
+/// On a plane the verdict names the cells per axis; a check at that
+/// resolution (past the whole-grid limit, so refined on a stated block)
+/// brings the drift at the grid's resolution to the amplitude within 10 %.
+#[test]
+fn issue8_plane_verdict_names_the_cells_per_axis() {
+    let d = tempfile::tempdir().unwrap();
+    let grid = |n: usize| {
+        serde_json::json!({"x": {"from": 1.0, "to": 1.6, "cells": n},
+                           "y": {"from": 0.1, "to": 0.6, "cells": n}})
+    };
+    let file = on_grid(d.path(), "tapered-disk-cartesian", "cartesian-32", grid(32));
+    let o = stillpoint(d.path(), &["check", &file, "--amplitude", "1e-4"]);
+    let out = text(&o);
+    let line = out
+        .lines()
+        .find(|l| l.contains("verdict      finite volume: DRIFTS"))
+        .unwrap_or_else(|| panic!("{out}"));
+    let cells: Vec<usize> = line
+        .split("about ")
+        .nth(1)
+        .and_then(|r| r.split(" cells on (x, y)").next())
+        .map(|r| r.split(" x ").map(|n| n.parse().unwrap()).collect())
+        .unwrap_or_else(|| panic!("{line}"));
+    let (levels, orders) = scheme(&out, "unsplit over [x, y]");
+    let want = 32.0 * (levels[0].2 / 1e-4).powf(1.0 / orders[1]);
+    assert_eq!(cells.len(), 2, "{line}");
+    for n in &cells {
+        assert!((*n as f64 / want - 1.0).abs() < 0.01, "{line}: {want}");
+    }
+    assert!(
+        out.contains("caution: a scheme without well-balancing drifts"),
+        "{out}"
+    );
+    let file = on_grid(
+        d.path(),
+        "tapered-disk-cartesian",
+        "cartesian-n",
+        grid(cells[0]),
+    );
+    let o = stillpoint(d.path(), &["check", &file, "--amplitude", "1e-4"]);
+    let out = text(&o);
+    assert!(
+        out.contains("refined on a block of 64 x 64 of them"),
+        "{out}"
+    );
+    let whole = out
+        .lines()
+        .find(|l| l.contains("whole grid at its resolution:"))
+        .unwrap_or_else(|| panic!("{out}"));
+    let w: Vec<&str> = whole.split_whitespace().collect();
+    let at = w.iter().position(|x| *x == "drift").unwrap();
+    let drift: f64 = w[at + 1].parse().unwrap();
+    assert!(drift < 1.1e-4 && drift > 0.9e-4, "{whole}");
+    let (levels, _) = scheme(&out, "unsplit over [x, y]");
+    assert_eq!(levels[0].0, 64 * 64, "{out}");
+}
+
+/// A build of a stratified disk on [R, z] records the plane's forecast in
+/// `drift_forecast`: what was evaluated, the positions as (R, z), the same
+/// numbers `check` prints, and the note that DG is not forecast there.
+#[test]
+fn issue8_plane_drift_forecast_is_recorded_in_the_file() {
+    let d = tempfile::tempdir().unwrap();
+    let (file, _, _) = smooth_planes(d.path()).remove(0);
+    let o = stillpoint(d.path(), &["build", &file, "-o", "rz.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let f = hdf5::File::open(d.path().join("rz.h5")).unwrap();
+    let s: hdf5::types::VarLenUnicode = f.attr("drift_forecast").unwrap().read_scalar().unwrap();
+    let v: serde_json::Value = serde_json::from_str(s.as_str()).unwrap();
+    assert_eq!(v["coordinate"], "(R, z)", "{v}");
+    let fv = &v["schemes"][0];
+    assert!(
+        fv["evaluated"]
+            .as_str()
+            .unwrap()
+            .contains("whole (32 x 16 cells)"),
+        "{v}"
+    );
+    assert_eq!(fv["cells_per_axis"][1]["axis"], "z", "{v}");
+    let o = stillpoint(d.path(), &["check", &file]);
+    let (printed, _) = scheme(&text(&o), "unsplit over [R, z]");
+    let levels = fv["levels"].as_array().unwrap();
+    assert_eq!(levels.len(), 3);
+    for (l, p) in levels.iter().zip(&printed) {
+        let a = l["max_acceleration"].as_f64().unwrap();
+        assert!((a / p.1 - 1.0).abs() < 1e-3, "{a} vs {}", p.1);
+        assert_eq!(l["cells"].as_u64().unwrap() as usize, p.0);
+        assert_eq!(l["at"].as_array().unwrap().len(), 2, "{v}");
+    }
+    for q in fv["observed_order"].as_array().unwrap() {
+        assert!((q.as_f64().unwrap() - 2.0).abs() < 0.1, "{v}");
+    }
+    assert!(v["notes"][0].as_str().unwrap().contains("nodal DG"), "{v}");
+    assert!(v["verdict"][0]
+        .as_str()
+        .unwrap()
+        .starts_with("finite volume"));
 }
