@@ -225,6 +225,18 @@ fn smooth_planes(dir: &std::path::Path) -> Vec<(String, &'static str, usize)> {
             "[R, z]",
             4,
         ),
+        // The same on [R, phi, z]: evaluated on its meridional plane.
+        (
+            on_grid(
+                dir,
+                "noisy-disk-3d",
+                "rphiz",
+                json!({"R": {"from": 1.0, "to": 2.0, "cells": 32}, "phi": {"cells": 4},
+                       "z": {"from": 0.01, "to": 0.05, "cells": 16}}),
+            ),
+            "[R, z]",
+            4,
+        ),
         (
             on_grid(
                 dir,

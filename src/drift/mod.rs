@@ -14,11 +14,13 @@
 //! amplitude η drives δv/c of about η (an acoustic wave: δv/c = δP/(γP)),
 //! so the verdict compares the drift with η.
 //!
-//! Covered: every grid with an axis along the balance coordinate of a
-//! slab, a sphere or a disk midplane (lines, `[R, phi]`, `[x, y]`, `[x, z]`
-//! for a slab along any of its axes, `[r, theta]`, the 3D layouts holding
-//! those). Not covered, said in words: a stratified disk (its state varies
-//! in R and z), a disk or sphere on a Cartesian grid, a torus.
+//! Covered on a line: every grid with an axis along the balance coordinate
+//! of a slab, a sphere or a disk midplane (lines, `[R, phi]`, `[x, y]`,
+//! `[x, z]` for a slab along any of its axes, `[r, theta]`, the 3D layouts
+//! holding those). A state that varies in more than one coordinate (a
+//! stratified disk, a disk or sphere on a Cartesian grid) is forecast on
+//! its plane or box by [`multi`], finite volume only (a note says DG is
+//! not). A torus is solved apart and has no forecast.
 //!
 //! Owns: the forecast, its text and its JSON. Does not own: the schemes'
 //! arithmetic (`schemes`), sampling, or the balance verdict (`check`).

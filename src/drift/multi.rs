@@ -84,11 +84,11 @@ fn gravity(bg: &dyn crate::background::Background, grid: &Grid) -> Vec<Vec<f64>>
     let dims = bg.frame().dims();
     for start in (0..n).step_by(LANES) {
         let m = LANES.min(n - start);
-        for k in 0..m {
-            let mut rest = start + k;
-            for a in (0..d).rev() {
-                pts[a][k] = centres[a][rest % shape[a]];
-                rest /= shape[a];
+        let mut rest: Vec<usize> = (start..start + m).collect();
+        for a in (0..d).rev() {
+            for (p, r) in pts[a].iter_mut().zip(rest.iter_mut()) {
+                *p = centres[a][*r % shape[a]];
+                *r /= shape[a];
             }
         }
         let g: Vec<&[f64]> = pts.iter().map(|v| &v[..m]).collect();
