@@ -140,12 +140,18 @@ impl Forecast {
         let s = &self.coordinate;
         let mut out = vec![self.finite_volume.verdict("finite volume", eta, s)];
         if self.forced {
+            let (who, whose) = if self.finite_volume.region.is_some() {
+                ("the finite-volume scheme adds", "its")
+            } else {
+                ("both schemes add", "their")
+            };
             out.insert(
                 0,
-                "the laws do not balance (solve_for: nothing): both schemes add the manufactured \
-                 forcing (the file's /forcing group) as a source, so what remains is their \
-                 discretisation error"
-                    .to_string(),
+                format!(
+                    "the laws do not balance (solve_for: nothing): {who} the manufactured \
+                     forcing (the file's /forcing group) as a source, so what remains is {whose} \
+                     discretisation error"
+                ),
             );
         }
         if let Some(dg) = &self.dg {
