@@ -470,6 +470,7 @@ fn calibrate_write(
             name: name.to_string(),
             fields,
             link_to: None,
+            sampling: None,
         })
         .collect();
     let n0 = plan.shape[0];

@@ -5,6 +5,9 @@
 //! and sampler, the stability cautions, and assembling the metadata. Does
 //! not own: command-line parsing or file formats.
 
+mod faces;
+pub use faces::{group_name as face_group, STAGGERED};
+
 use std::path::Path;
 
 use crate::background::{Background, Frame, Shape};
@@ -772,6 +775,7 @@ impl Built<'_> {
             let specs = self.forcing_fields(&fs).into_iter().map(|f| f.0).collect();
             groups.push((crate::forcing::GROUP, specs));
         }
+        groups.extend(Self::face_groups(&self.face_parts()?));
         Ok(groups)
     }
 
@@ -788,12 +792,15 @@ impl Built<'_> {
             .slab_into(rows.clone(), reuse)
             .map_err(|e| self.sample_error(e))?;
         if let Some(fs) = forcing {
-            let extra = fs.slab(rows).map_err(|e| self.sample_error(e))?;
+            let extra = fs.slab(rows.clone()).map_err(|e| self.sample_error(e))?;
             let picks: Vec<usize> = self.forcing_fields(fs).into_iter().map(|f| f.1).collect();
             let mut data: Vec<Option<Vec<f64>>> = extra.data.into_iter().map(Some).collect();
             for k in picks {
                 slab.data.push(data[k].take().unwrap_or_default());
             }
+        }
+        if self.loaded.faces.any() {
+            self.face_slabs(&self.face_parts()?, rows, &mut slab.data)?;
         }
         Ok(slab)
     }
@@ -814,12 +821,14 @@ impl Built<'_> {
         let kept = self.kept_groups(&sampler)?;
         let fields = kept[0].1.clone();
         let perturbed = kept.iter().any(|g| g.0 == "state");
+        let own = self.face_sampling()?;
         let mut groups: Vec<GroupPlan> = kept
             .into_iter()
             .map(|(name, f)| GroupPlan {
                 name: name.to_string(),
                 fields: f,
                 link_to: None,
+                sampling: own.iter().find(|g| g.0 == name).map(|g| g.1.clone()),
             })
             .collect();
         if !perturbed {
@@ -830,6 +839,7 @@ impl Built<'_> {
                     name: "state".into(),
                     fields,
                     link_to: Some("background".into()),
+                    sampling: None,
                 },
             );
         }
@@ -871,8 +881,11 @@ impl Built<'_> {
                 )
                 .into());
             }
-            for (_, f) in &mut groups {
-                f.retain(|f| wanted.contains(&f.name));
+            for (name, f) in &mut groups {
+                // The staggered components are asked for by their own key.
+                if *name != STAGGERED {
+                    f.retain(|f| wanted.contains(&f.name));
+                }
             }
         }
         Ok(groups)
@@ -1120,11 +1133,13 @@ pub fn unperturbed_groups(fields: &[crate::fields::FieldSpec]) -> [GroupPlan; 2]
             name: "background".into(),
             fields: fields.to_vec(),
             link_to: None,
+            sampling: None,
         },
         GroupPlan {
             name: "state".into(),
             fields: fields.to_vec(),
             link_to: Some("background".into()),
+            sampling: None,
         },
     ]
 }

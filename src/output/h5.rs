@@ -74,6 +74,9 @@ pub struct GroupPlan {
     /// When set, the group holds links to this group's datasets and takes
     /// no slabs.
     pub link_to: Option<String>,
+    /// The `sampling` attribute of its datasets when it is not the file's
+    /// (values at faces, say).
+    pub sampling: Option<String>,
 }
 
 /// An HDF5 file being written slab by slab. Create it with
@@ -234,7 +237,11 @@ impl H5Stream {
             for f in &plan.fields {
                 let ds = create_field(&group, f, &cells, precision, filters)?;
                 string_attr(&ds, "units", &units.unit_string(f.dim))?;
-                string_attr(&ds, "sampling", sampling)?;
+                string_attr(
+                    &ds,
+                    "sampling",
+                    plan.sampling.as_deref().unwrap_or(sampling),
+                )?;
                 string_attr(&ds, "placement", &f.placement.describe(&names))?;
                 sets.push((f.clone(), ds));
             }
@@ -559,11 +566,13 @@ pub fn write_hdf5(doc: &Document, path: &Path, precision: Precision) -> Result<(
             name: "background".into(),
             fields: specs(doc.background),
             link_to: None,
+            sampling: None,
         },
         GroupPlan {
             name: "state".into(),
             fields: specs(doc.state),
             link_to: linked.then(|| "background".to_string()),
+            sampling: None,
         },
     ];
     let mut out = H5Stream::create(

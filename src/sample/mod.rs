@@ -133,6 +133,27 @@ impl SamplingRule {
     }
 }
 
+/// Values at cell faces, written beside the cell fields on request
+/// (`sampling.faces`, `sampling.staggered_velocity`): the background, never
+/// perturbed, as point values.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub struct FaceRequest {
+    /// Every field at the faces normal to each grid axis: None when not
+    /// asked; `Some(None)` at the face centres; `Some(Some(n))` at n
+    /// Gauss–Legendre nodes per axis of each face.
+    pub values: Option<Option<usize>>,
+    /// The velocity component along each grid axis at the centres of the
+    /// faces normal to it (a staggered mesh).
+    pub staggered: bool,
+}
+
+impl FaceRequest {
+    /// Whether anything is asked.
+    pub fn any(&self) -> bool {
+        self.values.is_some() || self.staggered
+    }
+}
+
 /// Gas constants the sampler needs beyond the background.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct GasConstants {
