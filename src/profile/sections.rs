@@ -610,9 +610,9 @@ pub(super) fn faces(node: Node) -> Result<crate::sample::FaceRequest, ProfileErr
             }
             let n = p.node().positive_int()?;
             if n > 64 {
-                return Err(p.node().error(format!(
-                    "face_points: 1 to 64 nodes per axis of a face, got {n}"
-                )));
+                return Err(p
+                    .node()
+                    .error(format!("1 to 64 nodes per axis of a face, got {n}")));
             }
             Some(n)
         }
