@@ -597,13 +597,14 @@ impl Built<'_> {
                 let resolved = match self.resolved.get() {
                     Some(r) => r,
                     None => {
-                        let r = sample::resolve_tolerance(
+                        let r = sample::resolve_tolerance_with(
                             self.background(),
                             grid,
                             *tolerance,
                             *start,
                             &gas,
                             &cuts,
+                            Some(&self.extras),
                         )
                         .map_err(|e| self.sample_error(e))?;
                         self.resolved.get_or_init(|| r)

@@ -340,19 +340,46 @@ pub fn resolve_tolerance(
     gas: &GasConstants,
     cuts: &Cuts,
 ) -> Result<Resolved, SampleError> {
+    resolve_tolerance_with(bg, grid, tolerance, start, gas, cuts, None)
+}
+
+/// [`resolve_tolerance`], with the fields asked for on request (`extras`:
+/// accelerations, diagnostics) compared too, so that every field written
+/// meets the tolerance and its estimate is stated.
+pub fn resolve_tolerance_with<'a>(
+    bg: &'a dyn Background,
+    grid: &'a Grid,
+    tolerance: f64,
+    start: usize,
+    gas: &GasConstants,
+    cuts: &Cuts,
+    extras: Option<&'a Extras>,
+) -> Result<Resolved, SampleError> {
+    let with = |s: Sampler<'a>| -> Sampler<'a> {
+        match extras {
+            Some(x) => s.with_extras(x),
+            None => s,
+        }
+    };
     let shape = grid.shape();
     let row: usize = shape[1..].iter().product();
     let rows = (ESTIMATE_CELLS / row.max(1)).max(1);
     let mut n = start;
     loop {
-        let lo = Sampler::with_cuts(bg, grid, &SamplingRule::Average { points: n }, gas, cuts)?;
-        let hi = Sampler::with_cuts(
+        let lo = with(Sampler::with_cuts(
+            bg,
+            grid,
+            &SamplingRule::Average { points: n },
+            gas,
+            cuts,
+        )?);
+        let hi = with(Sampler::with_cuts(
             bg,
             grid,
             &SamplingRule::Average { points: n + 2 },
             gas,
             cuts,
-        )?;
+        )?);
         let names: Vec<String> = hi.fields().into_iter().map(|f| f.name).collect();
         let (mut diff, mut scale) = (vec![0.0f64; names.len()], vec![0.0f64; names.len()]);
         let mut from = 0;
