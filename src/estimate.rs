@@ -471,6 +471,7 @@ fn calibrate_write(
             fields,
             link_to: None,
             sampling: None,
+            about: Vec::new(),
         })
         .collect();
     let n0 = plan.shape[0];

@@ -830,8 +830,22 @@ impl Built<'_> {
                 fields: f,
                 link_to: None,
                 sampling: own.iter().find(|g| g.0 == name).map(|g| g.1.clone()),
+                about: Vec::new(),
             })
             .collect();
+        // The fields on request are the background's: say so on each.
+        let optional = sample::extras::optional_names(
+            self.loaded.model.shape.frame(),
+            &self.loaded.grid.velocity_components(),
+        );
+        if let Some(bg) = groups.iter_mut().find(|g| g.name == "background") {
+            bg.about = bg
+                .fields
+                .iter()
+                .filter(|f| optional.contains(&f.name))
+                .map(|f| (f.name.clone(), BACKGROUND_ONLY.to_string()))
+                .collect();
+        }
         if !perturbed {
             // Nothing perturbs the state: /state links to /background.
             groups.insert(
@@ -841,6 +855,7 @@ impl Built<'_> {
                     fields,
                     link_to: Some("background".into()),
                     sampling: None,
+                    about: Vec::new(),
                 },
             );
         }
@@ -1014,6 +1029,15 @@ impl Built<'_> {
     }
 }
 
+/// The `about` attribute of the fields written on request (accelerations
+/// and diagnostics): they are the background's, also when perturbations
+/// make `/state` differ.
+pub const BACKGROUND_ONLY: &str = "of the background (the equilibrium) only: when \
+     perturbations make /state differ it is not written there (when nothing perturbs, /state links \
+     here). The accelerations are what a well-balanced scheme subtracts, the background's by \
+     definition; the diagnostics are exact functions of the laws and their derivatives, which \
+     perturbations (noise, say) do not have";
+
 /// How far a streamed build has come (see [`Built::write_hdf5_reporting`]).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Progress {
@@ -1135,12 +1159,14 @@ pub fn unperturbed_groups(fields: &[crate::fields::FieldSpec]) -> [GroupPlan; 2]
             fields: fields.to_vec(),
             link_to: None,
             sampling: None,
+            about: Vec::new(),
         },
         GroupPlan {
             name: "state".into(),
             fields: fields.to_vec(),
             link_to: Some("background".into()),
             sampling: None,
+            about: Vec::new(),
         },
     ]
 }

@@ -340,8 +340,34 @@ fn issue8_a_perturbed_build_writes_the_background_at_faces() {
              "relative_to": "value", "keep": "entropy", "centre": { "z": 2 },
              "width": { "z": 0.3 } } ], "output""#,
     );
+    let text = text.replace(
+        r#""output": { "file": "slab.h5" }"#,
+        r#""output": { "file": "slab.h5", "fields": ["density", "pressure", "gravity_z", "mach_number"] }"#,
+    );
     let f = build(dir.path(), "pulsed", &text, &[]);
     assert!(f.group("perturbation").is_ok());
+    // The fields on request are the background's (issue 8 part 2): in
+    // /background with an attribute saying so, not in /state.
+    for name in ["gravity_z", "mach_number"] {
+        let about = attr(&f, &format!("background/{name}"), "about");
+        assert!(
+            about.contains("of the background (the equilibrium) only"),
+            "{about}"
+        );
+        assert!(
+            f.dataset(&format!("state/{name}")).is_err(),
+            "{name} in /state"
+        );
+    }
+    let (_, g) = read(&f, "background/gravity_z");
+    assert!(g.iter().all(|g| (g + 1.0).abs() < 1e-14), "g = -g0");
+    let (_, g) = read(&f, "faces_z/gravity_z");
+    assert_eq!(g.len(), 17);
+    assert!(
+        g.iter().all(|g| (g + 1.0).abs() < 1e-14),
+        "g = -g0 at the faces"
+    );
+    assert!(f.dataset("state/density").is_ok());
     let (_, face) = read(&f, "faces_z/density");
     let (_, edges) = read(&f, "grid/z_edges");
     for (i, z) in edges.iter().enumerate() {

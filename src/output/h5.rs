@@ -77,6 +77,8 @@ pub struct GroupPlan {
     /// The `sampling` attribute of its datasets when it is not the file's
     /// (values at faces, say).
     pub sampling: Option<String>,
+    /// An `about` attribute for some of its datasets: (field, text).
+    pub about: Vec<(String, String)>,
 }
 
 /// An HDF5 file being written slab by slab. Create it with
@@ -243,6 +245,9 @@ impl H5Stream {
                     plan.sampling.as_deref().unwrap_or(sampling),
                 )?;
                 string_attr(&ds, "placement", &f.placement.describe(&names))?;
+                if let Some((_, text)) = plan.about.iter().find(|(n, _)| *n == f.name) {
+                    string_attr(&ds, "about", text)?;
+                }
                 sets.push((f.clone(), ds));
             }
             written.push((plan.name.clone(), sets));
@@ -567,12 +572,14 @@ pub fn write_hdf5(doc: &Document, path: &Path, precision: Precision) -> Result<(
             fields: specs(doc.background),
             link_to: None,
             sampling: None,
+            about: Vec::new(),
         },
         GroupPlan {
             name: "state".into(),
             fields: specs(doc.state),
             link_to: linked.then(|| "background".to_string()),
             sampling: None,
+            about: Vec::new(),
         },
     ];
     let mut out = H5Stream::create(
