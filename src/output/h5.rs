@@ -10,7 +10,9 @@
 //! `command_line`, `generator`, `sampling`, `cautions` (lines joined by
 //! newlines), `created` (UTC, ISO 8601; `command_line` and `created` are
 //! left out of reproducible files) and the metadata's extra pairs; on every
-//! dataset `units`, `placement` and (fields) `sampling`, `chunks` (the
+//! dataset `units`, `placement` and (fields) `sampling` (the group's own,
+//! [`GroupPlan::sampling`], for values at faces), `about` where the plan
+//! gives one, `chunks` (the
 //! chunk shape, `64 x 384`) and `filters` (`none`, `deflate 4`,
 //! `shuffle, deflate 4`), and on field datasets `checksum` (see
 //! [`super::checksum`]). Object time stamps

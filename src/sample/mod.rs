@@ -25,6 +25,8 @@
 //! * on request (`output.fields`, see [`extras`]): the accelerations
 //!   `gravity_<c>`, `pressure_acceleration_<c>` and the diagnostic fields,
 //!   plain volume averages of their point values.
+//! * at faces on request ([`FaceRequest`], [`Sampler::faces`]): point
+//!   values of the background at the face centres or face nodes.
 //!
 //! Velocity components are named by [`Grid::velocity_components`]: the
 //! rotation v_φ is projected on e_φ (on a Cartesian grid v_x = −v_φ y/R,
