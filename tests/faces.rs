@@ -152,12 +152,13 @@ fn issue8_face_nodes_of_the_power_law_disk_on_a_polar_grid() {
     assert_eq!(shape, vec![11, 6, 3]);
     let (_, rho) = read(&f, "faces_R/density");
     let (_, g) = read(&f, "faces_R/gravity_R");
-    for i in 0..11 {
+    assert_eq!(re.len(), 11);
+    for (i, r) in re.iter().enumerate() {
         for jk in 0..18 {
             let k = i * 18 + jk;
-            close(v[k], vphi(re[i]), 1e-13, "faces_R v_phi");
-            close(rho[k], 1.0 / re[i], 1e-14, "faces_R Sigma");
-            close(g[k], -1.0 / (re[i] * re[i]), 1e-14, "faces_R g_R");
+            close(v[k], vphi(*r), 1e-13, "faces_R v_phi");
+            close(rho[k], 1.0 / r, 1e-14, "faces_R Sigma");
+            close(g[k], -1.0 / (r * r), 1e-14, "faces_R g_R");
         }
     }
     // Faces normal to phi: (R cell i, phi edge j, R node k) at R = mid +
