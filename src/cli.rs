@@ -1067,6 +1067,27 @@ fn report_written(loaded: &Loaded, written: &[PathBuf], cautions: &[String]) {
         };
         say!("wrote {}{what}", p.display());
     }
+    if loaded.faces.any() {
+        let mut groups: Vec<&str> = Vec::new();
+        if loaded.faces.values.is_some() {
+            groups.extend(
+                loaded
+                    .grid
+                    .axes()
+                    .iter()
+                    .map(|a| pipeline::face_group(a.coord)),
+            );
+        }
+        if loaded.faces.staggered {
+            groups.push(pipeline::STAGGERED);
+        }
+        say!(
+            "note: the values at faces (/{}) are in the HDF5 file only: the XDMF description \
+             leaves them out (one value per cell there), and CSV, .npy and raw outputs hold the \
+             cell fields",
+            groups.join(", /")
+        );
+    }
     for c in cautions {
         say!("caution: {c}");
     }

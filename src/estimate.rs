@@ -470,6 +470,8 @@ fn calibrate_write(
             name: name.to_string(),
             fields,
             link_to: None,
+            sampling: None,
+            about: Vec::new(),
         })
         .collect();
     let n0 = plan.shape[0];

@@ -5,6 +5,9 @@
 //! and sampler, the stability cautions, and assembling the metadata. Does
 //! not own: command-line parsing or file formats.
 
+mod faces;
+pub use faces::{group_name as face_group, STAGGERED};
+
 use std::path::Path;
 
 use crate::background::{Background, Frame, Shape};
@@ -594,13 +597,14 @@ impl Built<'_> {
                 let resolved = match self.resolved.get() {
                     Some(r) => r,
                     None => {
-                        let r = sample::resolve_tolerance(
+                        let r = sample::resolve_tolerance_with(
                             self.background(),
                             grid,
                             *tolerance,
                             *start,
                             &gas,
                             &cuts,
+                            Some(&self.extras),
                         )
                         .map_err(|e| self.sample_error(e))?;
                         self.resolved.get_or_init(|| r)
@@ -772,6 +776,7 @@ impl Built<'_> {
             let specs = self.forcing_fields(&fs).into_iter().map(|f| f.0).collect();
             groups.push((crate::forcing::GROUP, specs));
         }
+        groups.extend(Self::face_groups(&self.face_parts()?));
         Ok(groups)
     }
 
@@ -788,12 +793,15 @@ impl Built<'_> {
             .slab_into(rows.clone(), reuse)
             .map_err(|e| self.sample_error(e))?;
         if let Some(fs) = forcing {
-            let extra = fs.slab(rows).map_err(|e| self.sample_error(e))?;
+            let extra = fs.slab(rows.clone()).map_err(|e| self.sample_error(e))?;
             let picks: Vec<usize> = self.forcing_fields(fs).into_iter().map(|f| f.1).collect();
             let mut data: Vec<Option<Vec<f64>>> = extra.data.into_iter().map(Some).collect();
             for k in picks {
                 slab.data.push(data[k].take().unwrap_or_default());
             }
+        }
+        if self.loaded.faces.any() {
+            self.face_slabs(&self.face_parts()?, rows, &mut slab.data)?;
         }
         Ok(slab)
     }
@@ -814,14 +822,30 @@ impl Built<'_> {
         let kept = self.kept_groups(&sampler)?;
         let fields = kept[0].1.clone();
         let perturbed = kept.iter().any(|g| g.0 == "state");
+        let own = self.face_sampling()?;
         let mut groups: Vec<GroupPlan> = kept
             .into_iter()
             .map(|(name, f)| GroupPlan {
                 name: name.to_string(),
                 fields: f,
                 link_to: None,
+                sampling: own.iter().find(|g| g.0 == name).map(|g| g.1.clone()),
+                about: Vec::new(),
             })
             .collect();
+        // The fields on request are the background's: say so on each.
+        let optional = sample::extras::optional_names(
+            self.loaded.model.shape.frame(),
+            &self.loaded.grid.velocity_components(),
+        );
+        if let Some(bg) = groups.iter_mut().find(|g| g.name == "background") {
+            bg.about = bg
+                .fields
+                .iter()
+                .filter(|f| optional.contains(&f.name))
+                .map(|f| (f.name.clone(), BACKGROUND_ONLY.to_string()))
+                .collect();
+        }
         if !perturbed {
             // Nothing perturbs the state: /state links to /background.
             groups.insert(
@@ -830,6 +854,8 @@ impl Built<'_> {
                     name: "state".into(),
                     fields,
                     link_to: Some("background".into()),
+                    sampling: None,
+                    about: Vec::new(),
                 },
             );
         }
@@ -871,8 +897,11 @@ impl Built<'_> {
                 )
                 .into());
             }
-            for (_, f) in &mut groups {
-                f.retain(|f| wanted.contains(&f.name));
+            for (name, f) in &mut groups {
+                // The staggered components are asked for by their own key.
+                if *name != STAGGERED {
+                    f.retain(|f| wanted.contains(&f.name));
+                }
             }
         }
         Ok(groups)
@@ -1000,6 +1029,15 @@ impl Built<'_> {
     }
 }
 
+/// The `about` attribute of the fields written on request (accelerations
+/// and diagnostics): they are the background's, also when perturbations
+/// make `/state` differ.
+pub const BACKGROUND_ONLY: &str = "of the background (the equilibrium) only: when \
+     perturbations make /state differ it is not written there (when nothing perturbs, /state links \
+     here). The accelerations are what a well-balanced scheme subtracts, the background's by \
+     definition; the diagnostics are exact functions of the laws and their derivatives, which \
+     perturbations (noise, say) do not have";
+
 /// How far a streamed build has come (see [`Built::write_hdf5_reporting`]).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Progress {
@@ -1120,11 +1158,15 @@ pub fn unperturbed_groups(fields: &[crate::fields::FieldSpec]) -> [GroupPlan; 2]
             name: "background".into(),
             fields: fields.to_vec(),
             link_to: None,
+            sampling: None,
+            about: Vec::new(),
         },
         GroupPlan {
             name: "state".into(),
             fields: fields.to_vec(),
             link_to: Some("background".into()),
+            sampling: None,
+            about: Vec::new(),
         },
     ]
 }

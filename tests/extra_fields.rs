@@ -284,6 +284,65 @@ fn issue8_averaged_gravity_is_the_cell_average() {
     assert!(worst < 1e-12, "{worst}");
 }
 
+/// With a rule to a tolerance the fields on request are compared too
+/// (n against n + 2 points): their estimate is in the `sampling` attribute
+/// and the averaged gravity meets the tolerance against its exact cell
+/// average (the integral by hand of the test above).
+#[test]
+fn issue8_fields_on_request_meet_the_tolerance() {
+    let d = tempfile::tempdir().unwrap();
+    let fields = vec![
+        "density".to_string(),
+        "gravity_R".to_string(),
+        "pressure_acceleration_R".to_string(),
+    ];
+    let text = profile(
+        POWERLAW,
+        "",
+        r#"{ "rule": "average", "tolerance": 1e-13 }"#,
+        &fields,
+    )
+    .replace("H0", "0.05");
+    let file = build(d.path(), "tol", &text);
+    let f = hdf5::File::open(&file).unwrap();
+    let ds = f.dataset("background/gravity_R").unwrap();
+    let sampling = ds
+        .attr("sampling")
+        .unwrap()
+        .read_scalar::<hdf5::types::VarLenUnicode>()
+        .unwrap()
+        .to_string();
+    for name in ["gravity_R", "pressure_acceleration_R"] {
+        let at = sampling
+            .find(&format!("{name} "))
+            .unwrap_or_else(|| panic!("no estimate of {name}: {sampling}"));
+        let est: f64 = sampling[at + name.len() + 1..]
+            .split([',', ';'])
+            .next()
+            .unwrap()
+            .trim()
+            .parse()
+            .unwrap();
+        assert!(est <= 1e-13, "{name} {est}: {sampling}");
+    }
+    assert!(!sampling.contains("NOT MET"), "{sampling}");
+    let g = ds.read_raw::<f64>().unwrap();
+    let e = f
+        .dataset("grid/R_edges")
+        .unwrap()
+        .read_raw::<f64>()
+        .unwrap();
+    let mut worst = 0.0f64;
+    for (i, w) in e.windows(2).enumerate() {
+        let exact = -(w[1] / w[0]).ln() / (0.5 * (w[1] * w[1] - w[0] * w[0]));
+        for k in 0..4 {
+            worst = worst.max((g[i * 4 + k] - exact).abs() / exact.abs());
+        }
+    }
+    eprintln!("gravity_R to a tolerance of 1e-13 vs the exact cell average: {worst:.3e}");
+    assert!(worst < 1e-13, "{worst}");
+}
+
 fn diagnostic_fields() -> Vec<String> {
     [
         "velocity_phi",

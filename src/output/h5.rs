@@ -10,7 +10,9 @@
 //! `command_line`, `generator`, `sampling`, `cautions` (lines joined by
 //! newlines), `created` (UTC, ISO 8601; `command_line` and `created` are
 //! left out of reproducible files) and the metadata's extra pairs; on every
-//! dataset `units`, `placement` and (fields) `sampling`, `chunks` (the
+//! dataset `units`, `placement` and (fields) `sampling` (the group's own,
+//! [`GroupPlan::sampling`], for values at faces), `about` where the plan
+//! gives one, `chunks` (the
 //! chunk shape, `64 x 384`) and `filters` (`none`, `deflate 4`,
 //! `shuffle, deflate 4`), and on field datasets `checksum` (see
 //! [`super::checksum`]). Object time stamps
@@ -74,6 +76,11 @@ pub struct GroupPlan {
     /// When set, the group holds links to this group's datasets and takes
     /// no slabs.
     pub link_to: Option<String>,
+    /// The `sampling` attribute of its datasets when it is not the file's
+    /// (values at faces, say).
+    pub sampling: Option<String>,
+    /// An `about` attribute for some of its datasets: (field, text).
+    pub about: Vec<(String, String)>,
 }
 
 /// An HDF5 file being written slab by slab. Create it with
@@ -234,8 +241,15 @@ impl H5Stream {
             for f in &plan.fields {
                 let ds = create_field(&group, f, &cells, precision, filters)?;
                 string_attr(&ds, "units", &units.unit_string(f.dim))?;
-                string_attr(&ds, "sampling", sampling)?;
+                string_attr(
+                    &ds,
+                    "sampling",
+                    plan.sampling.as_deref().unwrap_or(sampling),
+                )?;
                 string_attr(&ds, "placement", &f.placement.describe(&names))?;
+                if let Some((_, text)) = plan.about.iter().find(|(n, _)| *n == f.name) {
+                    string_attr(&ds, "about", text)?;
+                }
                 sets.push((f.clone(), ds));
             }
             written.push((plan.name.clone(), sets));
@@ -559,11 +573,15 @@ pub fn write_hdf5(doc: &Document, path: &Path, precision: Precision) -> Result<(
             name: "background".into(),
             fields: specs(doc.background),
             link_to: None,
+            sampling: None,
+            about: Vec::new(),
         },
         GroupPlan {
             name: "state".into(),
             fields: specs(doc.state),
             link_to: linked.then(|| "background".to_string()),
+            sampling: None,
+            about: Vec::new(),
         },
     ];
     let mut out = H5Stream::create(

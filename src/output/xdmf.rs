@@ -296,6 +296,8 @@ mod tests {
             name: "state".into(),
             fields: vec![cell, face],
             link_to: None,
+            sampling: None,
+            about: Vec::new(),
         }];
         let t = xdmf_text("a&b.h5", &grid, &groups, Precision::Double, "slab");
         assert!(t.contains(r#"<Attribute Name="density""#), "{t}");

@@ -105,6 +105,9 @@ pub struct Loaded {
     pub grid: Grid,
     /// The sampling rule.
     pub sampling: SamplingRule,
+    /// Values at cell faces on request (`sampling.faces`,
+    /// `sampling.staggered_velocity`).
+    pub faces: crate::sample::FaceRequest,
     /// Output settings.
     pub output: OutputSpec,
     /// What is added to the equilibrium (`perturbations`), in profile order.
@@ -479,6 +482,10 @@ pub fn from_text(
         None => SamplingRule::Center,
         Some(s) => sampling(s.node())?,
     };
+    let faces = match top.child("sampling") {
+        None => crate::sample::FaceRequest::default(),
+        Some(s) => sections::faces(s.node())?,
+    };
     let output = match top.child("output") {
         None => OutputSpec {
             file: None,
@@ -550,6 +557,7 @@ pub fn from_text(
         model,
         grid,
         sampling,
+        faces,
         output,
         perturbations,
     })

@@ -482,7 +482,15 @@ pub(super) fn intended_jumps(node: Node, laws: &[&str]) -> Result<Vec<String>, P
 }
 
 pub(super) fn sampling(node: Node) -> Result<SamplingRule, ProfileError> {
-    node.only_keys(&["rule", "points", "tolerance", "modes"])?;
+    node.only_keys(&[
+        "rule",
+        "points",
+        "tolerance",
+        "modes",
+        "faces",
+        "face_points",
+        "staggered_velocity",
+    ])?;
     let rule = node.require("rule")?.node().choice(&[
         (0, "center"),
         (1, "average"),
@@ -577,6 +585,46 @@ pub(super) fn sampling(node: Node) -> Result<SamplingRule, ProfileError> {
         return Err(node.error("sampling.points: at most 64 points per axis"));
     }
     Ok(SamplingRule::Average { points })
+}
+
+/// The values at faces asked in the `sampling` section: `faces`
+/// (`"centres"` or `"gauss-legendre-nodes"`), `face_points` (nodes per axis
+/// of a face, with `"gauss-legendre-nodes"` only, 1 to 64, default 2) and
+/// `staggered_velocity` (true or false).
+pub(super) fn faces(node: Node) -> Result<crate::sample::FaceRequest, ProfileError> {
+    let values = match node.child("faces") {
+        None => None,
+        Some(f) => Some(
+            f.node()
+                .choice(&[(0, "centres"), (1, "gauss-legendre-nodes")])?,
+        ),
+    };
+    let points = match node.child("face_points") {
+        None => None,
+        Some(p) => {
+            if values != Some(1) {
+                return Err(p.node().error(
+                    "face_points goes with faces \"gauss-legendre-nodes\" only (the nodes per \
+                     axis of each face)",
+                ));
+            }
+            let n = p.node().positive_int()?;
+            if n > 64 {
+                return Err(p
+                    .node()
+                    .error(format!("1 to 64 nodes per axis of a face, got {n}")));
+            }
+            Some(n)
+        }
+    };
+    let staggered = match node.child("staggered_velocity") {
+        None => false,
+        Some(s) => s.node().bool()?,
+    };
+    Ok(crate::sample::FaceRequest {
+        values: values.map(|v| (v == 1).then(|| points.unwrap_or(2))),
+        staggered,
+    })
 }
 
 pub(super) fn output(node: Node) -> Result<OutputSpec, ProfileError> {

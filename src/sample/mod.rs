@@ -25,6 +25,8 @@
 //! * on request (`output.fields`, see [`extras`]): the accelerations
 //!   `gravity_<c>`, `pressure_acceleration_<c>` and the diagnostic fields,
 //!   plain volume averages of their point values.
+//! * at faces on request ([`FaceRequest`], [`Sampler::faces`]): point
+//!   values of the background at the face centres or face nodes.
 //!
 //! Velocity components are named by [`Grid::velocity_components`]: the
 //! rotation v_φ is projected on e_φ (on a Cartesian grid v_x = −v_φ y/R,
@@ -130,6 +132,27 @@ impl SamplingRule {
                 grid.volume_element_name()
             ),
         }
+    }
+}
+
+/// Values at cell faces, written beside the cell fields on request
+/// (`sampling.faces`, `sampling.staggered_velocity`): the background, never
+/// perturbed, as point values.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub struct FaceRequest {
+    /// Every field at the faces normal to each grid axis: None when not
+    /// asked; `Some(None)` at the face centres; `Some(Some(n))` at n
+    /// Gauss–Legendre nodes per axis of each face.
+    pub values: Option<Option<usize>>,
+    /// The velocity component along each grid axis at the centres of the
+    /// faces normal to it (a staggered mesh).
+    pub staggered: bool,
+}
+
+impl FaceRequest {
+    /// Whether anything is asked.
+    pub fn any(&self) -> bool {
+        self.values.is_some() || self.staggered
     }
 }
 
@@ -319,19 +342,46 @@ pub fn resolve_tolerance(
     gas: &GasConstants,
     cuts: &Cuts,
 ) -> Result<Resolved, SampleError> {
+    resolve_tolerance_with(bg, grid, tolerance, start, gas, cuts, None)
+}
+
+/// [`resolve_tolerance`], with the fields asked for on request (`extras`:
+/// accelerations, diagnostics) compared too, so that every field written
+/// meets the tolerance and its estimate is stated.
+pub fn resolve_tolerance_with<'a>(
+    bg: &'a dyn Background,
+    grid: &'a Grid,
+    tolerance: f64,
+    start: usize,
+    gas: &GasConstants,
+    cuts: &Cuts,
+    extras: Option<&'a Extras>,
+) -> Result<Resolved, SampleError> {
+    let with = |s: Sampler<'a>| -> Sampler<'a> {
+        match extras {
+            Some(x) => s.with_extras(x),
+            None => s,
+        }
+    };
     let shape = grid.shape();
     let row: usize = shape[1..].iter().product();
     let rows = (ESTIMATE_CELLS / row.max(1)).max(1);
     let mut n = start;
     loop {
-        let lo = Sampler::with_cuts(bg, grid, &SamplingRule::Average { points: n }, gas, cuts)?;
-        let hi = Sampler::with_cuts(
+        let lo = with(Sampler::with_cuts(
+            bg,
+            grid,
+            &SamplingRule::Average { points: n },
+            gas,
+            cuts,
+        )?);
+        let hi = with(Sampler::with_cuts(
             bg,
             grid,
             &SamplingRule::Average { points: n + 2 },
             gas,
             cuts,
-        )?;
+        )?);
         let names: Vec<String> = hi.fields().into_iter().map(|f| f.name).collect();
         let (mut diff, mut scale) = (vec![0.0f64; names.len()], vec![0.0f64; names.len()]);
         let mut from = 0;

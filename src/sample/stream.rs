@@ -29,7 +29,7 @@ use super::perturbed::{self, Perturbed};
 use super::slots::{self, Entry, Slots, RHO};
 use super::{check_inputs, GasConstants, SampleError, SamplingRule};
 use crate::background::{Background, StateBlock, Want, Workspace, LANES};
-use crate::fields::{FieldSpec, Slab};
+use crate::fields::{FieldSpec, Location, Placement, Slab};
 use crate::grid::{Embedding, Grid};
 use crate::perturb::Perturbations;
 
@@ -163,6 +163,9 @@ pub struct Sampler<'a> {
     /// Nodes per axis of a nodal rule (values at each node of each cell),
     /// None otherwise.
     nodal: Option<usize>,
+    /// The grid axis whose faces this sampler evaluates (see
+    /// [`Sampler::faces`]); None for cells.
+    face: Option<usize>,
     /// A modal rule: modes per axis and the projection matrix of the nodal
     /// values (see [`super::gauss::projection`]).
     modal: Option<(usize, Vec<f64>)>,
@@ -249,6 +252,7 @@ impl<'a> Sampler<'a> {
             gas: *gas,
             averaged: gauss.is_some() && nodal.is_none(),
             nodal,
+            face: None,
             modal,
             shape,
             axes,
@@ -262,6 +266,72 @@ impl<'a> Sampler<'a> {
             groups,
             scratch: std::sync::Mutex::new(Vec::new()),
         })
+    }
+
+    /// The background at the faces normal to grid axis `axis`: point
+    /// values at the centre of each face (`nodes` None: the edges of that
+    /// axis, the cell centres of the others), or at the tensor
+    /// Gauss–Legendre nodes of each face (`nodes` per axis of the face, the
+    /// nodes as trailing dimensions in C order of the other axes). Every
+    /// field of the catalogue, placed on those faces: n + 1 along `axis`.
+    /// A slab of cell rows holds the faces of those rows (and the closing
+    /// face in the last slab, for faces normal to the first axis). No
+    /// perturbation is added: faces carry the equilibrium.
+    pub fn faces(
+        bg: &'a dyn Background,
+        grid: &'a Grid,
+        axis: usize,
+        nodes: Option<usize>,
+        gas: &GasConstants,
+    ) -> Result<Sampler<'a>, SampleError> {
+        // The face of a line is a point: its centre.
+        let nodes = nodes.filter(|_| grid.axes().len() > 1);
+        let rule = match nodes {
+            None => SamplingRule::Center,
+            Some(points) => SamplingRule::Nodes {
+                family: super::gauss::NodeFamily::Legendre,
+                points,
+            },
+        };
+        let mut s = Sampler::with_cuts(bg, grid, &rule, gas, &Cuts::none())?;
+        let edges = grid.axes()[axis].edges.clone();
+        s.shape[axis] = edges.len();
+        s.axes[axis] = AxisNodes {
+            per_cell: 1,
+            weights: vec![1.0; edges.len()],
+            nodes: edges,
+        };
+        s.face = Some(axis);
+        let nd = grid.axes().len();
+        for e in &mut s.entries {
+            e.spec.placement = Placement {
+                location: Location::Face { axis },
+                extra: nodes.map_or(Vec::new(), |n| vec![n; nd - 1]),
+            };
+        }
+        let name = grid.axes()[axis].coord.name();
+        s.sampling = match nodes {
+            None => format!(
+                "point values of the background at the centres of the faces normal to {name} \
+                 (the edges of {name}, the cell centres of the other axes); no perturbation"
+            ),
+            Some(n) => format!(
+                "point values of the background at the {n} Gauss–Legendre nodes per axis of \
+                 each face normal to {name} (tensor product over the other axes, C order, \
+                 nodes as trailing dimensions; the edges of {name}); reference nodes on \
+                 [-1, 1]: {}; no perturbation",
+                super::gauss::NodeFamily::Legendre
+                    .rule(n)
+                    .map(|r| r
+                        .nodes
+                        .iter()
+                        .map(|x| format!("{x}"))
+                        .collect::<Vec<_>>()
+                        .join(", "))
+                    .unwrap_or_default()
+            ),
+        };
+        Ok(s)
     }
 
     /// The fields every slab holds, in order (the groups' fields one
@@ -380,17 +450,34 @@ impl<'a> Sampler<'a> {
     /// the `data` of a slab that was written) so that a stream of slabs
     /// allocates its memory once.
     pub fn slab_into(&self, rows: Range<usize>, reuse: Vec<Vec<f64>>) -> Result<Slab, SampleError> {
+        let n0 = self.grid.shape()[0];
+        // Faces normal to the first axis: the slab's faces (the closing one
+        // in the last slab).
+        let own = match self.face {
+            Some(0) if rows.end == n0 => rows.start..rows.end + 1,
+            _ => rows.clone(),
+        };
         let Some(n) = self.nodal else {
-            return self.points_into(rows, reuse);
+            let mut slab = self.points_into(own, reuse)?;
+            slab.rows = rows;
+            return Ok(slab);
         };
         // Nodal values: the lines run over every node as a point of its own
-        // (cells × n per axis); the values are then regrouped cell by cell,
-        // nodes as trailing dimensions.
-        let points = self.points_into(rows.start * n..rows.end * n, Vec::new())?;
+        // (cells × n per axis; faces × 1 along the axis faces are normal
+        // to); the values are then regrouped cell (or face) by cell, nodes
+        // as trailing dimensions.
+        let nd = self.grid.axes().len();
+        let per_axis: Vec<usize> = (0..nd)
+            .map(|a| if self.face == Some(a) { 1 } else { n })
+            .collect();
+        let points =
+            self.points_into(own.start * per_axis[0]..own.end * per_axis[0], Vec::new())?;
         let mut out_shape = self.grid.shape();
-        out_shape[0] = rows.len();
-        let nd = out_shape.len();
-        let per_cell = n.pow(nd as u32);
+        if let Some(a) = self.face {
+            out_shape[a] += 1;
+        }
+        out_shape[0] = own.len();
+        let per_cell: usize = per_axis.iter().product();
         let total: usize = out_shape.iter().product::<usize>() * per_cell;
         let mut data = reuse;
         data.resize_with(points.data.len(), Vec::new);
@@ -403,8 +490,8 @@ impl<'a> Sampler<'a> {
                 // i = (cell multi-index, node multi-index) in C order.
                 let mut rest = i;
                 for a in (0..nd).rev() {
-                    node[a] = rest % n;
-                    rest /= n;
+                    node[a] = rest % per_axis[a];
+                    rest /= per_axis[a];
                 }
                 for a in (0..nd).rev() {
                     cell[a] = rest % out_shape[a];
@@ -412,7 +499,7 @@ impl<'a> Sampler<'a> {
                 }
                 let mut j = 0;
                 for a in 0..nd {
-                    j = j * out_shape[a] * n + cell[a] * n + node[a];
+                    j = j * out_shape[a] * per_axis[a] + cell[a] * per_axis[a] + node[a];
                 }
                 *v = src[j];
             }
