@@ -361,7 +361,8 @@ impl Grid {
         let have: Vec<Coord> = self.axes.iter().map(|a| a.coord).collect();
         if !self.layout.is_cartesian() {
             return Err(NestingError(format!(
-                "only a Cartesian grid ([x, y], [x, z], [x, y, z]) may declare its nesting;                  the grid [{}] keeps its own order",
+                "only a Cartesian grid ([x, y], [x, z], [x, y, z]) may declare its nesting; \
+                 the grid [{}] keeps its own order",
                 names(&have)
             )));
         }
