@@ -121,6 +121,24 @@ fn issue11_mpi_builds_match_the_serial_build_byte_for_byte() {
         .filter(|n| n.starts_with('.'))
         .collect();
     assert!(left.is_empty(), "temporary files left: {left:?}");
+    // Rank 0 writes the XDMF description beside the file, the serial
+    // build's text byte for byte apart from the HDF5 file's name.
+    for (one, many) in [
+        ("serial", "n2"),
+        ("serial", "n3"),
+        ("ring", "ring3"),
+        ("noisy", "noisy3"),
+        ("audit", "audit2"),
+    ] {
+        let read = |n: &str| std::fs::read_to_string(d.path().join(format!("{n}.xmf"))).unwrap();
+        let (a, b) = (read(one), read(many));
+        assert!(a.contains(&format!("{one}.h5:/")), "{a}");
+        assert_eq!(
+            a.replace(&format!("{one}.h5:/"), "FILE:/"),
+            b.replace(&format!("{many}.h5:/"), "FILE:/"),
+            "{many}.xmf differs from {one}.xmf"
+        );
+    }
     let check = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/mpi_check.py");
     for files in [
         &["serial.h5", "n2.h5", "n3.h5"][..],
@@ -159,5 +177,13 @@ fn issue11_mpi_build_refused_leaves_nothing() {
     assert!(!o.status.success());
     assert!(text(&o).contains("--force"), "{}", text(&o));
     assert_eq!(std::fs::read(d.path().join("r.h5")).unwrap(), b"old");
+    assert_eq!(std::fs::read_dir(d.path()).unwrap().count(), 1);
+    // Nor an existing XDMF file: refused before anything is written.
+    std::fs::remove_file(d.path().join("r.h5")).unwrap();
+    std::fs::write(d.path().join("r.xmf"), "old").unwrap();
+    let o = mpirun(d.path(), 2, &["build", "ring-disk", "-o", "r.h5"], &[]);
+    assert!(!o.status.success());
+    assert!(text(&o).contains("r.xmf: the file exists"), "{}", text(&o));
+    assert_eq!(std::fs::read(d.path().join("r.xmf")).unwrap(), b"old");
     assert_eq!(std::fs::read_dir(d.path()).unwrap().count(), 1);
 }
