@@ -121,6 +121,26 @@ fn issue11_mpi_builds_match_the_serial_build_byte_for_byte() {
         .filter(|n| n.starts_with('.'))
         .collect();
     assert!(left.is_empty(), "temporary files left: {left:?}");
+    // A plane stored x fastest (grid.nesting): the ranks split its y rows;
+    // the same bytes, and the same rectilinear XDMF mesh.
+    let text_of = std::fs::read_to_string(&p).unwrap();
+    let mut v: serde_json::Value = serde_json::from_str(&text_of).unwrap();
+    v["grid"]["nesting"] = serde_json::json!(["y", "x"]);
+    std::fs::write(d.path().join("nested.json"), v.to_string()).unwrap();
+    let o = serial(d.path(), &["build", "nested.json", "-o", "nested.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let o = mpirun(
+        d.path(),
+        3,
+        &["build", "nested.json", "-o", "nested3.h5"],
+        &[],
+    );
+    assert!(o.status.success(), "{}", text(&o));
+    let x = std::fs::read_to_string(d.path().join("nested3.xmf")).unwrap();
+    assert!(
+        x.contains(r#"TopologyType="2DRectMesh" NumberOfElements="121 302""#),
+        "{x}"
+    );
     // Rank 0 writes the XDMF description beside the file, the serial
     // build's text byte for byte apart from the HDF5 file's name.
     for (one, many) in [
@@ -129,6 +149,7 @@ fn issue11_mpi_builds_match_the_serial_build_byte_for_byte() {
         ("ring", "ring3"),
         ("noisy", "noisy3"),
         ("audit", "audit2"),
+        ("nested", "nested3"),
     ] {
         let read = |n: &str| std::fs::read_to_string(d.path().join(format!("{n}.xmf"))).unwrap();
         let (a, b) = (read(one), read(many));
@@ -145,6 +166,7 @@ fn issue11_mpi_builds_match_the_serial_build_byte_for_byte() {
         &["ring.h5", "ring3.h5"][..],
         &["noisy.h5", "noisy3.h5"][..],
         &["audit.h5", "audit2.h5"][..],
+        &["nested.h5", "nested3.h5"][..],
     ] {
         let o = Command::new("python3")
             .arg(check)
