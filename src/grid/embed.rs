@@ -545,6 +545,56 @@ mod tests {
     }
 
     #[test]
+    fn a_nested_box_maps_and_projects_by_coordinate() {
+        // The box of `three_dimensional_embeddings` stored [z, y, x]: the
+        // same frame coordinates and components, each at its stored place.
+        let ax = |c, a, b| Axis::uniform(c, a, b, 2).unwrap();
+        let boxed = Grid::new(vec![
+            ax(Coord::X, -1.0, 1.0),
+            ax(Coord::Y, -1.0, 1.0),
+            ax(Coord::Z, -1.0, 1.0),
+        ])
+        .unwrap()
+        .with_nesting(&[Coord::Z, Coord::Y, Coord::X])
+        .unwrap();
+        assert_eq!(boxed.natural_order(), &[2, 1, 0]);
+        assert_eq!(
+            boxed.velocity_components(),
+            vec![Coord::Z, Coord::Y, Coord::X]
+        );
+        let (f, v) = project_one(
+            &boxed,
+            Frame::Axisymmetric,
+            &[-0.5, 4.0, 3.0],
+            [0.0, 1.0, 2.0],
+        );
+        assert!(
+            close(&f, &[5.0, -0.5]) && close(&v, &[2.0, 0.6, -0.8]),
+            "{f:?} {v:?}"
+        );
+        assert_eq!(
+            boxed
+                .embedding(Frame::Axisymmetric)
+                .unwrap()
+                .active_axes([true, false]),
+            vec![false, true, true]
+        );
+        let (f, v) = project_one(&boxed, Frame::Spherical, &[2.0, 2.0, 1.0], [3.0, 0.0, 0.0]);
+        assert!(
+            close(&f[..1], &[3.0]) && close(&v, &[2.0, 2.0, 1.0]),
+            "{f:?} {v:?}"
+        );
+        // A slab across z: the other axes in the natural order (x, y).
+        let (_, v) = project_one(&boxed, Frame::Slab, &[0.5, 0.5, 0.5], [1.0, 2.0, 3.0]);
+        assert!(close(&v, &[1.0, 3.0, 2.0]), "{v:?}");
+        let e = boxed
+            .clone()
+            .with_nesting(&[Coord::Z, Coord::Z, Coord::X])
+            .unwrap_err();
+        assert_eq!(e.to_string(), "`z` is listed twice");
+    }
+
+    #[test]
     fn polar_grids_broadcast_over_phi() {
         let r = Axis::uniform(Coord::R, 1.0, 2.0, 3).unwrap();
         let phi = Axis::uniform(Coord::Phi, 0.0, 1.0, 4).unwrap();

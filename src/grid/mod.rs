@@ -358,7 +358,10 @@ impl Grid {
     /// ghost layers follow their axes.
     pub fn with_nesting(mut self, order: &[Coord]) -> Result<Grid, NestingError> {
         let names = |c: &[Coord]| c.iter().map(|c| c.name()).collect::<Vec<_>>().join(", ");
-        let have: Vec<Coord> = self.axes.iter().map(|a| a.coord).collect();
+        // In the natural order, whatever order the grid is stored in now.
+        let have: Vec<Coord> = (0..self.axes.len())
+            .map(|k| self.natural_axis(k).coord)
+            .collect();
         if !self.layout.is_cartesian() {
             return Err(NestingError(format!(
                 "only a Cartesian grid ([x, y], [x, z], [x, y, z]) may declare its nesting; \
