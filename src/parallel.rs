@@ -81,12 +81,15 @@ pub fn build(
     }
     // Checks on rank 0 (the file system is shared): no overwrite without
     // --force, room for the output and the memory of one rank.
+    let xmf = h5.with_extension("xmf");
     agree(&world, rank, || {
-        if h5.exists() && !force {
-            return Err(Error::Usage(format!(
-                "{}: the file exists; pass --force to overwrite it",
-                h5.display()
-            )));
+        for p in [h5, xmf.as_path()] {
+            if p.exists() && !force {
+                return Err(Error::Usage(format!(
+                    "{}: the file exists; pass --force to overwrite it",
+                    p.display()
+                )));
+            }
         }
         let dir = crate::estimate::folder_of(h5);
         if !dir.is_dir() {
@@ -156,6 +159,22 @@ pub fn build(
                 .map_err(Error::from);
             if committed.is_ok() {
                 crate::output::partial::flush_parent(h5);
+                // The XDMF description beside it, as a serial build writes
+                // it (the same text: it depends on the grid and the fields
+                // alone), committed the same way.
+                committed = built.groups().and_then(|groups| {
+                    crate::output::commit(&xmf, force, |tmp| {
+                        crate::output::write_xdmf(
+                            tmp,
+                            h5,
+                            &loaded.grid,
+                            &groups,
+                            opts.precision,
+                            &loaded.model.name,
+                        )
+                    })
+                    .map_err(Error::from)
+                });
             }
         }
         if !ok || committed.is_err() {

@@ -115,7 +115,8 @@ fn line_axis(grid: &Grid, frame: Frame) -> Option<usize> {
 pub fn centres_for(grid: &Grid, frame: Frame) -> Vec<f64> {
     match line_axis(grid, frame) {
         Some(a) => grid.axes()[a].centers(),
-        None => grid.axes()[0]
+        None => grid
+            .natural_axis(0)
             .centers()
             .into_iter()
             .filter(|x| *x > 0.0)

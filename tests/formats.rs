@@ -3,7 +3,7 @@
 //! pandas, astropy) check the files through `tests/formats_check.py`.
 
 mod common;
-use common::{stillpoint, text};
+use common::{stillpoint, text, variant};
 use std::path::Path;
 use std::process::Command;
 
@@ -131,6 +131,117 @@ fn issue10_xdmf_beside_every_hdf5_file_is_read_by_vtk() {
         text(&o)
     );
     assert!(!d.path().join("quiet-slab.h5").exists());
+}
+
+/// Issue 10 part 1: a Cartesian grid may declare the order its axes are
+/// stored in (`grid.nesting`, slowest first). Each declared build holds the
+/// natural build's numbers transposed, to the bit (h5py and numpy.transpose):
+/// a disk in a box with cell noise (the noise is keyed on the natural cell
+/// index), a disk in a plane, a planet's envelope (a sphere in a box) in an
+/// order that is not x fastest, and a slab in a section. The grids declared
+/// with x fastest are rectilinear XDMF meshes that VTK's reader opens as
+/// rectilinear grids on the edges; the others stay curvilinear, and a
+/// Cartesian one in its natural order says how to get a rectilinear mesh.
+#[test]
+fn issue10_a_cartesian_grid_declared_x_fastest_is_a_rectilinear_xdmf_mesh() {
+    let d = tempfile::tempdir().unwrap();
+    let dir = d.path();
+    // Distinct cell counts per axis, so that a transposition cannot pass
+    // for the identity.
+    type Case = (
+        &'static str,
+        &'static [(&'static str, u64)],
+        &'static [&'static str],
+        bool,
+    );
+    let cases: [Case; 4] = [
+        (
+            "softened-disk-box",
+            &[("x", 14), ("y", 12), ("z", 6)],
+            &["z", "y", "x"],
+            true,
+        ),
+        (
+            "tapered-disk-cartesian",
+            &[("x", 30), ("y", 24)],
+            &["y", "x"],
+            false,
+        ),
+        (
+            "planet-envelope-box",
+            &[("x", 10), ("y", 8), ("z", 6)],
+            &["y", "x", "z"],
+            false,
+        ),
+        (
+            "stratified-box-2d",
+            &[("x", 16), ("z", 24)],
+            &["z", "x"],
+            false,
+        ),
+    ];
+    let mut xmf = Vec::new();
+    for (name, cells, order, noise) in cases {
+        for nested in [false, true] {
+            let file = variant(dir, name, |v| {
+                for (axis, n) in cells {
+                    v["grid"][axis]["cells"] = serde_json::json!(n);
+                }
+                if noise {
+                    v["perturbations"] = serde_json::json!([{
+                        "kind": "noise", "field": "velocity_x", "amplitude": 1e-3,
+                        "relative_to": "sound_speed", "distribution": "uniform", "seed": 11
+                    }]);
+                }
+                if nested {
+                    v["grid"]["nesting"] = serde_json::json!(order);
+                }
+            });
+            let tag = if nested { "nested" } else { "natural" };
+            let json = format!("{name}-{tag}.json");
+            std::fs::rename(dir.join(file), dir.join(&json)).unwrap();
+            ok(dir, &["build", &json, "-o", &format!("{name}-{tag}.h5")]);
+            xmf.push(format!("{name}-{tag}.xmf"));
+        }
+        let natural: Vec<&str> = cells.iter().map(|(a, _)| *a).collect();
+        python_check(
+            dir,
+            "nesting",
+            &[
+                format!("{name}-natural.h5"),
+                format!("{name}-nested.h5"),
+                natural.join(","),
+                order.join(","),
+            ],
+        );
+    }
+    python_check(dir, "xdmf", &xmf);
+    let read = |f: &str| std::fs::read_to_string(dir.join(f)).unwrap();
+    let t = read("softened-disk-box-nested.xmf");
+    assert!(
+        t.contains(r#"TopologyType="3DRectMesh" NumberOfElements="7 13 15""#),
+        "{t}"
+    );
+    assert!(
+        t.contains(r#"GeometryType="VXVYVZ""#) && !t.contains("node_x"),
+        "{t}"
+    );
+    let t = read("tapered-disk-cartesian-nested.xmf");
+    assert!(
+        t.contains(r#"TopologyType="2DRectMesh" NumberOfElements="25 31""#),
+        "{t}"
+    );
+    let t = read("tapered-disk-cartesian-natural.xmf");
+    assert!(
+        t.contains("2DSMesh") && t.contains(r#"grid.nesting ["y", "x"] (x fastest)"#),
+        "{t}"
+    );
+    let t = read("planet-envelope-box-nested.xmf");
+    assert!(
+        t.contains("3DSMesh") && t.contains(r#"grid.nesting ["z", "y", "x"]"#),
+        "{t}"
+    );
+    assert!(read("stratified-box-2d-nested.xmf").contains("2DSMesh"));
 }
 
 #[test]

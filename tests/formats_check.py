@@ -3,13 +3,19 @@
     python3 formats_check.py xdmf FILE.xmf ...
     python3 formats_check.py arrays FILE.h5 NPY_DIR RAW_DIR ...
     python3 formats_check.py csv FILE.csv FILE.h5
+    python3 formats_check.py nesting NATURAL.h5 NESTED.h5 x,y,z z,y,x
 
 xdmf: VTK's XDMF reader (vtkXdmfReader, the reader ParaView uses; VTK from PyPI)
 opens each XDMF file; the mesh has one cell per grid cell, its points are the
 Cartesian node positions computed here with NumPy from the HDF5 file's
 /grid/<axis>_edges (x = R cos phi, y = R sin phi: the textbook cylindrical to
 Cartesian map), and every cell array equals the HDF5 dataset it names, bit for
-bit, with h5py reading the HDF5 side.
+bit, with h5py reading the HDF5 side. A rectilinear mesh (a Cartesian grid
+declared with x fastest) is read by VTK as a vtkRectilinearGrid: its
+coordinate arrays and points equal the edges to the bit.
+
+nesting: a grid declared in another nesting holds the natural build's
+numbers transposed (numpy.transpose), to the bit.
 
 arrays: numpy.load reads each .npy file and numpy.fromfile, with the dtype,
 shape and order that metadata.json gives, reads each raw file; both equal the
@@ -81,15 +87,19 @@ def xdmf(paths):
             cells = int(np.prod(f["state/density"].shape))
             if mesh.GetNumberOfCells() != cells:
                 bad.append(f"{p}: {mesh.GetNumberOfCells()} cells in the mesh, {cells} in the file")
-            pts = vtk_to_numpy(mesh.GetPoints().GetData())
-            want = np.stack([c.ravel() for c in nodes_from_edges(f)], axis=1)
-            scale = max(1.0, float(np.abs(want).max()))
-            err = float(np.abs(pts - want).max()) / scale
-            if pts.shape != want.shape or err > 4e-16:
-                bad.append(f"{p}: node positions differ from the edges' (relative {err:.2e})")
-            for k in range(3):
-                if f[f"grid/node_{'xyz'[k]}"][...].ravel().tobytes() != pts[:, k].tobytes():
-                    bad.append(f"{p}: /grid/node_{'xyz'[k]} differs from the mesh VTK read")
+            topology = tree.find(".//Topology").get("TopologyType")
+            if topology.endswith("RectMesh"):
+                bad += rectilinear(p, f, mesh, topology)
+            else:
+                pts = vtk_to_numpy(mesh.GetPoints().GetData())
+                want = np.stack([c.ravel() for c in nodes_from_edges(f)], axis=1)
+                scale = max(1.0, float(np.abs(want).max()))
+                err = float(np.abs(pts - want).max()) / scale
+                if pts.shape != want.shape or err > 4e-16:
+                    bad.append(f"{p}: node positions differ from the edges' (relative {err:.2e})")
+                for k in range(3):
+                    if f[f"grid/node_{'xyz'[k]}"][...].ravel().tobytes() != pts[:, k].tobytes():
+                        bad.append(f"{p}: /grid/node_{'xyz'[k]} differs from the mesh VTK read")
             data = mesh.GetCellData()
             for name, ref in wanted.items():
                 arr = data.GetArray(name)
@@ -103,6 +113,77 @@ def xdmf(paths):
                 state = f"state/{name}"
                 if state in f and f[state][...].tobytes() != ds.tobytes():
                     bad.append(f"{p}: {name} is not the file's /{state}")
+    return bad
+
+
+def rectilinear(p, f, mesh, topology):
+    """A rectilinear mesh as VTK reads it (a vtkRectilinearGrid): its x, y
+    (and z) coordinate arrays are the HDF5 file's /grid/<axis>_edges to the
+    bit, its points (x fastest, VTK's point numbering) those edges combined,
+    no node-position datasets are stored, and the fields' array shape is
+    (z, y, x) or (y, x): x fastest, as the XDMF rectilinear mesh requires."""
+    from vtkmodules.util.numpy_support import vtk_to_numpy
+    from vtkmodules.vtkCommonCore import vtkPoints
+
+    bad = []
+    if not mesh.IsA("vtkRectilinearGrid"):
+        return [f"{p}: {topology} read by VTK as {mesh.GetClassName()}, not a rectilinear grid"]
+    three = topology == "3DRectMesh"
+    names = ["x", "y", "z"] if three else ["x", "y"]
+    edges = [f[f"grid/{a}_edges"][...] for a in names]
+    got = [vtk_to_numpy(c) for c in (mesh.GetXCoordinates(), mesh.GetYCoordinates(), mesh.GetZCoordinates())]
+    for a, e, g in zip(names, edges, got):
+        if g.tobytes() != e.tobytes():
+            bad.append(f"{p}: VTK's {a} coordinates differ from /grid/{a}_edges")
+    if not three and (len(got[2]) != 1 or got[2][0] != 0.0):
+        bad.append(f"{p}: a 2D rectilinear mesh has z coordinates {got[2]}")
+    shape = f["state/density"].shape
+    if tuple(shape) != tuple(len(e) - 1 for e in reversed(edges)):
+        bad.append(f"{p}: fields of shape {shape} do not store x fastest")
+    if any(f"grid/node_{c}" in f for c in "xyz"):
+        bad.append(f"{p}: node positions stored for a rectilinear mesh")
+    try:
+        points = mesh.GetPoints()  # VTK 9.4 and later
+    except TypeError:
+        points = vtkPoints()
+        mesh.GetPoints(points)
+    pts = vtk_to_numpy(points.GetData())
+    full = edges + ([] if three else [np.zeros(1)])
+    grids = np.meshgrid(*reversed(full), indexing="ij")[::-1]
+    want = np.stack([g.ravel() for g in grids], axis=1)
+    if pts.shape != want.shape or pts.tobytes() != want.tobytes():
+        bad.append(f"{p}: VTK's points differ from the edges combined (x fastest)")
+    return bad
+
+
+def nesting(args):
+    """A grid stored in a declared nesting holds the same numbers as the
+    natural one, transposed (numpy.transpose), to the bit: every dataset of
+    /background, /state and /perturbation, and the axes' edges and centres."""
+    natural, nested, nat_order, order = args[0], args[1], args[2].split(","), args[3].split(",")
+    perm = [nat_order.index(a) for a in order]
+    bad = []
+    with h5py.File(natural, "r") as a, h5py.File(nested, "r") as b:
+        for axis in nat_order:
+            for part in ("edges", "centers"):
+                n = f"grid/{axis}_{part}"
+                if a[n][...].tobytes() != b[n][...].tobytes():
+                    bad.append(f"{nested}: /{n} differs")
+        count = 0
+        for group in ("background", "state", "perturbation"):
+            if group not in a:
+                continue
+            if sorted(a[group]) != sorted(b[group]):
+                bad.append(f"{nested}: /{group} holds {sorted(b[group])}, not {sorted(a[group])}")
+                continue
+            for name in a[group]:
+                x, y = a[f"{group}/{name}"][...], b[f"{group}/{name}"][...]
+                want = np.ascontiguousarray(np.transpose(x, perm))
+                if y.shape != want.shape or y.tobytes() != want.tobytes():
+                    bad.append(f"{nested}: /{group}/{name} is not /{group}/{name} of {natural} transposed")
+                count += 1
+        if count == 0:
+            bad.append(f"{nested}: no fields compared")
     return bad
 
 
@@ -207,7 +288,9 @@ def subset(args):
 
 def main():
     verb, args = sys.argv[1], sys.argv[2:]
-    bad = {"xdmf": xdmf, "arrays": arrays, "csv": csv, "subset": subset}[verb](args)
+    bad = {"xdmf": xdmf, "arrays": arrays, "csv": csv, "subset": subset, "nesting": nesting}[verb](
+        args
+    )
     for b in bad:
         print(b)
     print(f"{verb}: {'FAIL' if bad else 'ok'} ({len(args)} files)")

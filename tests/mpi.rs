@@ -121,12 +121,52 @@ fn issue11_mpi_builds_match_the_serial_build_byte_for_byte() {
         .filter(|n| n.starts_with('.'))
         .collect();
     assert!(left.is_empty(), "temporary files left: {left:?}");
+    // A plane stored x fastest (grid.nesting): the ranks split its y rows;
+    // the same bytes, and the same rectilinear XDMF mesh.
+    let text_of = std::fs::read_to_string(&p).unwrap();
+    let mut v: serde_json::Value = serde_json::from_str(&text_of).unwrap();
+    v["grid"]["nesting"] = serde_json::json!(["y", "x"]);
+    std::fs::write(d.path().join("nested.json"), v.to_string()).unwrap();
+    let o = serial(d.path(), &["build", "nested.json", "-o", "nested.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let o = mpirun(
+        d.path(),
+        3,
+        &["build", "nested.json", "-o", "nested3.h5"],
+        &[],
+    );
+    assert!(o.status.success(), "{}", text(&o));
+    let x = std::fs::read_to_string(d.path().join("nested3.xmf")).unwrap();
+    assert!(
+        x.contains(r#"TopologyType="2DRectMesh" NumberOfElements="121 302""#),
+        "{x}"
+    );
+    // Rank 0 writes the XDMF description beside the file, the serial
+    // build's text byte for byte apart from the HDF5 file's name.
+    for (one, many) in [
+        ("serial", "n2"),
+        ("serial", "n3"),
+        ("ring", "ring3"),
+        ("noisy", "noisy3"),
+        ("audit", "audit2"),
+        ("nested", "nested3"),
+    ] {
+        let read = |n: &str| std::fs::read_to_string(d.path().join(format!("{n}.xmf"))).unwrap();
+        let (a, b) = (read(one), read(many));
+        assert!(a.contains(&format!("{one}.h5:/")), "{a}");
+        assert_eq!(
+            a.replace(&format!("{one}.h5:/"), "FILE:/"),
+            b.replace(&format!("{many}.h5:/"), "FILE:/"),
+            "{many}.xmf differs from {one}.xmf"
+        );
+    }
     let check = concat!(env!("CARGO_MANIFEST_DIR"), "/tests/mpi_check.py");
     for files in [
         &["serial.h5", "n2.h5", "n3.h5"][..],
         &["ring.h5", "ring3.h5"][..],
         &["noisy.h5", "noisy3.h5"][..],
         &["audit.h5", "audit2.h5"][..],
+        &["nested.h5", "nested3.h5"][..],
     ] {
         let o = Command::new("python3")
             .arg(check)
@@ -159,5 +199,13 @@ fn issue11_mpi_build_refused_leaves_nothing() {
     assert!(!o.status.success());
     assert!(text(&o).contains("--force"), "{}", text(&o));
     assert_eq!(std::fs::read(d.path().join("r.h5")).unwrap(), b"old");
+    assert_eq!(std::fs::read_dir(d.path()).unwrap().count(), 1);
+    // Nor an existing XDMF file: refused before anything is written.
+    std::fs::remove_file(d.path().join("r.h5")).unwrap();
+    std::fs::write(d.path().join("r.xmf"), "old").unwrap();
+    let o = mpirun(d.path(), 2, &["build", "ring-disk", "-o", "r.h5"], &[]);
+    assert!(!o.status.success());
+    assert!(text(&o).contains("r.xmf: the file exists"), "{}", text(&o));
+    assert_eq!(std::fs::read(d.path().join("r.xmf")).unwrap(), b"old");
     assert_eq!(std::fs::read_dir(d.path()).unwrap().count(), 1);
 }

@@ -29,7 +29,12 @@ pub struct Embedding {
     layout: Layout,
     frame: Frame,
     components: Vec<Coord>,
+    /// The slab axis, as an index of the natural order.
     slab_axis: usize,
+    /// For each axis of the natural order, the stored axis holding it (see
+    /// [`Grid::natural_order`]): the maps below work in the natural order
+    /// and translate at their edges.
+    natural: Vec<usize>,
 }
 
 impl Grid {
@@ -59,7 +64,12 @@ impl Grid {
             layout: self.layout(),
             frame,
             components: self.velocity_components(),
-            slab_axis: self.slab_axis(),
+            slab_axis: self
+                .natural_order()
+                .iter()
+                .position(|s| *s == self.slab_axis())
+                .unwrap_or(0),
+            natural: self.natural_order().to_vec(),
         })
     }
 }
@@ -81,6 +91,15 @@ impl Embedding {
     /// holding an axisymmetric state, x and y in a box holding a slab along
     /// z), so a sampler computes it once and broadcasts it.
     pub fn active_axes(&self, depends: [bool; 2]) -> Vec<bool> {
+        let natural = self.natural_active(depends);
+        let mut out = natural.clone();
+        for (k, s) in self.natural.iter().enumerate() {
+            out[*s] = natural[k];
+        }
+        out
+    }
+
+    fn natural_active(&self, depends: [bool; 2]) -> Vec<bool> {
         use Layout::*;
         let nd = self.axis_count();
         match (self.frame, self.layout) {
@@ -119,6 +138,8 @@ impl Embedding {
     /// written into `out[k][..n]` for each frame coordinate k.
     pub fn to_frame(&self, grid: &[&[f64]], n: usize, out: &mut [Vec<f64>]) {
         use Layout::*;
+        let natural: Vec<&[f64]> = self.natural.iter().map(|s| grid[*s]).collect();
+        let grid = &natural[..];
         let copy = |out: &mut Vec<f64>, from: &[f64]| out[..n].copy_from_slice(&from[..n]);
         match (self.frame, self.layout) {
             (_, Line(_)) => copy(&mut out[0], grid[0]),
@@ -176,6 +197,50 @@ impl Embedding {
     ) {
         use Layout::*;
         let nc = self.components.len();
+        if let (Frame::Spherical, Cartesian | Section | Box) = (self.frame, self.layout) {
+            // Works by coordinate name, in the stored order.
+            return self.project_spherical_cartesian(grid, frame, v, n, out);
+        }
+        let natural: Vec<&[f64]> = self.natural.iter().map(|s| grid[*s]).collect();
+        let grid = &natural[..];
+        // The stored components moved into the natural order and back (the
+        // buffers are swapped, not copied); components past the grid's axes
+        // (v_φ on a line or a meridional plane) stay where they are.
+        let permuted = !self.natural.iter().enumerate().all(|(k, s)| k == *s);
+        if permuted {
+            self.reorder(out, true);
+        }
+        self.project_natural(grid, frame, v, n, nc, out);
+        if permuted {
+            self.reorder(out, false);
+        }
+    }
+
+    /// Moves the stored components of `out` into the natural order
+    /// (`to_natural`) or back.
+    fn reorder(&self, out: &mut [Vec<f64>], to_natural: bool) {
+        let nd = self.natural.len();
+        let taken: Vec<Vec<f64>> = out[..nd].iter_mut().map(std::mem::take).collect();
+        for (k, v) in taken.into_iter().enumerate() {
+            let to = if to_natural {
+                self.natural.iter().position(|s| *s == k).unwrap_or(k)
+            } else {
+                self.natural[k]
+            };
+            out[to] = v;
+        }
+    }
+
+    fn project_natural(
+        &self,
+        grid: &[&[f64]],
+        frame: &[&[f64]],
+        v: &[Vec<f64>; 3],
+        n: usize,
+        nc: usize,
+        out: &mut [Vec<f64>],
+    ) {
+        use Layout::*;
         match (self.frame, self.layout) {
             (Frame::Slab, _) => {
                 // v[0] across the layers, v[1] and v[2] along the grid's
@@ -477,6 +542,56 @@ mod tests {
         let section = Grid::new(vec![ax(Coord::X, 0.0, 1.0), ax(Coord::Z, 0.0, 1.0)]).unwrap();
         let (_, v) = project_one(&section, Frame::Slab, &[0.5, 0.5], [1.0, 2.0, 0.0]);
         assert!(close(&v, &[2.0, 1.0]), "{v:?}");
+    }
+
+    #[test]
+    fn a_nested_box_maps_and_projects_by_coordinate() {
+        // The box of `three_dimensional_embeddings` stored [z, y, x]: the
+        // same frame coordinates and components, each at its stored place.
+        let ax = |c, a, b| Axis::uniform(c, a, b, 2).unwrap();
+        let boxed = Grid::new(vec![
+            ax(Coord::X, -1.0, 1.0),
+            ax(Coord::Y, -1.0, 1.0),
+            ax(Coord::Z, -1.0, 1.0),
+        ])
+        .unwrap()
+        .with_nesting(&[Coord::Z, Coord::Y, Coord::X])
+        .unwrap();
+        assert_eq!(boxed.natural_order(), &[2, 1, 0]);
+        assert_eq!(
+            boxed.velocity_components(),
+            vec![Coord::Z, Coord::Y, Coord::X]
+        );
+        let (f, v) = project_one(
+            &boxed,
+            Frame::Axisymmetric,
+            &[-0.5, 4.0, 3.0],
+            [0.0, 1.0, 2.0],
+        );
+        assert!(
+            close(&f, &[5.0, -0.5]) && close(&v, &[2.0, 0.6, -0.8]),
+            "{f:?} {v:?}"
+        );
+        assert_eq!(
+            boxed
+                .embedding(Frame::Axisymmetric)
+                .unwrap()
+                .active_axes([true, false]),
+            vec![false, true, true]
+        );
+        let (f, v) = project_one(&boxed, Frame::Spherical, &[2.0, 2.0, 1.0], [3.0, 0.0, 0.0]);
+        assert!(
+            close(&f[..1], &[3.0]) && close(&v, &[2.0, 2.0, 1.0]),
+            "{f:?} {v:?}"
+        );
+        // A slab across z: the other axes in the natural order (x, y).
+        let (_, v) = project_one(&boxed, Frame::Slab, &[0.5, 0.5, 0.5], [1.0, 2.0, 3.0]);
+        assert!(close(&v, &[1.0, 3.0, 2.0]), "{v:?}");
+        let e = boxed
+            .clone()
+            .with_nesting(&[Coord::Z, Coord::Z, Coord::X])
+            .unwrap_err();
+        assert_eq!(e.to_string(), "`z` is listed twice");
     }
 
     #[test]

@@ -188,6 +188,12 @@ pub enum GridError {
     },
 }
 
+/// A `grid.nesting` that does not list the grid's axes once each; the
+/// message says which axis is unknown, repeated or missing.
+#[derive(Clone, Debug, Error, PartialEq)]
+#[error("{0}")]
+pub struct NestingError(pub String);
+
 /// The layouts a grid may have, as written in error messages.
 pub const SUPPORTED: &str = "[R], [z], [r], [R, phi], [x, y], [x, z], [R, z], [r, theta], \
                              [R, phi, z], [r, theta, phi], [x, y, z]";
@@ -234,6 +240,10 @@ pub struct Grid {
     slab_axis: usize,
     /// Ghost layers per side of each axis (see `halo.rs`).
     halo: Vec<usize>,
+    /// For each axis of the layout's natural order (`[x, y, z]`, …), the
+    /// index of the stored axis that holds it: the identity unless a
+    /// Cartesian grid declared its own nesting (see [`Grid::with_nesting`]).
+    natural: Vec<usize>,
 }
 
 impl Grid {
@@ -303,6 +313,7 @@ impl Grid {
             .unwrap_or(coords.len() - 1);
         Ok(Grid {
             halo: vec![0; axes.len()],
+            natural: (0..axes.len()).collect(),
             axes,
             layout,
             slab_axis,
@@ -339,6 +350,81 @@ impl Grid {
         self.slab_axis
     }
 
+    /// The same Cartesian grid with its axes stored in the order `order`,
+    /// slowest first (the profile key `grid.nesting`): `[z, y, x]` stores a
+    /// box with x varying fastest. `order` must name each of the grid's
+    /// axes once; other layouts keep their own order. Arrays stay C-ordered
+    /// in the stored order (design §6); the layout, the slab axis and the
+    /// ghost layers follow their axes.
+    pub fn with_nesting(mut self, order: &[Coord]) -> Result<Grid, NestingError> {
+        let names = |c: &[Coord]| c.iter().map(|c| c.name()).collect::<Vec<_>>().join(", ");
+        // In the natural order, whatever order the grid is stored in now.
+        let have: Vec<Coord> = (0..self.axes.len())
+            .map(|k| self.natural_axis(k).coord)
+            .collect();
+        if !self.layout.is_cartesian() {
+            return Err(NestingError(format!(
+                "only a Cartesian grid ([x, y], [x, z], [x, y, z]) may declare its nesting; \
+                 the grid [{}] keeps its own order",
+                names(&have)
+            )));
+        }
+        for (i, c) in order.iter().enumerate() {
+            if !have.contains(c) {
+                return Err(NestingError(format!(
+                    "`{c}` is not an axis of the grid [{}]",
+                    names(&have)
+                )));
+            }
+            if order[..i].contains(c) {
+                return Err(NestingError(format!("`{c}` is listed twice")));
+            }
+        }
+        if let Some(missing) = have.iter().find(|c| !order.contains(c)) {
+            return Err(NestingError(format!(
+                "`{missing}` is missing: list every axis of the grid [{}] once, slowest first",
+                names(&have)
+            )));
+        }
+        // Stored position of each natural axis.
+        let natural: Vec<usize> = have
+            .iter()
+            .map(|c| order.iter().position(|o| o == c).unwrap_or(0))
+            .collect();
+        let mut axes = Vec::with_capacity(order.len());
+        let mut halo = vec![0; order.len()];
+        for (k, &s) in natural.iter().enumerate() {
+            halo[s] = self.halo[self.natural[k]];
+        }
+        for c in order {
+            let k = have.iter().position(|h| h == c).unwrap_or(0);
+            axes.push(self.axes[self.natural[k]].clone());
+        }
+        let slab_coord = self.axes[self.slab_axis].coord;
+        self.slab_axis = order.iter().position(|c| *c == slab_coord).unwrap_or(0);
+        self.axes = axes;
+        self.halo = halo;
+        self.natural = natural;
+        Ok(self)
+    }
+
+    /// Whether the axes are stored in the layout's natural order.
+    pub fn is_natural_order(&self) -> bool {
+        self.natural.iter().enumerate().all(|(k, s)| k == *s)
+    }
+
+    /// For each axis of the layout's natural order (`[x, y, z]` for a box),
+    /// the index of the stored axis holding it.
+    pub fn natural_order(&self) -> &[usize] {
+        &self.natural
+    }
+
+    /// The `k`-th axis of the layout's natural order (x for k = 0 on a
+    /// Cartesian grid, whatever its nesting).
+    pub fn natural_axis(&self, k: usize) -> &Axis {
+        &self.axes[self.natural[k]]
+    }
+
     /// The axes, in storage order.
     pub fn axes(&self) -> &[Axis] {
         &self.axes
@@ -369,7 +455,7 @@ impl Grid {
     /// grid, and √(x² + y²) on a Cartesian grid.
     pub fn background_coordinate(&self, point: &[f64]) -> f64 {
         match self.layout {
-            Layout::Cartesian => point[0].hypot(point[1]),
+            Layout::Cartesian => point[self.natural[0]].hypot(point[self.natural[1]]),
             _ => point[0],
         }
     }
@@ -394,7 +480,9 @@ impl Grid {
         match (frame, self.layout) {
             (Frame::Slab, _) => self.axes[self.slab_axis].range(),
             (Frame::Spherical, l) if l.is_cartesian() => norm(&self.axes),
-            (Frame::Axisymmetric, Layout::Cartesian | Layout::Box) => norm(&self.axes[..2]),
+            (Frame::Axisymmetric, Layout::Cartesian | Layout::Box) => {
+                norm(&[self.natural_axis(0).clone(), self.natural_axis(1).clone()])
+            }
             (Frame::Axisymmetric, Layout::SphericalMeridional | Layout::Spherical) => {
                 let (r0, r1) = self.axes[0].range();
                 let (t0, t1) = self.axes[1].range();
@@ -419,7 +507,7 @@ impl Grid {
         }
         match self.layout {
             Layout::Meridional => Some(self.axes[1].range()),
-            Layout::Cylindrical | Layout::Box => Some(self.axes[2].range()),
+            Layout::Cylindrical | Layout::Box => Some(self.natural_axis(2).range()),
             Layout::SphericalMeridional | Layout::Spherical => {
                 let (r0, r1) = self.axes[0].range();
                 let (t0, t1) = self.axes[1].range();
@@ -497,10 +585,11 @@ impl Grid {
         out.iter_mut().for_each(|v| *v = 0.0);
         match self.layout {
             Layout::Cartesian | Layout::Box => {
-                let r = point[0].hypot(point[1]);
+                let (ix, iy) = (self.natural[0], self.natural[1]);
+                let r = point[ix].hypot(point[iy]);
                 if r > 0.0 {
-                    out[0] = -point[1] / r;
-                    out[1] = point[0] / r;
+                    out[ix] = -point[iy] / r;
+                    out[iy] = point[ix] / r;
                 }
             }
             Layout::Line(Coord::R) | Layout::Polar | Layout::Cylindrical => out[1] = 1.0,

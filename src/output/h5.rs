@@ -225,7 +225,9 @@ impl H5Stream {
                 string_attr(&ds, "units", &unit)?;
             }
         }
-        write_nodes(&g, grid, &units.unit_string(crate::units::Dim::LENGTH))?;
+        if !super::xdmf::rectilinear(grid) {
+            write_nodes(&g, grid, &units.unit_string(crate::units::Dim::LENGTH))?;
+        }
         let names: Vec<&str> = grid.axes().iter().map(|a| a.coord.name()).collect();
         let cells = grid.shape();
         let mut written = Vec::new();
@@ -434,7 +436,8 @@ fn write_scales(file: &File, units: crate::units::UnitSystem) -> H5Result {
 }
 
 /// The Cartesian node positions `/grid/node_x`, `node_y`, `node_z` (see
-/// [`super::xdmf`]), written in blocks of rows so that memory stays bounded.
+/// [`super::xdmf`]; not written for a grid the XDMF describes as a
+/// rectilinear mesh), written in blocks of rows so that memory stays bounded.
 fn write_nodes(g: &Group, grid: &Grid, unit: &str) -> H5Result {
     let shape = super::xdmf::node_shape(grid);
     let inner: usize = shape[1..].iter().product();

@@ -1,20 +1,27 @@
 //! The XDMF description written beside every HDF5 file, so that ParaView,
 //! VisIt and other XDMF readers open the pair directly.
 //!
-//! Owns: the Cartesian positions of the grid's nodes (cell corners), which
-//! the HDF5 writer stores as `/grid/node_x`, `/grid/node_y` and
-//! `/grid/node_z` (one value per node, C order, in the file's length unit),
-//! and the XDMF 2 text that describes the grid as a curvilinear
-//! (`2DSMesh`/`3DSMesh`) mesh with those node positions and points at the
-//! HDF5 datasets of each field as cell data. A 1D line is a `Polyline` of
-//! its cells through the same node positions.
+//! Owns: whether a grid is described as a rectilinear or a curvilinear
+//! mesh, the Cartesian positions of the nodes (cell corners) the
+//! curvilinear description needs, which the HDF5 writer stores as
+//! `/grid/node_x`, `/grid/node_y` and `/grid/node_z` (one value per node,
+//! C order, in the file's length unit), and the XDMF 2 text that points at
+//! the HDF5 datasets of each field as cell data.
 //!
-//! Every layout, Cartesian included, is written as a curvilinear mesh with
-//! explicit node positions. XDMF's rectilinear meshes (`VXVYVZ`) take their
-//! first coordinate array along the fastest-varying array index; our arrays
-//! are C-ordered with the grid's first axis slowest (design §6), so a
-//! rectilinear description of an `[x, y]` grid would show x and y swapped.
-//! Explicit positions cannot be mis-read: each node carries its own x, y, z.
+//! XDMF's rectilinear meshes (`2DRectMesh` with `VXVY`, `3DRectMesh` with
+//! `VXVYVZ`) take x along the fastest-varying array index, then y, then z.
+//! Our arrays are C-ordered with the grid's first stored axis slowest
+//! (design §6), so a Cartesian grid is described rectilinearly, by its
+//! `/grid/<axis>_edges`, exactly when it stores x fastest: a box declared
+//! `grid.nesting = ["z", "y", "x"]`, a plane `["y", "x"]`. No node
+//! positions are written then. Every other grid (polar, cylindrical,
+//! spherical, a line, a section `[x, z]`, and a Cartesian grid in its
+//! natural order `[x, y, z]`, which a rectilinear description would show
+//! mirrored) is a curvilinear (`2DSMesh`/`3DSMesh`) mesh with explicit node
+//! positions, which cannot be mis-read: each node carries its own x, y, z;
+//! a Cartesian one says in a comment that declaring x fastest gives a
+//! rectilinear mesh. A 1D line is a `Polyline` of its cells through the
+//! node positions.
 //!
 //! Fields that are not one value per cell (faces, DG node or mode sets) are
 //! left out of the XDMF, each with a note in the file (an XML comment and an
@@ -27,10 +34,22 @@ use std::path::Path;
 
 use super::{GroupPlan, OutputError, Precision};
 use crate::fields::Placement;
-use crate::grid::Grid;
+use crate::grid::{Coord, Grid, Layout};
 
 /// Names of the node-position datasets in `/grid`.
 pub const NODE_DATASETS: [&str; 3] = ["node_x", "node_y", "node_z"];
+
+/// Whether `grid` is described as a rectilinear mesh through its edges
+/// (a Cartesian `[x, y]` or `[x, y, z]` grid stored with x fastest, see the
+/// module comment); then the HDF5 file holds no node positions.
+pub fn rectilinear(grid: &Grid) -> bool {
+    let stored: Vec<Coord> = grid.axes().iter().map(|a| a.coord).collect();
+    matches!(grid.layout(), Layout::Cartesian | Layout::Box)
+        && matches!(
+            stored.as_slice(),
+            [Coord::Y, Coord::X] | [Coord::Z, Coord::Y, Coord::X]
+        )
+}
 
 /// The shape of the node arrays: the edges of every axis.
 pub fn node_shape(grid: &Grid) -> Vec<usize> {
@@ -156,7 +175,42 @@ pub fn xdmf_text(
             let _ = write!(x, "{}{i} {}", if i == 0 { "" } else { " " }, i + 1);
         }
         let _ = writeln!(x, "</DataItem></Topology>");
+    } else if rectilinear(grid) {
+        let (topology, geometry) = if nodes.len() == 2 {
+            ("2DRectMesh", "VXVY")
+        } else {
+            ("3DRectMesh", "VXVYVZ")
+        };
+        let _ = writeln!(
+            x,
+            r#"      <Topology TopologyType="{topology}" NumberOfElements="{}"/>"#,
+            dims(&nodes)
+        );
+        let _ = writeln!(x, r#"      <Geometry GeometryType="{geometry}">"#);
+        // x first: the fastest index, then y (and z).
+        for a in grid.axes().iter().rev() {
+            let _ = writeln!(
+                x,
+                r#"        <DataItem Dimensions="{}" NumberType="Float" Precision="8" Format="HDF">{h5}:/grid/{}_edges</DataItem>"#,
+                a.edges.len(),
+                a.coord.name()
+            );
+        }
+        let _ = writeln!(x, "      </Geometry>");
     } else {
+        if matches!(grid.layout(), Layout::Cartesian | Layout::Box) {
+            let fastest = if nodes.len() == 2 {
+                r#"["y", "x"]"#
+            } else {
+                r#"["z", "y", "x"]"#
+            };
+            let _ = writeln!(
+                x,
+                "      <!-- a curvilinear mesh through /grid/node_x, node_y, node_z: the arrays \
+                 store x slowest; declaring grid.nesting {fastest} (x fastest) gives a \
+                 rectilinear mesh through the axis edges, and no node datasets -->"
+            );
+        }
         let topology = if nodes.len() == 2 {
             "2DSMesh"
         } else {
@@ -168,15 +222,17 @@ pub fn xdmf_text(
             dims(&nodes)
         );
     }
-    let _ = writeln!(x, r#"      <Geometry GeometryType="X_Y_Z">"#);
-    for name in NODE_DATASETS {
-        let _ = writeln!(
-            x,
-            r#"        <DataItem Dimensions="{}" NumberType="Float" Precision="8" Format="HDF">{h5}:/grid/{name}</DataItem>"#,
-            dims(&nodes)
-        );
+    if !rectilinear(grid) {
+        let _ = writeln!(x, r#"      <Geometry GeometryType="X_Y_Z">"#);
+        for name in NODE_DATASETS {
+            let _ = writeln!(
+                x,
+                r#"        <DataItem Dimensions="{}" NumberType="Float" Precision="8" Format="HDF">{h5}:/grid/{name}</DataItem>"#,
+                dims(&nodes)
+            );
+        }
+        let _ = writeln!(x, "      </Geometry>");
     }
-    let _ = writeln!(x, "      </Geometry>");
     let axis_names: Vec<&str> = grid.axes().iter().map(|a| a.coord.name()).collect();
     let bytes = match precision {
         Precision::Double => 8,

@@ -50,8 +50,17 @@ impl Basis {
             Frame::Axisymmetric => [Some(Coord::R), Some(Coord::Phi), Some(Coord::Z)],
             Frame::Spherical => [Some(Coord::Sph), Some(Coord::Theta), Some(Coord::Phi)],
             Frame::Slab => {
-                let axes = grid.axes();
-                let s = grid.slab_axis().min(axes.len() - 1);
+                // The other axes in the layout's natural order, as the
+                // embedding projects them (whatever the grid's nesting).
+                let axes: Vec<&crate::grid::Axis> = (0..grid.axes().len())
+                    .map(|k| grid.natural_axis(k))
+                    .collect();
+                let stored = grid.slab_axis().min(axes.len() - 1);
+                let s = grid
+                    .natural_order()
+                    .iter()
+                    .position(|a| *a == stored)
+                    .unwrap_or(0);
                 let mut slots = [None; 3];
                 slots[0] = Some(axes[s].coord);
                 let others = axes.iter().enumerate().filter(|(k, _)| *k != s);
@@ -213,7 +222,11 @@ impl Bound {
                 let stride: usize = shape[a + 1..].iter().product();
                 (stride as u64, shape[a] as u64)
             });
-        let axes = grid.axes();
+        // Cells are keyed in the layout's natural order (see the sampler).
+        let axes: Vec<&crate::grid::Axis> = (0..grid.axes().len())
+            .map(|k| grid.natural_axis(k))
+            .collect();
+        let shape: Vec<usize> = axes.iter().map(|a| a.cells()).collect();
         let xy = |c: Coord| c == Coord::X || c == Coord::Y;
         let rings = (azimuth.is_none() && axes.iter().any(|a| xy(a.coord))).then(|| Rings {
             width: axes

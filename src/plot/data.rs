@@ -420,14 +420,17 @@ pub fn slice(loaded: &Loaded, field: &str) -> Result<Map, Error> {
     let (h, v, cut) = match grid.layout() {
         Layout::Cylindrical => (0, 2, Some((1, 0))),
         Layout::Spherical => (0, 1, Some((2, 0))),
+        // Cartesian grids: x across, the second axis up, whatever the
+        // grid's nesting.
         _ if axes.len() == 3 => {
-            let c = axes[2].centers();
+            let n = grid.natural_order();
+            let c = axes[n[2]].centers();
             let j = (0..c.len())
                 .min_by(|a, b| c[*a].abs().total_cmp(&c[*b].abs()))
                 .unwrap_or(0);
-            (0, 1, Some((2, j)))
+            (n[0], n[1], Some((n[2], j)))
         }
-        _ => (0, 1, None),
+        _ => (grid.natural_order()[0], grid.natural_order()[1], None),
     };
     let at = |i: usize, j: usize| -> f64 {
         let mut idx = [0usize; 3];

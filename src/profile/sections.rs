@@ -224,6 +224,9 @@ pub(super) fn grid(
     let mut halo_nodes = Vec::new();
     let mut edge_values = 0u64;
     for key in map.keys() {
+        if key == "nesting" {
+            continue;
+        }
         let owned = node.require(key)?;
         let ax = owned.node();
         let Some(coord) = Coord::from_name(key) else {
@@ -328,14 +331,40 @@ pub(super) fn grid(
         )));
     }
     let grid = Grid::new(axes).map_err(|e| node.error(e.to_string()))?;
-    grid.with_halo(&halo)
-        .map_err(|(a, e)| match halo_nodes.iter().find(|(i, _)| *i == a) {
-            Some((_, at)) => ProfileError {
-                message: e.to_string(),
-                ..at.clone()
-            },
-            None => node.error(e.to_string()),
-        })
+    let grid =
+        grid.with_halo(&halo)
+            .map_err(|(a, e)| match halo_nodes.iter().find(|(i, _)| *i == a) {
+                Some((_, at)) => ProfileError {
+                    message: e.to_string(),
+                    ..at.clone()
+                },
+                None => node.error(e.to_string()),
+            })?;
+    match node.child("nesting") {
+        None => Ok(grid),
+        Some(n) => nesting(n.node(), grid),
+    }
+}
+
+/// `grid.nesting`: the axes of a Cartesian grid listed slowest first, the
+/// order its arrays are stored in (`["z", "y", "x"]` puts x fastest).
+fn nesting(n: Node, grid: Grid) -> Result<Grid, ProfileError> {
+    let have: Vec<&str> = grid.axes().iter().map(|a| a.coord.name()).collect();
+    let mut order = Vec::new();
+    for item in n.array()? {
+        let name = item.node().str()?;
+        let coord = Coord::from_name(name)
+            .filter(|c| grid.axes().iter().any(|a| a.coord == *c))
+            .ok_or_else(|| {
+                n.error(format!(
+                    "`{name}` is not an axis of the grid [{}]; list its axes once each, slowest first",
+                    have.join(", ")
+                ))
+            })?;
+        order.push(coord);
+    }
+    grid.with_nesting(&order)
+        .map_err(|e| n.error(e.to_string()))
 }
 
 /// An axis's edges, centres and widths are held whole: refuse before

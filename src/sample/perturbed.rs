@@ -23,6 +23,9 @@ pub(super) struct Perturbed<'a> {
     axes: Vec<Coord>,
     /// C-order strides of the grid's axes.
     pub strides: Vec<u64>,
+    /// On a grid stored out of its natural order: per stored axis, its cell
+    /// count and its stride in the natural order.
+    renumber: Option<Vec<(u64, u64)>>,
     /// Value slots of one state (the background's catalogue).
     vol: usize,
     slots: Slots,
@@ -47,9 +50,25 @@ impl<'a> Perturbed<'a> {
         let strides = (0..shape.len())
             .map(|a| shape[a + 1..].iter().product::<usize>() as u64)
             .collect();
+        // Noise is keyed on the cell's index in the layout's natural order,
+        // so a grid's nesting does not change the values it draws.
+        let renumber = (!grid.is_natural_order()).then(|| {
+            let natural = grid.natural_order();
+            let nshape: Vec<usize> = natural.iter().map(|s| shape[*s]).collect();
+            (0..shape.len())
+                .map(|a| {
+                    let k = natural.iter().position(|s| *s == a).unwrap_or(a);
+                    (
+                        shape[a] as u64,
+                        nshape[k + 1..].iter().product::<usize>() as u64,
+                    )
+                })
+                .collect()
+        });
         Perturbed {
             p,
             axes: grid.axes().iter().map(|a| a.coord).collect(),
+            renumber,
             strides,
             vol: slots.volume(),
             slots,
@@ -161,6 +180,16 @@ impl<'a> Perturbed<'a> {
         b.pts.fill(&self.axes, grid, n);
         for (i, c) in b.cells[..n].iter_mut().enumerate() {
             *c = base + (first + i / pc) as u64 * self.strides[lane];
+        }
+        if let Some(re) = &self.renumber {
+            for c in &mut b.cells[..n] {
+                let (mut rest, mut nat) = (*c, 0u64);
+                for (count, stride) in re.iter().rev() {
+                    nat += (rest % count) * stride;
+                    rest /= count;
+                }
+                *c = nat;
+            }
         }
         self.p.apply(
             &b.pts,

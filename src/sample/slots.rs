@@ -203,7 +203,11 @@ fn describe(grid: &Grid, point: &[f64]) -> String {
         .collect();
     if matches!(grid.layout(), Layout::Cartesian | Layout::Box) {
         let last = parts.pop().unwrap_or_default();
-        let r = (point[0] * point[0] + point[1] * point[1]).sqrt();
+        let (x, y) = (
+            point[grid.natural_order()[0]],
+            point[grid.natural_order()[1]],
+        );
+        let r = (x * x + y * y).sqrt();
         parts.push(format!("{last} (R = {r})"));
     }
     parts.join(", ")

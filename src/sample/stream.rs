@@ -228,7 +228,15 @@ impl<'a> Sampler<'a> {
         let k = nodal.unwrap_or(1);
         let shape = grid.shape().iter().map(|c| c * k).collect();
         let active = embed.active_axes(bg.depends_on());
-        let lane = active.iter().rposition(|a| *a).unwrap_or(0);
+        // The last active axis of the layout's natural order, so that a
+        // grid's nesting does not change the order of any sum (see `line`).
+        let lane = grid
+            .natural_order()
+            .iter()
+            .rev()
+            .copied()
+            .find(|a| active[*a])
+            .unwrap_or(0);
         let slots = Slots {
             ncomp: embed.components().len(),
         };
@@ -363,7 +371,7 @@ impl<'a> Sampler<'a> {
         self.entries.extend(state);
         self.entries.extend(alone);
         self.active = vec![true; self.grid.axes().len()];
-        self.lane = self.active.len() - 1;
+        self.lane = self.grid.natural_order()[self.active.len() - 1];
         self.perturb = Some(pt);
         self
     }
@@ -615,8 +623,11 @@ impl<'a> Sampler<'a> {
             // Coordinates and weight of this combination of outer nodes; an
             // inactive axis sits at its first node.
             let mut weight = 1.0;
+            // In the layout's natural order: the nodes are combined, and
+            // their weights multiplied, in the same order whatever the
+            // grid's nesting, so the sums are the same to the bit.
             let mut rest = qo;
-            for a in (0..nd).rev() {
+            for &a in self.grid.natural_order().iter().rev() {
                 if a == self.lane {
                     continue;
                 }
@@ -793,7 +804,18 @@ impl<'a> Sampler<'a> {
         let shape = self.shape.clone();
         let nd = shape.len();
         let last = nd - 1;
-        let run = if last == 0 { rows.len() } else { shape[last] };
+        // A lane axis followed by an active axis (a grid stored out of its
+        // natural order, whose lane is the natural order's last active
+        // axis): every cell is gathered on its own.
+        let gather = self.active[self.lane + 1..].iter().any(|a| *a);
+        let run = if gather {
+            1
+        } else if last == 0 {
+            rows.len()
+        } else {
+            shape[last]
+        };
+        let steps = if gather { nd } else { last };
         let ncells = red[self.lane].len();
         let mut out_shape = shape.clone();
         out_shape[0] = rows.len();
@@ -816,7 +838,7 @@ impl<'a> Sampler<'a> {
                 c = i - red[a].start;
             }
             runs.push((line, c));
-            for a in (0..last).rev() {
+            for a in (0..steps).rev() {
                 idx[a] += 1;
                 if idx[a] < out_shape[a] {
                     break;
