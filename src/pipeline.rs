@@ -655,6 +655,7 @@ impl Built<'_> {
     pub fn sample_state_all(&self, report: &dyn Fn(Progress)) -> Result<FieldSet, Error> {
         let sampler = self.sampler()?;
         let split = self.split(&sampler)?;
+        let sampler = sampler.keeping(&split.keep);
         let forcing = self.forcing_sampler()?;
         let grid = &self.loaded.grid;
         let shape = grid.shape();
@@ -942,6 +943,7 @@ impl Built<'_> {
         let grid = &self.loaded.grid;
         let groups = self.groups()?;
         let split = self.split(&sampler)?;
+        let sampler = sampler.keeping(&split.keep);
         let create = || {
             H5Stream::create_filtered(
                 path,
@@ -1080,6 +1082,12 @@ impl Split {
                 .map(|(n, f)| (n.to_string(), f.clone()))
                 .collect(),
         }
+    }
+
+    /// Per field of the sampler's slabs, whether `output.fields` keeps it
+    /// (what [`Sampler::keeping`] takes).
+    pub fn keep(&self) -> &[bool] {
+        &self.keep
     }
 
     /// Whether the groups are background, state and perturbation (the

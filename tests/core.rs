@@ -108,30 +108,40 @@ fn issue6_block_and_point_paths_agree_to_the_bit() {
             .map(|i| domain.lo + (domain.hi - domain.lo) * (i as f64 + 0.37) / n as f64)
             .collect();
         let zs = vec![0.0; n];
-        let coords: Vec<&[f64]> = match bg.frame().dims() {
-            1 => vec![&xs[..]],
-            _ => vec![&xs[..], &zs[..]],
+        // Also one radius with heights that vary (up to a tenth of it):
+        // the block path reads a coordinate that is one value over a block
+        // once (issue 11), which must not change a bit.
+        let mid = 0.5 * (domain.lo + domain.hi);
+        let rs = vec![mid; n];
+        let hs: Vec<f64> = (0..n)
+            .map(|i| 0.1 * mid * (i as f64 / n as f64 - 0.5))
+            .collect();
+        let sets: Vec<Vec<&[f64]>> = match bg.frame().dims() {
+            1 => vec![vec![&xs[..]]],
+            _ => vec![vec![&xs[..], &zs[..]], vec![&rs[..], &hs[..]]],
         };
-        let mut ws = bg.workspace();
-        let mut block = StateBlock::new();
-        let want = Want {
-            accelerations: true,
-        };
-        for start in (0..n).step_by(stillpoint::background::LANES) {
-            let end = n.min(start + stillpoint::background::LANES);
-            let part: Vec<&[f64]> = coords.iter().map(|c| &c[start..end]).collect();
-            bg.eval(&part, want, &mut block, &mut ws);
-            for i in start..end {
-                let point: Vec<f64> = part.iter().map(|c| c[i - start]).collect();
-                let (a, b) = (block.get(i - start), bg.at(&point));
-                let bits = |s: &stillpoint::background::State| {
-                    let mut v = vec![s.density, s.pressure, s.potential];
-                    v.extend(s.velocity);
-                    v.extend(s.gravity);
-                    v.extend(s.pressure_accel);
-                    v.iter().map(|x| x.to_bits()).collect::<Vec<_>>()
-                };
-                assert_eq!(bits(&a), bits(&b), "{name} at {point:?}");
+        for coords in sets {
+            let mut ws = bg.workspace();
+            let mut block = StateBlock::new();
+            let want = Want {
+                accelerations: true,
+            };
+            for start in (0..n).step_by(stillpoint::background::LANES) {
+                let end = n.min(start + stillpoint::background::LANES);
+                let part: Vec<&[f64]> = coords.iter().map(|c| &c[start..end]).collect();
+                bg.eval(&part, want, &mut block, &mut ws);
+                for i in start..end {
+                    let point: Vec<f64> = part.iter().map(|c| c[i - start]).collect();
+                    let (a, b) = (block.get(i - start), bg.at(&point));
+                    let bits = |s: &stillpoint::background::State| {
+                        let mut v = vec![s.density, s.pressure, s.potential];
+                        v.extend(s.velocity);
+                        v.extend(s.gravity);
+                        v.extend(s.pressure_accel);
+                        v.iter().map(|x| x.to_bits()).collect::<Vec<_>>()
+                    };
+                    assert_eq!(bits(&a), bits(&b), "{name} at {point:?}");
+                }
             }
         }
     }

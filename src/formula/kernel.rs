@@ -113,6 +113,10 @@ pub struct Kernel {
 pub struct Workspace {
     blocks: Vec<Vec<f64>>,
     scalars: Vec<f64>,
+    /// The block path's uniform values: one entry per variable, register
+    /// and output (in that order), `Some` where the whole block holds that
+    /// one value.
+    uniform: Vec<Option<f64>>,
 }
 
 impl Workspace {
@@ -222,23 +226,60 @@ impl Kernel {
             "Kernel::run: an input slice is shorter than the output"
         );
         ws.fit(self.n_regs);
-        let regs = &mut ws.blocks[..];
+        let Workspace {
+            blocks: regs,
+            uniform,
+            ..
+        } = ws;
+        let nv = self.vars.len();
+        let (nr, no) = (self.n_regs, self.outputs.len());
+        uniform.clear();
+        uniform.resize(nv + nr + no, None);
         for start in (0..n).step_by(LANES) {
             let at = start..n.min(start + LANES);
             let len = at.len();
+            // A variable with the same value (bit for bit) in every lane of
+            // the block is read as one value, and so is every instruction
+            // whose operands are all such: it runs once for the block, on
+            // its scalar definition, which gives the same bits as running
+            // it lane by lane.
+            for (u, x) in uniform[..nv].iter_mut().zip(inputs) {
+                let x = &x[at.clone()];
+                *u = x
+                    .first()
+                    .filter(|f| x.iter().all(|v| v.to_bits() == f.to_bits()))
+                    .copied();
+            }
+            uniform[nv..].fill(None);
             for inst in &self.code {
+                let splat = lanes(regs, inputs, outputs, &at, uniform, nv, nr).splat(inst);
+                if let Some(v) = splat {
+                    match inst.dst {
+                        Src::Reg(r) => uniform[nv + r as usize] = Some(v),
+                        Src::Out(k) => {
+                            outputs[k as usize][at.clone()].fill(v);
+                            uniform[nv + nr + k as usize] = Some(v);
+                        }
+                        _ => unreachable!("an instruction writes a register or an output"),
+                    }
+                    continue;
+                }
                 // The destination is taken out while the operands are read
                 // (it is never one of them), then put back.
                 match inst.dst {
                     Src::Reg(r) => {
                         let mut d = std::mem::take(&mut regs[r as usize]);
-                        lanes(regs, inputs, outputs, &at).exec(inst, &mut d[..len]);
+                        lanes(regs, inputs, outputs, &at, uniform, nv, nr)
+                            .exec(inst, &mut d[..len]);
                         regs[r as usize] = d;
+                        uniform[nv + r as usize] = None;
                     }
                     Src::Out(k) => {
                         let d = std::mem::take(&mut outputs[k as usize]);
-                        lanes(regs, inputs, outputs, &at).exec(inst, &mut d[at.clone()]);
+                        lanes(regs, inputs, outputs, &at, uniform, nv, nr)
+                            .exec(inst, &mut d[at.clone()]);
                         outputs[k as usize] = d;
+                        uniform[nv + nr + k as usize] = None;
                     }
                     _ => unreachable!("an instruction writes a register or an output"),
                 }
@@ -248,7 +289,7 @@ impl Kernel {
             for (k, &s) in self.outputs.iter().enumerate() {
                 if s != Src::Out(k as u32) {
                     let o = std::mem::take(&mut outputs[k]);
-                    match lanes(regs, inputs, outputs, &at).get(s) {
+                    match lanes(regs, inputs, outputs, &at, uniform, nv, nr).get(s) {
                         Arg::Lanes(v) => o[at.clone()].copy_from_slice(v),
                         Arg::Splat(c) => o[at.clone()].fill(c),
                     }
@@ -455,6 +496,62 @@ mod tests {
                 for j in 0..6 {
                     let (a, b) = (outs[j][i], p[j]);
                     assert!(a.to_bits() == b.to_bits() || a.is_nan() && b.is_nan());
+                }
+            }
+        }
+    }
+
+    /// A variable that holds one value over a block is read once, and so
+    /// is everything computed from it alone: the values are still those of
+    /// the scalar path to the bit, also when a register that held such a
+    /// value is reused for one that varies, and in the next block, where
+    /// the variable varies.
+    #[test]
+    fn a_variable_uniform_over_a_block_gives_the_scalar_bits() {
+        let srcs = [
+            "exp(-(R/0.4)^4)*R^-1.5 + sqrt(R^2 + z^2 + 0.01)",
+            "(1 - exp(-R))*exp(-z^2/(2*R^2)) if R > 0.5 else -R",
+            "R*z",
+            "k*R",
+            "sin(R)*cos(z) + R^0.3",
+        ];
+        let k = kernel(&srcs, &["R", "z"]);
+        let mut ws = Workspace::new();
+        let l = Kernel::LANES;
+        let n = 3 * l + 5;
+        // R constant over the first block and part of the second, then
+        // varying; z constant over the third block.
+        let r: Vec<f64> = (0..n)
+            .map(|i| {
+                if i < l + 7 {
+                    0.7
+                } else {
+                    0.3 + i as f64 / 200.0
+                }
+            })
+            .collect();
+        let z: Vec<f64> = (0..n)
+            .map(|i| {
+                if (2 * l..3 * l).contains(&i) {
+                    -0.25
+                } else {
+                    (i as f64 / 37.0).sin()
+                }
+            })
+            .collect();
+        for (r, z) in [(&r, &z), (&z, &r)] {
+            let mut outs = vec![vec![f64::NAN; n]; srcs.len()];
+            let mut slices: Vec<&mut [f64]> = outs.iter_mut().map(|o| &mut o[..]).collect();
+            k.run(&[r, z], &mut slices, &mut ws);
+            let mut p = [0.0; 5];
+            for i in 0..n {
+                k.eval(&[r[i], z[i]], &mut p, &mut ws);
+                for j in 0..srcs.len() {
+                    let (a, b) = (outs[j][i], p[j]);
+                    assert!(
+                        a.to_bits() == b.to_bits() || a.is_nan() && b.is_nan(),
+                        "output {j} at {i}: {a} against {b}"
+                    );
                 }
             }
         }

@@ -250,22 +250,55 @@ fn loop3(d: &mut [f64], c: &[f64], a: &[f64], b: &[f64], f: impl Fn(f64, f64, f6
 }
 
 /// Where the block path reads: the registers, the caller's inputs and
-/// outputs, and the lanes `at` of the current block.
+/// outputs, the lanes `at` of the current block, and which variables,
+/// registers and outputs hold one value in every lane of it (`uniform`:
+/// variables, then registers from `nv`, then outputs from `nv + nr`).
 pub(crate) struct Lanes<'a> {
     regs: &'a [Vec<f64>],
     inputs: &'a [&'a [f64]],
     outputs: &'a [&'a mut [f64]],
     at: Range<usize>,
+    uniform: &'a [Option<f64>],
+    nv: usize,
+    nr: usize,
 }
 
 impl<'a> Lanes<'a> {
+    fn uniform(&self, s: Src) -> Option<f64> {
+        let k = match s {
+            Src::Var(v) => v as usize,
+            Src::Reg(r) => self.nv + r as usize,
+            Src::Out(k) => self.nv + self.nr + k as usize,
+            Src::Const(c) => return Some(c),
+        };
+        self.uniform.get(k).copied().flatten()
+    }
+
     pub(crate) fn get(&self, s: Src) -> Arg<'a> {
+        if let Some(c) = self.uniform(s) {
+            return Arg::Splat(c);
+        }
         match s {
             Src::Reg(r) => Arg::Lanes(&self.regs[r as usize][..self.at.len()]),
             Src::Var(v) => Arg::Lanes(&self.inputs[v as usize][self.at.clone()]),
             Src::Out(k) => Arg::Lanes(&self.outputs[k as usize][self.at.clone()]),
             Src::Const(c) => Arg::Splat(c),
         }
+    }
+
+    /// The value of an instruction whose operands all hold one value in
+    /// every lane, from its scalar definition; None if one varies.
+    pub(crate) fn splat(&self, inst: &Inst) -> Option<f64> {
+        let arity = inst.op.arity();
+        let mut a = [0.0; 3];
+        for (k, s) in inst.args[..arity].iter().enumerate() {
+            a[k] = self.uniform(*s)?;
+        }
+        Some(match inst.op {
+            Op::Un(u) => u.scalar(a[0]),
+            Op::Bin(b) => b.scalar(a[0], a[1]),
+            Op::Select => select_scalar(a[0], a[1], a[2]),
+        })
     }
 
     /// Run one instruction into `d` (the destination's lanes).
@@ -284,12 +317,18 @@ pub(crate) fn lanes<'a>(
     inputs: &'a [&'a [f64]],
     outputs: &'a [&'a mut [f64]],
     at: &Range<usize>,
+    uniform: &'a [Option<f64>],
+    nv: usize,
+    nr: usize,
 ) -> Lanes<'a> {
     Lanes {
         regs,
         inputs,
         outputs,
         at: at.clone(),
+        uniform,
+        nv,
+        nr,
     }
 }
 

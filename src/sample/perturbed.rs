@@ -212,7 +212,15 @@ impl<'a> Perturbed<'a> {
         embed.project(grid, frame, &s.velocity, n, &mut b.vel);
         embed.project(grid, frame, &d.velocity, n, &mut b.dvel);
         let vol = self.vol;
-        slots::fill_block(s, &b.vel, n, gas, &mut values[vol..2 * vol], &mut b.bad);
+        slots::fill_block(
+            s,
+            &b.vel,
+            n,
+            gas,
+            &mut values[vol..2 * vol],
+            &mut b.bad,
+            u64::MAX,
+        );
         for &(i, e) in &b.bad {
             if !bad.iter().any(|(j, _)| *j == i) {
                 bad.push((i, e));

@@ -109,7 +109,8 @@ pub(super) type Failure = (&'static str, f64, bool);
 /// field finite) and writes their slot values, `values[slot][lane]`:
 /// `velocity` holds the grid components already rotated from the frame
 /// basis. Lanes that fail are listed in `bad` (lane, failure), in order;
-/// their values are not meaningful.
+/// their values are not meaningful. Only the slots whose bit `need` sets
+/// are written (`u64::MAX`: all); the others keep what they held.
 pub(super) fn fill_block(
     st: &StateBlock,
     velocity: &[Vec<f64>],
@@ -117,46 +118,83 @@ pub(super) fn fill_block(
     gas: &GasConstants,
     values: &mut [Vec<f64>],
     bad: &mut Vec<(usize, Failure)>,
+    need: u64,
 ) {
     bad.clear();
-    for i in 0..n {
-        if let Err(e) = check(st, i) {
-            bad.push((i, e));
-        }
-    }
-    let (rho, p) = (&st.density[..n], &st.pressure[..n]);
-    values[RHO][..n].copy_from_slice(rho);
-    values[PRES][..n].copy_from_slice(p);
-    values[POT][..n].copy_from_slice(&st.potential[..n]);
-    for ((c, p), r) in values[CS][..n].iter_mut().zip(p).zip(rho) {
-        *c = (p / r).sqrt();
-    }
-    match gas.temperature_per_c2 {
-        Some(k) => {
-            for ((t, p), r) in values[TEMP][..n].iter_mut().zip(p).zip(rho) {
-                *t = k * (p / r);
+    if !block_is_sound(st, n) {
+        for i in 0..n {
+            if let Err(e) = check(st, i) {
+                bad.push((i, e));
             }
         }
-        None => values[TEMP][..n].fill(0.0),
+    }
+    let wanted = |slot: usize| need & (1 << slot) != 0;
+    let (rho, p) = (&st.density[..n], &st.pressure[..n]);
+    if wanted(RHO) {
+        values[RHO][..n].copy_from_slice(rho);
+    }
+    if wanted(PRES) {
+        values[PRES][..n].copy_from_slice(p);
+    }
+    if wanted(POT) {
+        values[POT][..n].copy_from_slice(&st.potential[..n]);
+    }
+    if wanted(CS) {
+        for ((c, p), r) in values[CS][..n].iter_mut().zip(p).zip(rho) {
+            *c = (p / r).sqrt();
+        }
+    }
+    if wanted(TEMP) {
+        match gas.temperature_per_c2 {
+            Some(k) => {
+                for ((t, p), r) in values[TEMP][..n].iter_mut().zip(p).zip(rho) {
+                    *t = k * (p / r);
+                }
+            }
+            None => values[TEMP][..n].fill(0.0),
+        }
     }
     // An isothermal gas has no energy field (see `catalogue`).
-    if crate::physics::is_isothermal(gas.gamma) {
+    if !wanted(ENERGY) {
+    } else if crate::physics::is_isothermal(gas.gamma) {
         values[ENERGY][..n].fill(0.0);
     } else {
         let [v0, v1, v2] = &st.velocity;
+        let (v0, v1, v2) = (&v0[..n], &v1[..n], &v2[..n]);
+        let e = &mut values[ENERGY][..n];
+        let k = gas.gamma - 1.0;
         for i in 0..n {
             let vv = v0[i] * v0[i] + v1[i] * v1[i] + v2[i] * v2[i];
-            values[ENERGY][i] = p[i] / (gas.gamma - 1.0) + 0.5 * rho[i] * vv;
+            e[i] = p[i] / k + 0.5 * rho[i] * vv;
         }
     }
     let nc = velocity.len();
     for (c, v) in velocity.iter().enumerate() {
         let (mom, vel) = values[FIRST_VECTOR..].split_at_mut(nc);
-        vel[c][..n].copy_from_slice(&v[..n]);
-        for ((m, v), r) in mom[c][..n].iter_mut().zip(&v[..n]).zip(rho) {
-            *m = r * v;
+        if wanted(FIRST_VECTOR + nc + c) {
+            vel[c][..n].copy_from_slice(&v[..n]);
+        }
+        if wanted(FIRST_VECTOR + c) {
+            for ((m, v), r) in mom[c][..n].iter_mut().zip(&v[..n]).zip(rho) {
+                *m = r * v;
+            }
         }
     }
+}
+
+/// True if every lane passes [`check`]: one pass without branches; the
+/// lanes are checked one by one only when it is false.
+fn block_is_sound(st: &StateBlock, n: usize) -> bool {
+    let mut ok = true;
+    for i in 0..n {
+        let (d, p) = (st.density[i], st.pressure[i]);
+        let v = st.velocity[0][i] + st.velocity[1][i] + st.velocity[2][i];
+        // Positive and finite; a sum of finite values that is not finite
+        // only fails the quick test (the lane check decides).
+        ok &= (d > 0.0) & (d < f64::INFINITY) & (p > 0.0) & (p < f64::INFINITY);
+        ok &= v.is_finite() & st.potential[i].is_finite();
+    }
+    ok
 }
 
 /// The check of one lane.

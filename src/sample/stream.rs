@@ -185,6 +185,13 @@ pub struct Sampler<'a> {
     groups: Vec<(&'static str, usize)>,
     /// Reduced arrays of earlier slabs, for reuse.
     scratch: std::sync::Mutex<Vec<Vec<f64>>>,
+    /// Per field, whether a slab holds its values (see [`Sampler::keeping`]).
+    kept: Vec<bool>,
+    /// Per value slot, whether a kept field needs it: computed at each
+    /// point (`need`, one bit per slot of the state) and summed over the
+    /// nodes of a cell (`summed`).
+    need: u64,
+    summed: Vec<bool>,
 }
 
 impl<'a> Sampler<'a> {
@@ -273,6 +280,9 @@ impl<'a> Sampler<'a> {
             extras: None,
             groups,
             scratch: std::sync::Mutex::new(Vec::new()),
+            kept: Vec::new(),
+            need: u64::MAX,
+            summed: Vec::new(),
         })
     }
 
@@ -340,6 +350,52 @@ impl<'a> Sampler<'a> {
             ),
         };
         Ok(s)
+    }
+
+    /// This sampler with only the fields `keep` marks (one flag per field
+    /// of [`Sampler::fields`]) computed: the others are empty arrays in
+    /// every slab, and the values only they need are not computed. The
+    /// kept fields' values are the same to the bit. A perturbed sampler is
+    /// returned unchanged (its fields are computed together).
+    pub fn keeping(mut self, keep: &[bool]) -> Sampler<'a> {
+        if self.perturb.is_some() || keep.len() != self.entries.len() || keep.iter().all(|k| *k) {
+            return self;
+        }
+        let base = self.slots.len() - 1;
+        let mut summed = vec![false; self.value_slots()];
+        // Fields sampled on request are summed whenever there are any.
+        summed[base..].fill(true);
+        let mut need = 0u64;
+        let (mom, vel, nc) = (self.slots.mom(), self.slots.vel(), self.slots.ncomp);
+        for (e, k) in self.entries.iter().zip(keep) {
+            if !*k || e.slot >= base {
+                continue;
+            }
+            if self.averaged && (vel..vel + nc).contains(&e.slot) {
+                // A mean velocity is the mean momentum over the mean density.
+                let c = e.slot - vel;
+                summed[mom + c] = true;
+                summed[RHO] = true;
+                need |= 1 << (mom + c) | 1 << RHO;
+            } else {
+                summed[e.slot] = true;
+            }
+            need |= 1 << e.slot;
+        }
+        self.kept = keep.to_vec();
+        self.need = need;
+        self.summed = summed;
+        self
+    }
+
+    /// Whether field `k` is computed (see [`Sampler::keeping`]).
+    fn is_kept(&self, k: usize) -> bool {
+        self.kept.get(k).copied().unwrap_or(true)
+    }
+
+    /// Whether value slot `s` is summed over a cell's nodes.
+    fn is_summed(&self, s: usize) -> bool {
+        self.summed.get(s).copied().unwrap_or(true)
     }
 
     /// The fields every slab holds, in order (the groups' fields one
@@ -491,6 +547,9 @@ impl<'a> Sampler<'a> {
         data.resize_with(points.data.len(), Vec::new);
         for (d, src) in data.iter_mut().zip(&points.data) {
             d.clear();
+            if src.is_empty() {
+                continue; // a field not kept
+            }
             d.resize(total, 0.0);
             let mut cell = vec![0usize; nd];
             let mut node = vec![0usize; nd];
@@ -513,7 +572,7 @@ impl<'a> Sampler<'a> {
             }
         }
         if let Some((modes, m)) = &self.modal {
-            for d in &mut data {
+            for d in data.iter_mut().filter(|d| !d.is_empty()) {
                 *d = project(d, nd, n, *modes, m);
             }
         }
@@ -676,6 +735,7 @@ impl<'a> Sampler<'a> {
                     &self.gas,
                     &mut buf.values,
                     &mut buf.bad,
+                    self.need,
                 );
                 let pc = lane.per_cell;
                 let c0 = start / pc;
@@ -737,15 +797,9 @@ impl<'a> Sampler<'a> {
                 for (s, v) in buf.values.iter().enumerate() {
                     let sums = &mut acc[s * ncells..(s + 1) * ncells][cells.clone()];
                     if self.averaged {
-                        // Σ over the cell's nodes of this block, then added.
-                        for ((sum, w), v) in
-                            sums.iter_mut().zip(w.chunks(pc)).zip(v[..n].chunks(pc))
-                        {
-                            let mut t = 0.0;
-                            for (w, v) in w.iter().zip(v) {
-                                t += w * v;
-                            }
-                            *sum += t;
+                        if self.is_summed(s) {
+                            // Σ over the cell's nodes of this block, then added.
+                            add_cell_sums(sums, w, &v[..n], pc);
                         }
                     } else {
                         sums.copy_from_slice(&v[..n]);
@@ -849,8 +903,12 @@ impl<'a> Sampler<'a> {
         data.resize_with(self.entries.len(), Vec::new);
         data.par_iter_mut()
             .zip(self.entries.par_iter())
-            .for_each(|(d, e)| {
+            .enumerate()
+            .for_each(|(k, (d, e))| {
                 d.clear();
+                if !self.is_kept(k) {
+                    return;
+                }
                 d.reserve(cells);
                 for &(line, c) in &runs {
                     let line = &reduced[line * per_line..(line + 1) * per_line];
@@ -863,6 +921,41 @@ impl<'a> Sampler<'a> {
                 }
             });
         Slab { rows, data }
+    }
+}
+
+/// `sums[c] += Σ_j w[c pc + j] v[c pc + j]` for each cell c of `pc` nodes,
+/// the terms added in node order from 0 (the same sum for every `pc`;
+/// the common node counts have loops of their own, unrolled).
+fn add_cell_sums(sums: &mut [f64], w: &[f64], v: &[f64], pc: usize) {
+    fn fixed<const P: usize>(sums: &mut [f64], w: &[f64], v: &[f64]) {
+        for ((sum, w), v) in sums
+            .iter_mut()
+            .zip(w.chunks_exact(P))
+            .zip(v.chunks_exact(P))
+        {
+            let mut t = 0.0;
+            for j in 0..P {
+                t += w[j] * v[j];
+            }
+            *sum += t;
+        }
+    }
+    match pc {
+        1 => fixed::<1>(sums, w, v),
+        2 => fixed::<2>(sums, w, v),
+        3 => fixed::<3>(sums, w, v),
+        4 => fixed::<4>(sums, w, v),
+        5 => fixed::<5>(sums, w, v),
+        _ => {
+            for ((sum, w), v) in sums.iter_mut().zip(w.chunks(pc)).zip(v.chunks(pc)) {
+                let mut t = 0.0;
+                for (w, v) in w.iter().zip(v) {
+                    t += w * v;
+                }
+                *sum += t;
+            }
+        }
     }
 }
 
