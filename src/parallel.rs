@@ -79,123 +79,136 @@ pub fn build(
     if rank != 0 {
         QUIET.store(true, std::sync::atomic::Ordering::Relaxed);
     }
-    // Checks on rank 0 (the file system is shared): no overwrite without
-    // --force, room for the output and the memory of one rank.
-    let xmf = h5.with_extension("xmf");
-    agree(&world, rank, || {
-        for p in [h5, xmf.as_path()] {
-            if p.exists() && !force {
+    // The whole build; on failure rank 0 prints the error before any rank
+    // returns (a rank that exits first with a failure status makes the
+    // launcher stop the job, and rank 0's message could be lost).
+    let outcome = (|| -> Result<Written, Error> {
+        // Checks on rank 0 (the file system is shared): no overwrite without
+        // --force, room for the output and the memory of one rank.
+        let xmf = h5.with_extension("xmf");
+        agree(&world, rank, || {
+            for p in [h5, xmf.as_path()] {
+                if p.exists() && !force {
+                    return Err(Error::Usage(format!(
+                        "{}: the file exists; pass --force to overwrite it",
+                        p.display()
+                    )));
+                }
+            }
+            let dir = crate::estimate::folder_of(h5);
+            if !dir.is_dir() {
                 return Err(Error::Usage(format!(
-                    "{}: the file exists; pass --force to overwrite it",
-                    p.display()
+                    "{}: {}",
+                    h5.display(),
+                    crate::output::missing_folder(&dir)
                 )));
             }
+            let plan = crate::estimate::Plan::new(loaded, opts, rayon::current_num_threads(), None);
+            crate::estimate::refuse_if_too_big(&plan, crate::estimate::resident(), &dir)?;
+            Ok(Vec::new())
+        })?;
+        let built = pipeline::build(loaded, argv, reproducible)?;
+        // Verification once, on rank 0: its cautions and the attributes it
+        // adds (each perturbation alone against the discrete imbalance) go to
+        // every rank, as one JSON text (attributes are written collectively,
+        // so every rank must hold the same).
+        let verified = agree(&world, rank, || {
+            let m = built.verify()?;
+            Ok(vec![
+                serde_json::json!({ "cautions": m.cautions, "extra": m.extra }).to_string(),
+            ])
+        })?;
+        let mut meta = built.metadata.clone();
+        let v: serde_json::Value = verified
+            .first()
+            .and_then(|t| serde_json::from_str(t).ok())
+            .unwrap_or_default();
+        meta.cautions = v["cautions"]
+            .as_array()
+            .map(|a| {
+                a.iter()
+                    .filter_map(|c| c.as_str().map(str::to_string))
+                    .collect()
+            })
+            .unwrap_or_default();
+        meta.extra = v["extra"]
+            .as_array()
+            .map(|a| {
+                a.iter()
+                    .filter_map(|p| Some((p[0].as_str()?.to_string(), p[1].as_str()?.to_string())))
+                    .collect()
+            })
+            .unwrap_or_else(|| meta.extra.clone());
+        let created = agree(&world, rank, || Ok(vec![crate::output::utc_now()]))?;
+        let temp = temp_name(&world, rank, h5)?;
+        if rank == 0 {
+            crate::output::partial::remove_stale(h5);
         }
-        let dir = crate::estimate::folder_of(h5);
-        if !dir.is_dir() {
-            return Err(Error::Usage(format!(
-                "{}: {}",
-                h5.display(),
-                crate::output::missing_folder(&dir)
-            )));
-        }
-        let plan = crate::estimate::Plan::new(loaded, opts, rayon::current_num_threads(), None);
-        crate::estimate::refuse_if_too_big(&plan, crate::estimate::resident(), &dir)?;
-        Ok(Vec::new())
-    })?;
-    let built = pipeline::build(loaded, argv, reproducible)?;
-    // Verification once, on rank 0: its cautions and the attributes it
-    // adds (each perturbation alone against the discrete imbalance) go to
-    // every rank, as one JSON text (attributes are written collectively,
-    // so every rank must hold the same).
-    let verified = agree(&world, rank, || {
-        let m = built.verify()?;
-        Ok(vec![
-            serde_json::json!({ "cautions": m.cautions, "extra": m.extra }).to_string(),
-        ])
-    })?;
-    let mut meta = built.metadata.clone();
-    let v: serde_json::Value = verified
-        .first()
-        .and_then(|t| serde_json::from_str(t).ok())
-        .unwrap_or_default();
-    meta.cautions = v["cautions"]
-        .as_array()
-        .map(|a| {
-            a.iter()
-                .filter_map(|c| c.as_str().map(str::to_string))
-                .collect()
-        })
-        .unwrap_or_default();
-    meta.extra = v["extra"]
-        .as_array()
-        .map(|a| {
-            a.iter()
-                .filter_map(|p| Some((p[0].as_str()?.to_string(), p[1].as_str()?.to_string())))
-                .collect()
-        })
-        .unwrap_or_else(|| meta.extra.clone());
-    let created = agree(&world, rank, || Ok(vec![crate::output::utc_now()]))?;
-    let temp = temp_name(&world, rank, h5)?;
-    if rank == 0 {
-        crate::output::partial::remove_stale(h5);
-    }
-    let _pending = crate::output::partial::register(&temp);
-    let result = write(
-        &world, rank, ranks, &built, loaded, &temp, &meta, opts, created,
-    );
-    // Everyone has closed the file (or failed): rank 0 adds the checksums
-    // and commits it; every rank waits for that before it returns.
-    let ok = all_ok(&world, result.is_ok());
-    let mut committed: Result<(), Error> = Ok(());
-    if rank == 0 {
-        if ok {
-            committed = crate::output::checksum::add_to_file(&temp)
-                .and_then(|()| {
-                    crate::output::partial::flush(&temp)
-                        .and_then(|()| std::fs::rename(&temp, h5))
-                        .map_err(|e| crate::output::OutputError::io(h5, e))
-                })
-                .map_err(Error::from);
-            if committed.is_ok() {
-                crate::output::partial::flush_parent(h5);
-                // The XDMF description beside it, as a serial build writes
-                // it (the same text: it depends on the grid and the fields
-                // alone), committed the same way.
-                committed = built.groups().and_then(|groups| {
-                    crate::output::commit(&xmf, force, |tmp| {
-                        crate::output::write_xdmf(
-                            tmp,
-                            h5,
-                            &loaded.grid,
-                            &groups,
-                            opts.precision,
-                            &loaded.model.name,
-                        )
+        let _pending = crate::output::partial::register(&temp);
+        let result = write(
+            &world, rank, ranks, &built, loaded, &temp, &meta, opts, created,
+        );
+        // Everyone has closed the file (or failed): rank 0 adds the checksums
+        // and commits it; every rank waits for that before it returns.
+        let ok = all_ok(&world, result.is_ok());
+        let mut committed: Result<(), Error> = Ok(());
+        if rank == 0 {
+            if ok {
+                committed = crate::output::checksum::add_to_file(&temp)
+                    .and_then(|()| {
+                        crate::output::partial::flush(&temp)
+                            .and_then(|()| std::fs::rename(&temp, h5))
+                            .map_err(|e| crate::output::OutputError::io(h5, e))
                     })
-                    .map_err(Error::from)
-                });
+                    .map_err(Error::from);
+                if committed.is_ok() {
+                    crate::output::partial::flush_parent(h5);
+                    // The XDMF description beside it, as a serial build writes
+                    // it (the same text: it depends on the grid and the fields
+                    // alone), committed the same way.
+                    committed = built.groups().and_then(|groups| {
+                        crate::output::commit(&xmf, force, |tmp| {
+                            crate::output::write_xdmf(
+                                tmp,
+                                h5,
+                                &loaded.grid,
+                                &groups,
+                                opts.precision,
+                                &loaded.model.name,
+                            )
+                        })
+                        .map_err(Error::from)
+                    });
+                }
+            }
+            if !ok || committed.is_err() {
+                let _ = std::fs::remove_file(&temp);
             }
         }
-        if !ok || committed.is_err() {
-            let _ = std::fs::remove_file(&temp);
+        world.barrier();
+        committed?;
+        match (result, ok) {
+            (Err(e), _) => Err(e),
+            (Ok(()), false) => Err(Error::Usage(
+                "another rank failed; nothing was written".into(),
+            )),
+            (Ok(()), true) => Ok((rank == 0).then_some(meta)),
+        }
+    })();
+    if let Err(e) = &outcome {
+        if rank == 0 {
+            eprintln!("error: {e}");
+            QUIET.store(true, std::sync::atomic::Ordering::Relaxed);
         }
     }
     world.barrier();
-    committed?;
-    match (result, ok) {
-        (Err(e), _) => Err(e),
-        (Ok(()), false) => Err(Error::Usage(
-            "another rank failed; nothing was written".into(),
-        )),
-        (Ok(()), true) => Ok((rank == 0).then_some(meta)),
-    }
+    outcome
 }
 
 static QUIET: std::sync::atomic::AtomicBool = std::sync::atomic::AtomicBool::new(false);
 
-/// Whether this process is a rank other than 0 of a parallel build, which
-/// prints nothing (rank 0 speaks for all).
+/// Whether this process prints no error of a parallel build: a rank other
+/// than 0 (rank 0 speaks for all), or rank 0 once it has printed it.
 pub fn quiet() -> bool {
     QUIET.load(std::sync::atomic::Ordering::Relaxed)
 }
@@ -273,6 +286,7 @@ fn write(
     // sampler's slabs as a serial build cuts them.
     let groups = built.groups()?;
     let split = built.split(&sampler)?;
+    let sampler = sampler.keeping(split.keep());
     let forcing = built.forcing_sampler()?;
     let mut peaks = crate::perturb::report::Peaks::new(loaded.model.gamma);
     let parallel = Parallel {
