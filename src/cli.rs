@@ -477,7 +477,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                     }
                 }
             }
-            match pipeline::drift_forecast(&loaded, &bg, &domain, amplitude, &alone) {
+            match pipeline::drift_forecast(&loaded, &bg, &domain, amplitude, &alone, false) {
                 Ok(d) => {
                     say!("{d}");
                     more.extend(pipeline::drift_caution(&d));

@@ -224,12 +224,15 @@ pub fn perturbations_alone(loaded: &Loaded, bg: &dyn Background) -> Vec<Result<A
 /// The drift forecast of the background on the profile's grid and rule
 /// (see [`crate::drift`]), against `amplitude` when given, else against the
 /// largest peak of the profile's perturbations (each sampled alone).
+/// `in_build`: the forecast a build records, bounded to a small part of the
+/// build's cost on a plane or box.
 pub fn drift_forecast(
     loaded: &Loaded,
     bg: &dyn Background,
     domain: &Domain,
     amplitude: Option<f64>,
     alone: &[Alone],
+    in_build: bool,
 ) -> Result<crate::drift::Drift, crate::drift::DriftError> {
     let cuts = Cuts {
         coordinate: loaded.model.shape.coordinate().to_string(),
@@ -261,6 +264,7 @@ pub fn drift_forecast(
         gas: gas_constants(loaded),
         cuts: &cuts,
         forcing: forcing.as_ref().map(|f| f as &dyn Background),
+        in_build,
     };
     crate::drift::forecast(&inputs, amplitude)
 }
@@ -567,7 +571,7 @@ impl Built<'_> {
             alone_list = alone;
         }
         if let Solution::Closure { background, domain } = &self.solution {
-            let d = drift_forecast(loaded, background.as_ref(), domain, None, &alone_list);
+            let d = drift_forecast(loaded, background.as_ref(), domain, None, &alone_list, true);
             let record = match d {
                 Ok(d) => {
                     meta.cautions.extend(drift_caution(&d));

@@ -444,3 +444,42 @@ fn issue8_plane_drift_forecast_is_recorded_in_the_file() {
         .unwrap()
         .starts_with("finite volume"));
 }
+
+/// The forecast a build records on a plane costs a small part of the build:
+/// at most an eighth of the plane's cells per refinement level (here 256 x
+/// 256 cells: a block of 22 x 22, refined to 88 x 88 = 7744 cells), at the
+/// centre, and the file says that `check` evaluates the whole grid, which
+/// `check` does. (The bound is this project's choice: a 2D build took twice
+/// as long when its forecast sampled the whole plane again.)
+#[test]
+fn issue11_a_builds_forecast_is_bounded_to_a_part_of_the_build() {
+    let d = tempfile::tempdir().unwrap();
+    let file = on_grid(
+        d.path(),
+        "tapered-disk-cartesian",
+        "wide",
+        serde_json::json!({"x": {"from": 1.0, "to": 1.6, "cells": 256},
+                           "y": {"from": 0.1, "to": 0.6, "cells": 256}}),
+    );
+    let o = stillpoint(d.path(), &["build", &file, "-o", "wide.h5"]);
+    assert!(o.status.success(), "{}", text(&o));
+    let f = hdf5::File::open(d.path().join("wide.h5")).unwrap();
+    let s: hdf5::types::VarLenUnicode = f.attr("drift_forecast").unwrap().read_scalar().unwrap();
+    let v: serde_json::Value = serde_json::from_str(s.as_str()).unwrap();
+    let fv = &v["schemes"][0];
+    let evaluated = fv["evaluated"].as_str().unwrap();
+    assert!(evaluated.contains("a block of 22 x 22"), "{v}");
+    assert!(evaluated.contains("`stillpoint check` evaluates the whole grid"), "{v}");
+    let cells: Vec<u64> = fv["levels"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|l| l["cells"].as_u64().unwrap())
+        .collect();
+    assert_eq!(cells, [22 * 22, 44 * 44, 88 * 88], "{v}");
+    assert!(cells.iter().all(|c| *c as usize <= 256 * 256 / 8));
+    let o = stillpoint(d.path(), &["check", &file]);
+    let out = text(&o);
+    assert!(out.contains("whole grid at its resolution:"), "{out}");
+    assert!(out.contains("refined on a block of 64 x 64"), "{out}");
+}

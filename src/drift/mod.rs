@@ -140,6 +140,10 @@ pub struct Inputs<'a> {
     /// The manufactured forcing of an audit (its velocity is the force
     /// density, see [`crate::forcing`]), added to both schemes as a source.
     pub forcing: Option<&'a dyn Background>,
+    /// Whether the forecast is part of a build, which bounds its cost on a
+    /// plane or box to a fraction of the build's own (see [`multi`]);
+    /// `check` evaluates up to the larger limits.
+    pub in_build: bool,
 }
 
 /// The line the forecast runs on: its geometry, coordinate and the grid

@@ -15,7 +15,11 @@
 //! at most [`REFINED_CELLS`] cells; otherwise on a block of the grid's own
 //! cells around the largest acceleration at the grid's resolution (found
 //! on the whole grid, when it has at most [`WHOLE_CELLS`] cells), and the
-//! output says which block.
+//! output says which block. In a build (the forecast recorded in the
+//! file) both limits are the plane's own cells / 8, within
+//! [`BUILD_CELLS_MIN`] and [`REFINED_CELLS`], so the forecast costs a small
+//! part of the build (it samples the plane again, 21 or 73 times a block);
+//! the block then sits at the centre, and `check` says more.
 //!
 //! Owns: the plane a state is evaluated on, the blocks, the sampling of
 //! the levels. Does not own: the arithmetic (`unsplit`) or the verdict
@@ -31,6 +35,9 @@ use crate::sample::{self, SamplingRule};
 pub const REFINED_CELLS: usize = 1 << 16;
 /// The most cells evaluated at the grid's own resolution.
 pub const WHOLE_CELLS: usize = 1 << 20;
+/// The least of a build's limits (a plane of 32 x 16 cells is still
+/// refined whole).
+pub const BUILD_CELLS_MIN: usize = 1 << 13;
 
 /// The plane (or box) a state is evaluated on: its metric and the grid
 /// axes it keeps.
@@ -274,17 +281,21 @@ pub(super) fn finite_volume(
     } else {
         format!("the grid {plane}")
     };
-    let (ranges, whole) = if total * growth <= REFINED_CELLS {
+    let (refined_cap, whole_cap) = if inp.in_build {
+        let cap = (total / 8).clamp(BUILD_CELLS_MIN, REFINED_CELLS);
+        (cap, cap)
+    } else {
+        (REFINED_CELLS, WHOLE_CELLS)
+    };
+    let (ranges, whole) = if total * growth <= refined_cap {
         region = format!(
             "{region}, whole ({} cells) at every resolution",
             dims(&shape)
         );
         (full, None)
     } else {
-        let side = ((REFINED_CELLS / growth) as f64)
-            .powf(1.0 / d as f64)
-            .floor() as usize;
-        let (centre, whole) = if total <= WHOLE_CELLS {
+        let side = ((refined_cap / growth) as f64).powf(1.0 / d as f64).floor() as usize;
+        let (centre, whole) = if total <= whole_cap {
             let e = evaluate(inp, plan, grid_of(&full, 1)?, rule)?;
             let (l, at) = level(&e, plan.metric, rotating, 1);
             let mut idx = vec![0; d];
@@ -321,6 +332,10 @@ pub(super) fn finite_volume(
             if whole.is_some() {
                 "around the largest acceleration at the grid's resolution, which is taken \
                  over the whole grid"
+            } else if inp.in_build && total <= WHOLE_CELLS {
+                "at the centre (a build bounds the forecast to a small part of its own cost: \
+                 the drift at the grid's resolution is that of the block; `stillpoint check` \
+                 evaluates the whole grid)"
             } else {
                 "at the centre (the grid is too large to evaluate whole: the drift at its \
                  resolution is that of the block)"
