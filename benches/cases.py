@@ -93,6 +93,13 @@ CASES = [
             additions={"output.fields": list(BOX_FIELDS)},
         ),
         competitors=[Competitor("numpy", "benches/numpy_disk_box.py")],
+        # The density law's cavity factor 1 − exp(−(R/R_cav)⁴) cancels near
+        # the axis ((R/R_cav)⁴ ~ 1e-6 in the central cells): both programs
+        # lose about six digits there, and at cell (95, 95, 48) stillpoint's
+        # average is 1.2e-12 below and NumPy's 1.7e-12 above the same
+        # 3-point rule in 40-digit mpmath (checked by hand, 2026-12-04). The
+        # two agree to 3e-12, so the check is at 1e-11 for this case.
+        rtol=1e-11,
         targets=[
             Faster("stillpoint-2t", than="numpy", factor=5),
             Faster("stillpoint-2t", than="stillpoint-1t", factor=1.7),
