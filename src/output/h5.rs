@@ -302,21 +302,27 @@ impl H5Stream {
     /// Write one slab of the written group `group` (by name).
     pub fn write(&mut self, group: &str, slab: &Slab) -> Result<(), OutputError> {
         let err = h5_error(&self.path);
-        let sets = self.sets(group, Some(slab.data.len()))?;
-        for ((spec, ds), data) in sets.iter().zip(&slab.data) {
-            write_rows(ds, spec, slab.rows.clone(), self.n0, data, self.precision).map_err(&err)?;
-        }
-        if let Some(g) = self.groups.iter().position(|(n, _)| n == group) {
-            let (n0, precision) = (self.n0, self.precision);
-            for ((spec, _), (sum, data)) in self.groups[g]
-                .1
-                .iter()
-                .zip(self.sums[g].iter_mut().zip(&slab.data))
-            {
-                sum.rows(spec.placement.rows(slab.rows.clone(), n0), data, precision);
+        self.sets(group, Some(slab.data.len()))?;
+        let g = self
+            .groups
+            .iter()
+            .position(|(n, _)| n == group)
+            .expect("sets found the group");
+        let (n0, precision) = (self.n0, self.precision);
+        let (sets, sums) = (&self.groups[g].1, &mut self.sums[g]);
+        // The checksums are computed on a thread of their own while this
+        // one writes (the HDF5 library is used from one thread at a time).
+        std::thread::scope(|scope| {
+            scope.spawn(|| {
+                for ((spec, _), (sum, data)) in sets.iter().zip(sums.iter_mut().zip(&slab.data)) {
+                    sum.rows(spec.placement.rows(slab.rows.clone(), n0), data, precision);
+                }
+            });
+            for ((spec, ds), data) in sets.iter().zip(&slab.data) {
+                write_rows(ds, spec, slab.rows.clone(), n0, data, precision).map_err(&err)?;
             }
-        }
-        Ok(())
+            Ok(())
+        })
     }
 
     /// Write one round of a parallel file: this rank's slab of the written

@@ -92,27 +92,69 @@ pub fn cartesian(names: &[&str], values: &[f64]) -> [f64; 3] {
 }
 
 /// The node positions of the nodes whose first index lies in `rows` (of
-/// the first axis's edges), C-ordered: the x, y and z arrays.
+/// the first axis's edges), C-ordered: the x, y and z arrays. The same
+/// values as [`cartesian`] at every node (the same operations), with the
+/// sines and cosines of θ and φ taken once per edge.
 pub fn node_rows(grid: &Grid, rows: Range<usize>) -> [Vec<f64>; 3] {
-    let names: Vec<&str> = grid.axes().iter().map(|a| a.coord.name()).collect();
+    let axes = grid.axes();
+    let names: Vec<&str> = axes.iter().map(|a| a.coord.name()).collect();
     let shape = node_shape(grid);
     let inner: usize = shape[1..].iter().product();
     let mut out: [Vec<f64>; 3] = Default::default();
     for v in &mut out {
         v.reserve(rows.len() * inner);
     }
+    let pos = |n: &str| names.iter().position(|m| *m == n);
+    let edges = |a: usize| &axes[a].edges;
+    let trig = |n: &str| {
+        pos(n).map(|a| {
+            let e = edges(a);
+            (
+                e.iter().map(|t| t.sin()).collect::<Vec<_>>(),
+                e.iter().map(|t| t.cos()).collect::<Vec<_>>(),
+            )
+        })
+    };
+    let separate = pos("x").is_none() && pos("y").is_none();
+    let (theta, phi) = if separate {
+        (trig("theta"), trig("phi"))
+    } else {
+        (None, None)
+    };
+    let mut idx = vec![0usize; shape.len()];
     let mut point = vec![0.0; shape.len()];
     for i0 in rows {
-        for k in 0..inner {
-            point[0] = grid.axes()[0].edges[i0];
-            let mut rest = k;
-            for a in (1..shape.len()).rev() {
-                point[a] = grid.axes()[a].edges[rest % shape[a]];
-                rest /= shape[a];
+        idx[0] = i0;
+        idx[1..].fill(0);
+        for _ in 0..inner {
+            for (a, p) in point.iter_mut().enumerate() {
+                *p = edges(a)[idx[a]];
             }
-            let p = cartesian(&names, &point);
+            let p = if separate {
+                let get = |n: &str| pos(n).map(|a| point[a]);
+                let (cyl, z) = match get("r") {
+                    Some(r) => match (&theta, pos("theta")) {
+                        (Some((sin, cos)), Some(a)) => (r * sin[idx[a]], r * cos[idx[a]]),
+                        _ => (r, 0.0),
+                    },
+                    None => (get("R").unwrap_or(0.0), get("z").unwrap_or(0.0)),
+                };
+                match (&phi, pos("phi")) {
+                    (Some((sin, cos)), Some(a)) => [cyl * cos[idx[a]], cyl * sin[idx[a]], z],
+                    _ => [cyl, 0.0, z],
+                }
+            } else {
+                cartesian(&names, &point)
+            };
             for (v, c) in out.iter_mut().zip(p) {
                 v.push(c);
+            }
+            for a in (1..shape.len()).rev() {
+                idx[a] += 1;
+                if idx[a] < shape[a] {
+                    break;
+                }
+                idx[a] = 0;
             }
         }
     }
