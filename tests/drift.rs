@@ -469,7 +469,10 @@ fn issue11_a_builds_forecast_is_bounded_to_a_part_of_the_build() {
     let fv = &v["schemes"][0];
     let evaluated = fv["evaluated"].as_str().unwrap();
     assert!(evaluated.contains("a block of 22 x 22"), "{v}");
-    assert!(evaluated.contains("`stillpoint check` evaluates the whole grid"), "{v}");
+    assert!(
+        evaluated.contains("`stillpoint check` evaluates the whole grid"),
+        "{v}"
+    );
     let cells: Vec<u64> = fv["levels"]
         .as_array()
         .unwrap()

@@ -121,6 +121,8 @@ pub fn node_rows(grid: &Grid, rows: Range<usize>) -> [Vec<f64>; 3] {
     } else {
         (None, None)
     };
+    let (at_r, at_theta, at_phi) = (pos("r"), pos("theta"), pos("phi"));
+    let (at_cyl, at_z) = (pos("R"), pos("z"));
     let mut idx = vec![0usize; shape.len()];
     let mut point = vec![0.0; shape.len()];
     for i0 in rows {
@@ -131,15 +133,15 @@ pub fn node_rows(grid: &Grid, rows: Range<usize>) -> [Vec<f64>; 3] {
                 *p = edges(a)[idx[a]];
             }
             let p = if separate {
-                let get = |n: &str| pos(n).map(|a| point[a]);
-                let (cyl, z) = match get("r") {
-                    Some(r) => match (&theta, pos("theta")) {
+                let get = |a: Option<usize>| a.map(|a| point[a]);
+                let (cyl, z) = match get(at_r) {
+                    Some(r) => match (&theta, at_theta) {
                         (Some((sin, cos)), Some(a)) => (r * sin[idx[a]], r * cos[idx[a]]),
                         _ => (r, 0.0),
                     },
-                    None => (get("R").unwrap_or(0.0), get("z").unwrap_or(0.0)),
+                    None => (get(at_cyl).unwrap_or(0.0), get(at_z).unwrap_or(0.0)),
                 };
-                match (&phi, pos("phi")) {
+                match (&phi, at_phi) {
                     (Some((sin, cos)), Some(a)) => [cyl * cos[idx[a]], cyl * sin[idx[a]], z],
                     _ => [cyl, 0.0, z],
                 }
