@@ -444,7 +444,7 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
         } => {
             let loaded = common.load()?;
             if loaded.model.torus.is_some() {
-                return check_torus(&loaded, tolerance);
+                return check_torus(&loaded, tolerance, amplitude);
             }
             let (bg, domain) = pipeline::solve_unverified(&loaded)?;
             let centres = pipeline::centres_for(&loaded.grid, loaded.model.shape.frame());
@@ -1000,12 +1000,13 @@ fn print_estimate(
 }
 
 /// `check` of a torus: its edges, balance inside and floor.
-fn check_torus(loaded: &Loaded, tolerance: f64) -> Result<Outcome, Error> {
+fn check_torus(loaded: &Loaded, tolerance: f64, amplitude: Option<f64>) -> Result<Outcome, Error> {
     let t = crate::torus_run::torus(loaded)?;
     let v = crate::torus_run::verdict(loaded, &t, tolerance)?;
     say!("{} ({})", loaded.model.name, loaded.source);
     say!("{}", v.text);
     let mut more = Vec::new();
+    let mut alone = Vec::new();
     if !loaded.perturbations.is_empty() {
         // No discrete imbalance is computed for a torus: the peaks alone.
         say!("perturbations (each alone at the cell centres; peak relative to the background)");
@@ -1018,10 +1019,18 @@ fn check_torus(loaded: &Loaded, tolerance: f64) -> Result<Outcome, Error> {
                     if loaded.output.precision == output::Precision::Single {
                         more.extend(a.single_precision_caution());
                     }
+                    alone.push(a);
                 }
                 Err(e) => say!("  cannot be sampled alone: {e}"),
             }
         }
+    }
+    match pipeline::torus_drift_forecast(loaded, &t, amplitude, &alone, false, None) {
+        Ok(d) => {
+            say!("{d}");
+            more.extend(pipeline::drift_caution(&d));
+        }
+        Err(e) => say!("drift forecast\n  not evaluated: {e}"),
     }
     for c in v.cautions.iter().chain(&more) {
         say!("caution: {c}");

@@ -234,13 +234,88 @@ pub fn drift_forecast(
     alone: &[Alone],
     in_build: bool,
 ) -> Result<crate::drift::Drift, crate::drift::DriftError> {
+    let at = domain
+        .switches(&loaded.model)
+        .iter()
+        .map(|w| w.at)
+        .collect();
+    forecast_with(
+        loaded,
+        bg,
+        at,
+        &loaded.sampling,
+        amplitude,
+        alone,
+        in_build,
+        None,
+    )
+}
+
+/// The drift forecast of a torus (see [`drift_forecast`]): cells whose
+/// stencil reaches the floor are left out. Cell averages to a tolerance
+/// are taken at the points the file's grid resolves them to (`resolved`,
+/// else resolved here): the torus's surface is a kink no switch point
+/// marks, and resolving it again on every refined grid is slow.
+pub fn torus_drift_forecast(
+    loaded: &Loaded,
+    torus: &crate::torus::Torus,
+    amplitude: Option<f64>,
+    alone: &[Alone],
+    in_build: bool,
+    resolved: Option<usize>,
+) -> Result<crate::drift::Drift, crate::drift::DriftError> {
+    let outside = |r: f64, z: f64| torus.floored(r, z);
+    let rule = match loaded.sampling {
+        SamplingRule::AverageTo { tolerance, start } => SamplingRule::Average {
+            points: match resolved {
+                Some(p) => p,
+                None => {
+                    let cuts = Cuts {
+                        coordinate: loaded.model.shape.coordinate().to_string(),
+                        at: Vec::new(),
+                    };
+                    let gas = gas_constants(loaded);
+                    sample::resolve_tolerance_with(
+                        torus,
+                        &loaded.grid,
+                        tolerance,
+                        start,
+                        &gas,
+                        &cuts,
+                        None,
+                    )?
+                    .points
+                }
+            },
+        },
+        rule => rule,
+    };
+    forecast_with(
+        loaded,
+        torus,
+        Vec::new(),
+        &rule,
+        amplitude,
+        alone,
+        in_build,
+        Some(&outside),
+    )
+}
+
+#[allow(clippy::too_many_arguments)]
+fn forecast_with(
+    loaded: &Loaded,
+    bg: &dyn Background,
+    switches: Vec<f64>,
+    rule: &SamplingRule,
+    amplitude: Option<f64>,
+    alone: &[Alone],
+    in_build: bool,
+    outside: Option<&(dyn Fn(f64, f64) -> bool + Sync)>,
+) -> Result<crate::drift::Drift, crate::drift::DriftError> {
     let cuts = Cuts {
         coordinate: loaded.model.shape.coordinate().to_string(),
-        at: domain
-            .switches(&loaded.model)
-            .iter()
-            .map(|w| w.at)
-            .collect(),
+        at: switches,
     };
     let amplitude = match amplitude {
         Some(a) => Some((a, "--amplitude".to_string())),
@@ -260,11 +335,12 @@ pub fn drift_forecast(
         model: &loaded.model,
         bg,
         grid: &loaded.grid,
-        rule: &loaded.sampling,
+        rule,
         gas: gas_constants(loaded),
         cuts: &cuts,
         forcing: forcing.as_ref().map(|f| f as &dyn Background),
         in_build,
+        outside,
     };
     crate::drift::forecast(&inputs, amplitude)
 }
@@ -570,8 +646,19 @@ impl Built<'_> {
                 .push(("perturbations_alone".into(), alone_json(&alone, discrete)));
             alone_list = alone;
         }
-        if let Solution::Closure { background, domain } = &self.solution {
-            let d = drift_forecast(loaded, background.as_ref(), domain, None, &alone_list, true);
+        let d = match &self.solution {
+            Solution::Closure { background, domain } => {
+                drift_forecast(loaded, background.as_ref(), domain, None, &alone_list, true)
+            }
+            Solution::Torus { torus, .. } => {
+                if matches!(loaded.sampling, SamplingRule::AverageTo { .. }) {
+                    self.background_sampler()?;
+                }
+                let points = self.resolved.get().map(|r| r.points);
+                torus_drift_forecast(loaded, torus, None, &alone_list, true, points)
+            }
+        };
+        {
             let record = match d {
                 Ok(d) => {
                     meta.cautions.extend(drift_caution(&d));

@@ -477,3 +477,59 @@ fn issue7_torus_on_every_geometry_matches_papaloizou_pringle_1984() {
         );
     }
 }
+
+/// The drift forecast of a torus (issue 8, item 4) leaves out the cells
+/// whose stencil reaches the floor, where balance is given up: every
+/// largest acceleration lies inside the torus, between the edges of the
+/// Papaloizou & Pringle 1984 solution (§2, from memory: with ℓ² = GM R0 the
+/// midplane edges are d ± √(d² − d) in units of R0, d fixed by the inner
+/// edge), and is that of the torus (the floor, at rest under gravity alone,
+/// would give GM/R² ~ 10³ near the star). A build records the same.
+#[test]
+fn issue8_torus_drift_forecast_leaves_the_floor_out() {
+    let d = tempfile::tempdir().unwrap();
+    // The bundled thick torus: R0 = 1, inner edge 0.62, cells of 0.025.
+    let r_in: f64 = 0.62;
+    let dd = r_in * r_in / (2.0 * r_in - 1.0);
+    let r_out = dd + (dd * dd - dd).sqrt();
+    assert!((dd - (dd * dd - dd).sqrt() - r_in).abs() < 1e-12);
+    let o = run(d.path(), &["check", "thick-torus"]);
+    let out = String::from_utf8_lossy(&o.stdout).to_string();
+    assert!(o.status.success(), "{out}");
+    assert!(out.contains("unsplit over [x, y]"), "{out}");
+    assert!(out.contains("outside the torus are left out"), "{out}");
+    let mut seen = 0;
+    for line in out.lines().filter(|l| l.contains("max acceleration")) {
+        let a: f64 = line
+            .split("max acceleration ")
+            .nth(1)
+            .and_then(|r| r.split_whitespace().next())
+            .unwrap()
+            .parse()
+            .unwrap();
+        let xy: Vec<f64> = line
+            .split("= (")
+            .nth(1)
+            .and_then(|r| r.split(')').next())
+            .unwrap()
+            .split(", ")
+            .map(|v| v.parse().unwrap())
+            .collect();
+        let r = xy[0].hypot(xy[1]);
+        assert!(r > r_in + 0.025 / 4.0 && r < r_out - 0.025 / 4.0, "{line}");
+        assert!(a > 0.0 && a < 1.0, "{line}");
+        seen += 1;
+    }
+    assert_eq!(seen, 4, "{out}");
+    let o = run(d.path(), &["build", "thick-torus", "-o", "t.h5"]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let f = hdf5::File::open(d.path().join("t.h5")).unwrap();
+    let s: hdf5::types::VarLenUnicode = f.attr("drift_forecast").unwrap().read_scalar().unwrap();
+    let v: serde_json::Value = serde_json::from_str(s.as_str()).unwrap();
+    assert!(v["notes"].to_string().contains("outside the torus"), "{v}");
+    assert_eq!(
+        v["schemes"][0]["levels"].as_array().unwrap().len(),
+        3,
+        "{v}"
+    );
+}

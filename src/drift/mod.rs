@@ -26,6 +26,7 @@
 //! arithmetic (`schemes`), sampling, or the balance verdict (`check`).
 
 mod multi;
+mod outside;
 pub mod schemes;
 pub mod unsplit;
 
@@ -144,6 +145,9 @@ pub struct Inputs<'a> {
     /// plane or box to a fraction of the build's own (see [`multi`]);
     /// `check` evaluates up to the larger limits.
     pub in_build: bool,
+    /// Where the state is no equilibrium, by meridional position (R, z):
+    /// a torus's floor. Cells whose stencil reaches it are left out.
+    pub outside: Option<&'a (dyn Fn(f64, f64) -> bool + Sync)>,
 }
 
 /// The line the forecast runs on: its geometry, coordinate and the grid
@@ -244,7 +248,15 @@ fn primitives(set: &crate::fields::FieldSet, coord: Coord) -> Primitives {
 
 /// The largest acceleration and drift over the points `xs` (NaN entries are
 /// the cells the scheme leaves out).
-fn level(cells: usize, xs: &[f64], acc: &[f64], v: &Primitives, g: &[f64], disk: bool) -> Level {
+fn level(
+    cells: usize,
+    xs: &[f64],
+    acc: &[f64],
+    v: &Primitives,
+    g: &[f64],
+    disk: bool,
+    skip: &[bool],
+) -> Level {
     let mut l = Level {
         cells,
         acceleration: 0.0,
@@ -254,6 +266,9 @@ fn level(cells: usize, xs: &[f64], acc: &[f64], v: &Primitives, g: &[f64], disk:
         velocity: 0.0,
     };
     for i in 0..xs.len() {
+        if skip.get(i).copied().unwrap_or(false) {
+            continue;
+        }
         let a = acc[i].abs();
         if acc[i].is_nan() && !v.rho[i].is_nan() {
             continue;
@@ -275,6 +290,29 @@ fn level(cells: usize, xs: &[f64], acc: &[f64], v: &Primitives, g: &[f64], disk:
         }
     }
     l
+}
+
+/// The note of a forecast that leaves cells out (see [`outside`]).
+fn outside_note(inp: &Inputs<'_>) -> Option<String> {
+    inp.outside.map(|_| {
+        "cells within two of the floor outside the torus are left out at every resolution \
+         (balance is given up there, so any scheme moves the floor); the largest \
+         acceleration is that of the torus itself, usually beside its surface, where the \
+         density falls to zero with a steepening slope and the order drops"
+            .to_string()
+    })
+}
+
+/// Per point of a line of `grid` with `per_cell` points in each cell,
+/// whether it is left out (see [`outside`]); empty when nothing is.
+fn skip_of(inp: &Inputs<'_>, grid: &Grid, per_cell: usize) -> Vec<bool> {
+    match inp.outside {
+        Some(f) => outside::mask(grid, f)
+            .into_iter()
+            .flat_map(|s| std::iter::repeat_n(s, per_cell))
+            .collect(),
+        None => Vec::new(),
+    }
 }
 
 pub(crate) fn orders(levels: &[Level]) -> Vec<f64> {
@@ -325,7 +363,8 @@ pub fn forecast(inp: &Inputs<'_>, amplitude: Option<(f64, String)>) -> Result<Dr
         let xs = grid.axes()[0].centers();
         let g = sources(inp, &grid, &cell_rule.0, coord, &xs, &v.rho)?;
         let acc = schemes::finite_volume(geom, &grid.axes()[0].edges, &v, &g, gamma);
-        fv.push(level(xs.len(), &xs, &acc, &v, &g, disk));
+        let skip = skip_of(inp, &grid, 1);
+        fv.push(level(xs.len(), &xs, &acc, &v, &g, disk, &skip));
     }
     let finite_volume = Scheme {
         name: "second-order finite volume: MUSCL, monotonised-central slopes (van Leer 1977), \
@@ -377,7 +416,8 @@ pub fn forecast(inp: &Inputs<'_>, amplitude: Option<(f64, String)>) -> Result<Dr
             &v.rho,
         )?;
         let acc = schemes::nodal_dg(geom, e, &rule.nodes, &rule.weights, &v, &g, gamma);
-        Ok(level(e.len() - 1, &xs, &acc, &v, &g, disk))
+        let skip = skip_of(inp, &grid, points);
+        Ok(level(e.len() - 1, &xs, &acc, &v, &g, disk, &skip))
     };
     let dg = match nodal {
         Some((family, points, data)) => {
@@ -421,7 +461,7 @@ pub fn forecast(inp: &Inputs<'_>, amplitude: Option<(f64, String)>) -> Result<Dr
         amplitude,
         by_degree,
         forced: inp.forcing.is_some(),
-        notes: Vec::new(),
+        notes: outside_note(inp).into_iter().collect(),
     })))
 }
 
@@ -455,6 +495,7 @@ fn forecast_plane(
          finite-volume scheme is evaluated"
             .to_string(),
     ];
+    notes.extend(outside_note(inp));
     if finite_volume.orders.iter().any(|o| *o < 1.5) {
         notes.push(
             "the observed order is below 2: the largest acceleration sits where MUSCL is \

@@ -120,6 +120,9 @@ fn gravity(bg: &dyn crate::background::Background, grid: &Grid) -> Vec<Vec<f64>>
 /// One evaluated grid: its cells and the acceleration components.
 struct Evaluated {
     grid: Grid,
+    /// Per cell, whether it is left out (its stencil reaches where the
+    /// state is no equilibrium, see [`super::outside`]).
+    skip: Vec<bool>,
     cells: Cells,
     gravity: Vec<Vec<f64>>,
     acc: Vec<Vec<f64>>,
@@ -164,7 +167,12 @@ fn evaluate(
     }
     let edges: Vec<Vec<f64>> = grid.axes().iter().map(|a| a.edges.clone()).collect();
     let acc = unsplit::finite_volume(plan.metric, &edges, &cells, &g, inp.model.gamma);
+    let skip = match inp.outside {
+        Some(f) => super::outside::mask(&grid, f),
+        None => vec![false; grid.len()],
+    };
     Ok(Evaluated {
+        skip,
         grid,
         cells,
         gravity: g,
@@ -201,6 +209,9 @@ fn level(e: &Evaluated, metric: Metric, rotating: bool, r: usize) -> (Level, Opt
     let mut argmax = None;
     let mut x = vec![0.0; d];
     for c in 0..e.grid.len() {
+        if e.skip[c] {
+            continue;
+        }
         let nan = e.acc.iter().any(|a| a[c].is_nan());
         if nan && !e.cells.rho[c].is_nan() {
             continue;
