@@ -26,6 +26,7 @@
 //! arithmetic (`schemes`), sampling, or the balance verdict (`check`).
 
 mod multi;
+mod nodal;
 mod outside;
 pub mod schemes;
 pub mod unsplit;
@@ -377,18 +378,7 @@ pub fn forecast(inp: &Inputs<'_>, amplitude: Option<(f64, String)>) -> Result<Dr
         region: None,
         shape: Vec::new(),
     };
-    let nodal = match inp.rule {
-        SamplingRule::Nodes { family, points } => {
-            Some((*family, *points, "the node values as the file holds them"))
-        }
-        SamplingRule::Modes { modes, .. } => Some((
-            NodeFamily::Legendre,
-            *modes,
-            "values at Gauss–Legendre nodes of the modes' degree (sampled for the forecast: the \
-             file holds modal coefficients)",
-        )),
-        _ => None,
-    };
+    let nodal = nodal_of(inp.rule);
     let dg_run = |family: NodeFamily, points: usize, e: &[f64]| -> Result<Level, DriftError> {
         let grid = line(e.to_vec())?;
         let rule = family.rule(points).ok_or(DriftError::Rule(points))?;
@@ -482,19 +472,24 @@ fn cell_rule(rule: &SamplingRule) -> (SamplingRule, String) {
 }
 
 /// The forecast of a state that varies in more than one coordinate (see
-/// [`multi`]): finite volume only.
+/// [`multi`]): finite volume, and nodal DG when the file holds DG nodes or
+/// modes, on the same cells.
 fn forecast_plane(
     inp: &Inputs<'_>,
     plan: &multi::Plan,
     amplitude: Option<(f64, String)>,
 ) -> Result<Drift, DriftError> {
     let (rule, data) = cell_rule(inp.rule);
-    let finite_volume = multi::finite_volume(inp, plan, &rule, data)?;
-    let mut notes = vec![
-        "nodal DG is forecast only for states along one coordinate; on this grid only the \
-         finite-volume scheme is evaluated"
-            .to_string(),
-    ];
+    let (finite_volume, ranges) = multi::finite_volume(inp, plan, &rule, data)?;
+    let mut notes = Vec::new();
+    let nodal = nodal_of(inp.rule);
+    if nodal.is_none() {
+        notes.push(
+            "nodal DG is forecast for files of DG nodes or modes: this one holds cell values, \
+             so only the finite-volume scheme is evaluated"
+                .to_string(),
+        );
+    }
     notes.extend(outside_note(inp));
     if finite_volume.orders.iter().any(|o| *o < 1.5) {
         notes.push(
@@ -505,25 +500,62 @@ fn forecast_plane(
                 .to_string(),
         );
     }
-    if matches!(
-        inp.rule,
-        SamplingRule::Nodes { .. } | SamplingRule::Modes { .. }
-    ) {
-        notes.push(
-            "the file holds DG nodes or modes: their drift under a DG scheme is not forecast \
-             here"
-                .to_string(),
-        );
+    let dg = match nodal {
+        Some((family, points, data)) => Some(multi::nodal_dg(
+            inp,
+            plan,
+            &ranges,
+            finite_volume.region.clone(),
+            (family, points, data.to_string()),
+            &REFINEMENTS,
+        )?),
+        None => None,
+    };
+    let mut by_degree = Vec::new();
+    if let Some((eta, _)) = &amplitude {
+        let family = nodal.map_or(NodeFamily::Legendre, |n| n.0);
+        for degree in 1..=6 {
+            let s = multi::nodal_dg(
+                inp,
+                plan,
+                &ranges,
+                None,
+                (family, degree + 1, String::new()),
+                &[1],
+            )?;
+            let drift = s.levels[0].drift;
+            by_degree.push((degree, drift));
+            if drift <= *eta {
+                break;
+            }
+        }
     }
     Ok(Drift::Covered(Box::new(Forecast {
         coordinate: multi::coordinates(inp.grid, plan),
         finite_volume,
-        dg: None,
+        dg,
         amplitude,
-        by_degree: Vec::new(),
+        by_degree,
         forced: inp.forcing.is_some(),
         notes,
     })))
+}
+
+/// The nodes a nodal DG forecast runs on: the file's own, or for modes
+/// Gauss–Legendre nodes of the modes' degree; None for cell values.
+fn nodal_of(rule: &SamplingRule) -> Option<(NodeFamily, usize, &'static str)> {
+    match rule {
+        SamplingRule::Nodes { family, points } => {
+            Some((*family, *points, "the node values as the file holds them"))
+        }
+        SamplingRule::Modes { modes, .. } => Some((
+            NodeFamily::Legendre,
+            *modes,
+            "values at Gauss–Legendre nodes of the modes' degree (sampled for the forecast: the \
+             file holds modal coefficients)",
+        )),
+        _ => None,
+    }
 }
 
 mod text;

@@ -29,6 +29,7 @@ use super::unsplit::{self, Cells, Metric};
 use super::{refine, DriftError, Inputs, Level, Scheme, REFINEMENTS};
 use crate::background::{Frame, StateBlock, Want, LANES};
 use crate::grid::{Axis, Grid, Layout};
+use crate::sample::gauss::NodeFamily;
 use crate::sample::{self, SamplingRule};
 
 /// The most cells the ×4 refinement may have.
@@ -77,12 +78,31 @@ pub(super) fn plan(grid: &Grid, frame: Frame) -> Option<Plan> {
 /// `grid`'s cells (C order), one array per axis.
 fn gravity(bg: &dyn crate::background::Background, grid: &Grid) -> Vec<Vec<f64>> {
     let d = grid.axes().len();
+    let centres: Vec<Vec<f64>> = grid.axes().iter().map(Axis::centers).collect();
+    let shape = grid.shape();
+    let mut pts = vec![Vec::with_capacity(grid.len()); d];
+    for c in 0..grid.len() {
+        let mut rest = c;
+        for a in (0..d).rev() {
+            pts[a].push(centres[a][rest % shape[a]]);
+            rest /= shape[a];
+        }
+    }
+    gravity_at(bg, grid, &pts)
+}
+
+/// The exact gravity components along the grid's axes at the points
+/// `at` (one coordinate array per axis of `grid`).
+fn gravity_at(
+    bg: &dyn crate::background::Background,
+    grid: &Grid,
+    at: &[Vec<f64>],
+) -> Vec<Vec<f64>> {
+    let d = grid.axes().len();
     let embed = grid
         .embedding(bg.frame())
         .expect("the sampler accepted this grid");
-    let centres: Vec<Vec<f64>> = grid.axes().iter().map(Axis::centers).collect();
-    let shape = grid.shape();
-    let n = grid.len();
+    let n = at[0].len();
     let mut out = vec![Vec::with_capacity(n); d];
     let (mut ws, mut block) = (bg.workspace(), StateBlock::new());
     let mut frame: Vec<Vec<f64>> = vec![vec![0.0; LANES]; 3];
@@ -91,12 +111,8 @@ fn gravity(bg: &dyn crate::background::Background, grid: &Grid) -> Vec<Vec<f64>>
     let dims = bg.frame().dims();
     for start in (0..n).step_by(LANES) {
         let m = LANES.min(n - start);
-        let mut rest: Vec<usize> = (start..start + m).collect();
-        for a in (0..d).rev() {
-            for (p, r) in pts[a].iter_mut().zip(rest.iter_mut()) {
-                *p = centres[a][*r % shape[a]];
-                *r /= shape[a];
-            }
+        for a in 0..d {
+            pts[a][..m].copy_from_slice(&at[a][start..start + m]);
         }
         let g: Vec<&[f64]> = pts.iter().map(|v| &v[..m]).collect();
         embed.to_frame(&g, m, &mut frame);
@@ -117,6 +133,58 @@ fn gravity(bg: &dyn crate::background::Background, grid: &Grid) -> Vec<Vec<f64>>
     out
 }
 
+/// The state of `grid` sampled under `rule`: ρ, the velocity components
+/// along its axes, v_φ on a meridional plane, P.
+fn sampled(
+    inp: &Inputs<'_>,
+    plan: &Plan,
+    grid: &Grid,
+    rule: &SamplingRule,
+) -> Result<Cells, DriftError> {
+    let set = sample::sample_with_cuts(inp.bg, grid, rule, &inp.gas, inp.cuts)?;
+    let get = |name: &str| set.get(name).map(|f| f.data.clone());
+    let rho = get("density").unwrap_or_default();
+    let n = rho.len();
+    let v: Vec<Vec<f64>> = grid
+        .axes()
+        .iter()
+        .map(|a| get(&format!("velocity_{}", a.coord.name())).unwrap_or_else(|| vec![0.0; n]))
+        .collect();
+    let w = match plan.metric {
+        Metric::Cartesian => vec![0.0; n],
+        _ => get("velocity_phi").unwrap_or_else(|| vec![0.0; n]),
+    };
+    Ok(Cells {
+        shape: grid.shape(),
+        p: get("pressure").unwrap_or_default(),
+        rho,
+        v,
+        w,
+    })
+}
+
+/// An audit's manufactured forcing (its velocity is the force density),
+/// sampled under `rule`, added to the gravity components `g` as f/ρ.
+fn add_forcing(
+    inp: &Inputs<'_>,
+    grid: &Grid,
+    rule: &SamplingRule,
+    rho: &[f64],
+    g: &mut [Vec<f64>],
+) -> Result<(), DriftError> {
+    if let Some(f) = inp.forcing {
+        let fs = sample::sample_with_cuts(f, grid, rule, &inp.gas, inp.cuts)?;
+        for (a, ga) in grid.axes().iter().zip(g.iter_mut()) {
+            if let Some(field) = fs.get(&format!("velocity_{}", a.coord.name())) {
+                for ((g, f), r) in ga.iter_mut().zip(&field.data).zip(rho) {
+                    *g += f / r;
+                }
+            }
+        }
+    }
+    Ok(())
+}
+
 /// One evaluated grid: its cells and the acceleration components.
 struct Evaluated {
     grid: Grid,
@@ -134,37 +202,9 @@ fn evaluate(
     grid: Grid,
     rule: &SamplingRule,
 ) -> Result<Evaluated, DriftError> {
-    let set = sample::sample_with_cuts(inp.bg, &grid, rule, &inp.gas, inp.cuts)?;
-    let get = |name: &str| set.get(name).map(|f| f.data.clone());
-    let rho = get("density").unwrap_or_default();
-    let n = rho.len();
-    let v: Vec<Vec<f64>> = grid
-        .axes()
-        .iter()
-        .map(|a| get(&format!("velocity_{}", a.coord.name())).unwrap_or_else(|| vec![0.0; n]))
-        .collect();
-    let w = match plan.metric {
-        Metric::Cartesian => vec![0.0; n],
-        _ => get("velocity_phi").unwrap_or_else(|| vec![0.0; n]),
-    };
-    let cells = Cells {
-        shape: grid.shape(),
-        p: get("pressure").unwrap_or_default(),
-        rho,
-        v,
-        w,
-    };
+    let cells = sampled(inp, plan, &grid, rule)?;
     let mut g = gravity(inp.bg, &grid);
-    if let Some(f) = inp.forcing {
-        let fs = sample::sample_with_cuts(f, &grid, rule, &inp.gas, inp.cuts)?;
-        for (a, ga) in grid.axes().iter().zip(g.iter_mut()) {
-            if let Some(field) = fs.get(&format!("velocity_{}", a.coord.name())) {
-                for ((g, f), r) in ga.iter_mut().zip(&field.data).zip(&cells.rho) {
-                    *g += f / r;
-                }
-            }
-        }
-    }
+    add_forcing(inp, &grid, rule, &cells.rho, &mut g)?;
     let edges: Vec<Vec<f64>> = grid.axes().iter().map(|a| a.edges.clone()).collect();
     let acc = unsplit::finite_volume(plan.metric, &edges, &cells, &g, inp.model.gamma);
     let skip = match inp.outside {
@@ -227,27 +267,7 @@ fn level(e: &Evaluated, metric: Metric, rotating: bool, r: usize) -> (Level, Opt
         if margin {
             continue;
         }
-        let norm = |v: &[Vec<f64>]| v.iter().map(|a| a[c] * a[c]).sum::<f64>().sqrt();
-        let a = norm(&e.acc);
-        let (rho, p) = (e.cells.rho[c], e.cells.p[c]);
-        let cs = (p / rho).sqrt();
-        let speed = (norm(&e.cells.v).powi(2) + e.cells.w[c].powi(2)).sqrt();
-        let t = if rotating && speed > 0.0 {
-            cylindrical_radius(metric, &x) / speed
-        } else {
-            cs / norm(&e.gravity)
-        };
-        if a > l.acceleration || a.is_nan() {
-            l.acceleration = a;
-            l.at = x[0];
-            l.point = x.clone();
-            argmax = Some(c);
-        }
-        let drift = a * t / cs;
-        if drift.is_finite() && drift > l.drift {
-            l.drift = drift;
-            l.velocity = a * t;
-        }
+        consider(&mut l, &mut argmax, c, &x, e, metric, rotating);
     }
     (l, argmax)
 }
@@ -267,7 +287,7 @@ pub(super) fn finite_volume(
     plan: &Plan,
     rule: &SamplingRule,
     data: String,
-) -> Result<Scheme, DriftError> {
+) -> Result<(Scheme, Vec<(usize, usize)>), DriftError> {
     let axes: Vec<&Axis> = plan.axes.iter().map(|&a| &inp.grid.axes()[a]).collect();
     let names: Vec<&str> = axes.iter().map(|a| a.coord.name()).collect();
     let shape: Vec<usize> = axes.iter().map(|a| a.cells()).collect();
@@ -359,7 +379,7 @@ pub(super) fn finite_volume(
         let e = evaluate(inp, plan, grid_of(&ranges, r)?, rule)?;
         levels.push(level(&e, plan.metric, rotating, r).0);
     }
-    Ok(Scheme {
+    let scheme = Scheme {
         name: format!(
             "second-order finite volume, unsplit over {plane}: MUSCL, monotonised-central \
              slopes (van Leer 1977), local Lax-Friedrichs (Rusanov) flux (Toro 2009, ch. 10)"
@@ -373,6 +393,194 @@ pub(super) fn finite_volume(
             .iter()
             .zip(&shape)
             .map(|(c, n)| (c.to_string(), *n))
+            .collect(),
+    };
+    Ok((scheme, ranges))
+}
+
+/// Point `c` of `e` (a cell or a node) at position `x` into the largest
+/// acceleration and drift of `l`.
+fn consider(
+    l: &mut Level,
+    argmax: &mut Option<usize>,
+    c: usize,
+    x: &[f64],
+    e: &Evaluated,
+    metric: Metric,
+    rotating: bool,
+) {
+    let norm = |v: &[Vec<f64>]| v.iter().map(|a| a[c] * a[c]).sum::<f64>().sqrt();
+    let a = norm(&e.acc);
+    let (rho, p) = (e.cells.rho[c], e.cells.p[c]);
+    let cs = (p / rho).sqrt();
+    let speed = (norm(&e.cells.v).powi(2) + e.cells.w[c].powi(2)).sqrt();
+    let t = if rotating && speed > 0.0 {
+        cylindrical_radius(metric, x) / speed
+    } else {
+        cs / norm(&e.gravity)
+    };
+    if a > l.acceleration || a.is_nan() {
+        l.acceleration = a;
+        l.at = x[0];
+        l.point = x.to_vec();
+        *argmax = Some(c);
+    }
+    let drift = a * t / cs;
+    if drift.is_finite() && drift > l.drift {
+        l.drift = drift;
+        l.velocity = a * t;
+    }
+}
+
+/// The nodal DG values of `grid` (`points` nodes of `family` per axis),
+/// their residual and the node positions.
+fn evaluate_nodes(
+    inp: &Inputs<'_>,
+    plan: &Plan,
+    grid: Grid,
+    family: NodeFamily,
+    points: usize,
+) -> Result<(Evaluated, Vec<Vec<f64>>), DriftError> {
+    let rule = family.rule(points).ok_or(DriftError::Rule(points))?;
+    let nodes = SamplingRule::Nodes { family, points };
+    let cells = sampled(inp, plan, &grid, &nodes)?;
+    let n = cells.rho.len();
+    let d = grid.axes().len();
+    // Node positions: cells in C order, the nodes of each as trailing
+    // indices in C order.
+    let shape = grid.shape();
+    let per = points.pow(d as u32);
+    let mut at = vec![Vec::with_capacity(n); d];
+    for g in 0..n {
+        let (mut cell, mut local) = (g / per, g % per);
+        let mut idx = vec![(0, 0); d];
+        for a in (0..d).rev() {
+            idx[a] = (cell % shape[a], local % points);
+            cell /= shape[a];
+            local /= points;
+        }
+        for (a, (i, k)) in idx.into_iter().enumerate() {
+            let e = &grid.axes()[a].edges;
+            let (m, h) = (0.5 * (e[i] + e[i + 1]), 0.5 * (e[i + 1] - e[i]));
+            at[a].push(m + h * rule.nodes[k]);
+        }
+    }
+    let mut g = gravity_at(inp.bg, &grid, &at);
+    add_forcing(inp, &grid, &nodes, &cells.rho, &mut g)?;
+    let edges: Vec<Vec<f64>> = grid.axes().iter().map(|a| a.edges.clone()).collect();
+    let acc = super::nodal::nodal_dg(
+        plan.metric,
+        &edges,
+        &rule.nodes,
+        &rule.weights,
+        &cells,
+        &g,
+        inp.model.gamma,
+    );
+    let skip = match inp.outside {
+        Some(f) => super::outside::mask(&grid, f)
+            .into_iter()
+            .flat_map(|s| std::iter::repeat_n(s, per))
+            .collect(),
+        None => vec![false; n],
+    };
+    Ok((
+        Evaluated {
+            skip,
+            grid,
+            cells,
+            gravity: g,
+            acc,
+        },
+        at,
+    ))
+}
+
+/// The largest acceleration and drift over the nodes of `e` (positions
+/// `at`), the cells within 2r of an end of an axis left out, as for the
+/// finite-volume levels.
+fn level_nodes(e: &Evaluated, at: &[Vec<f64>], metric: Metric, rotating: bool, r: usize) -> Level {
+    let shape = e.grid.shape();
+    let d = shape.len();
+    let per = e.cells.rho.len() / e.grid.len().max(1);
+    let mut l = Level {
+        cells: e.grid.len(),
+        acceleration: 0.0,
+        at: f64::NAN,
+        point: Vec::new(),
+        drift: 0.0,
+        velocity: 0.0,
+    };
+    let mut argmax = None;
+    let mut x = vec![0.0; d];
+    for g in 0..e.cells.rho.len() {
+        if e.skip[g] {
+            continue;
+        }
+        let nan = e.acc.iter().any(|a| a[g].is_nan());
+        if nan && !e.cells.rho[g].is_nan() {
+            continue;
+        }
+        let mut rest = g / per;
+        let mut margin = false;
+        for k in (0..d).rev() {
+            let i = rest % shape[k];
+            margin |= i < 2 * r || i + 2 * r >= shape[k];
+            rest /= shape[k];
+        }
+        if margin {
+            continue;
+        }
+        for (k, xk) in x.iter_mut().enumerate() {
+            *xk = at[k][g];
+        }
+        consider(&mut l, &mut argmax, g, &x, e, metric, rotating);
+    }
+    l
+}
+
+/// The nodal DG forecast on the plane of `plan`, on the cells `ranges` of
+/// the grid's own (the finite-volume forecast's region), at `points` nodes
+/// of `family` per axis.
+pub(super) fn nodal_dg(
+    inp: &Inputs<'_>,
+    plan: &Plan,
+    ranges: &[(usize, usize)],
+    region: Option<String>,
+    (family, points, data): (NodeFamily, usize, String),
+    refinements: &[usize],
+) -> Result<Scheme, DriftError> {
+    let axes: Vec<&Axis> = plan.axes.iter().map(|&a| &inp.grid.axes()[a]).collect();
+    let names: Vec<&str> = axes.iter().map(|a| a.coord.name()).collect();
+    let rotating = inp.bg.frame() == Frame::Axisymmetric;
+    let mut levels = Vec::new();
+    for &r in refinements {
+        let ax = axes
+            .iter()
+            .zip(ranges)
+            .map(|(a, &(s, e))| Axis::explicit(a.coord, refine(&a.edges[s..=e], r)))
+            .collect::<Result<Vec<_>, _>>()?;
+        let (e, at) = evaluate_nodes(inp, plan, Grid::new(ax)?, family, points)?;
+        levels.push(level_nodes(&e, &at, plan.metric, rotating, r));
+    }
+    Ok(Scheme {
+        name: format!(
+            "nodal DG of degree {} on {} {} nodes per axis of each cell, unsplit over [{}], \
+             local Lax-Friedrichs flux (Hesthaven & Warburton 2008)",
+            points - 1,
+            points,
+            family.name(),
+            names.join(", ")
+        ),
+        data,
+        orders: super::orders(&levels),
+        levels,
+        whole: None,
+        region,
+        shape: names
+            .iter()
+            .zip(&axes)
+            .map(|(c, a)| (c.to_string(), a.cells()))
             .collect(),
     })
 }

@@ -153,7 +153,7 @@ pub fn finite_volume(
 }
 
 /// Barycentric weights of the nodes.
-fn barycentric(nodes: &[f64]) -> Vec<f64> {
+pub(super) fn barycentric(nodes: &[f64]) -> Vec<f64> {
     (0..nodes.len())
         .map(|j| {
             1.0 / (0..nodes.len())
@@ -165,7 +165,7 @@ fn barycentric(nodes: &[f64]) -> Vec<f64> {
 }
 
 /// The Lagrange basis of `nodes` at `x` (x not a node, or exactly one).
-fn lagrange_at(nodes: &[f64], lambda: &[f64], x: f64) -> Vec<f64> {
+pub(super) fn lagrange_at(nodes: &[f64], lambda: &[f64], x: f64) -> Vec<f64> {
     if let Some(j) = nodes.iter().position(|&t| (t - x).abs() < 1e-15) {
         let mut v = vec![0.0; nodes.len()];
         v[j] = 1.0;
@@ -178,7 +178,7 @@ fn lagrange_at(nodes: &[f64], lambda: &[f64], x: f64) -> Vec<f64> {
 
 /// D[j][i] = ℓ_i'(ξ_j), the derivative of the i-th Lagrange polynomial at
 /// node j.
-fn derivative_matrix(nodes: &[f64], lambda: &[f64]) -> Vec<Vec<f64>> {
+pub(super) fn derivative_matrix(nodes: &[f64], lambda: &[f64]) -> Vec<Vec<f64>> {
     let n = nodes.len();
     let mut d = vec![vec![0.0; n]; n];
     for j in 0..n {

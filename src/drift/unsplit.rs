@@ -74,17 +74,43 @@ impl Metric {
     /// module documentation); `da[a]` = A₊ − A₋ along axis a, `vol` the
     /// volume.
     fn sources(self, x: &[f64], s: &State, da: &[f64], vol: f64) -> [f64; 3] {
-        let (rho, v, w, p) = (s.rho, &s.v, s.w, s.p);
+        let p = s.p;
+        let f = self.inertial(x, s);
         match self {
             Metric::Cartesian => [0.0; 3],
-            Metric::Cylindrical => [p * da[0] / vol + rho * w * w / x[0], 0.0, 0.0],
+            Metric::Cylindrical => [p * da[0] / vol + f[0], 0.0, 0.0],
+            Metric::Spherical => [p * da[0] / vol + f[0], p * da[1] / vol + f[1], 0.0],
+        }
+    }
+
+    /// The inertial (centrifugal and Coriolis-like) part of the geometric
+    /// momentum sources at `x` (see the module documentation).
+    pub(super) fn inertial(self, x: &[f64], s: &State) -> [f64; 3] {
+        let (rho, v, w) = (s.rho, &s.v, s.w);
+        match self {
+            Metric::Cartesian => [0.0; 3],
+            Metric::Cylindrical => [rho * w * w / x[0], 0.0, 0.0],
             Metric::Spherical => {
                 let cot = x[1].cos() / x[1].sin();
                 [
-                    p * da[0] / vol + rho * (v[1] * v[1] + w * w) / x[0],
-                    p * da[1] / vol + rho * (w * w * cot - v[0] * v[1]) / x[0],
+                    rho * (v[1] * v[1] + w * w) / x[0],
+                    rho * (w * w * cot - v[0] * v[1]) / x[0],
                     0.0,
                 ]
+            }
+        }
+    }
+
+    /// At the point `x`: the volume density J (volume = ∫ J dq) and the
+    /// area densities A_b = J/h_b of the faces normal to each axis.
+    pub(super) fn densities(self, x: &[f64]) -> (f64, [f64; 3]) {
+        match self {
+            Metric::Cartesian => (1.0, [1.0; 3]),
+            Metric::Cylindrical => (x[0], [x[0], x[0], 0.0]),
+            Metric::Spherical => {
+                let s = x[1].sin();
+                let r = x[0];
+                (r * r * s, [r * r * s, r * s, 0.0])
             }
         }
     }
@@ -108,11 +134,11 @@ pub struct Cells {
 
 /// A primitive state at a point.
 #[derive(Clone, Copy, Debug)]
-struct State {
-    rho: f64,
-    v: [f64; 3],
-    w: f64,
-    p: f64,
+pub(super) struct State {
+    pub(super) rho: f64,
+    pub(super) v: [f64; 3],
+    pub(super) w: f64,
+    pub(super) p: f64,
 }
 
 impl Cells {
@@ -128,7 +154,7 @@ impl Cells {
 
 /// The local Lax–Friedrichs flux of mass and momentum (slots 0, 1..=3)
 /// through a face normal to `axis` between the states `l` and `r`.
-fn rusanov(l: &State, r: &State, axis: usize, gamma: f64) -> [f64; 4] {
+pub(super) fn rusanov(l: &State, r: &State, axis: usize, gamma: f64) -> [f64; 4] {
     let speed = |s: &State| s.v[axis].abs() + (gamma * s.p / s.rho).sqrt();
     let a = speed(l).max(speed(r));
     let flux = |s: &State| -> [f64; 4] {
