@@ -544,10 +544,24 @@ fn extras(loaded: &Loaded, solution: &Solution) -> Result<sample::Extras, Error>
     let rotation = match solution {
         // Nothing asked for: the laws are not rebuilt.
         _ if quantities.is_empty() => Err(String::new()),
-        Solution::Torus { .. } => Err("a torus is at rest outside its surface (the floor), \
-             where the derivatives of its rotation law do not describe the velocity written; \
-             it is not available for a torus yet"
-            .to_string()),
+        // Inside (h > 0) the rotation law, outside the floor at rest: the
+        // same choice the torus makes at every point.
+        Solution::Torus { torus, .. } => {
+            let f = torus.formulas();
+            let get = |n: &str| f.iter().find(|(m, _)| *m == n).map(|(_, e)| (*e).clone());
+            match (get("h"), get("v")) {
+                (Some(h), Some(v)) => Ok(crate::formula::Expr::If(
+                    Box::new(crate::formula::Cond::Cmp(
+                        crate::formula::CmpOp::Gt,
+                        h,
+                        crate::formula::Expr::num(0.0),
+                    )),
+                    Box::new(v),
+                    Box::new(crate::formula::Expr::num(0.0)),
+                )),
+                _ => Err("the torus has no rotation law formula".to_string()),
+            }
+        }
         Solution::Closure { .. } => {
             let laws = closure::Laws::build(model).map_err(|e| Error::closure(loaded, e))?;
             if laws.column.is_some() {

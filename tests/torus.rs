@@ -533,3 +533,62 @@ fn issue8_torus_drift_forecast_leaves_the_floor_out() {
         "{v}"
     );
 }
+
+/// Diagnostic fields of a torus (issue 8, item 7), which used to be
+/// refused: inside, the rotation law's exact derivatives; outside, the
+/// floor at rest. For the constant specific angular momentum torus of
+/// Papaloizou & Pringle 1984 (§2, from memory) inside: ℓ = R v_φ = ℓ₀
+/// (here √(GM R_max) = 1), κ² = 0, ω_z = (1/R) d(R v_φ)/dR = 0, and the
+/// Bernoulli function ½v² + h + Φ equals the constant C = −GM/(2 R_max d)
+/// with d fixed by the inner edge (d − √(d² − d) = R_in/R_max); outside all
+/// of ℓ, κ², ω_z are 0.
+#[test]
+fn issue8_torus_diagnostic_fields_are_exact() {
+    let d = tempfile::tempdir().unwrap();
+    let file = common::variant(d.path(), "thick-torus", |v| {
+        v["output"]["fields"] = json!([
+            "density",
+            "vorticity_z",
+            "epicyclic_frequency_sq",
+            "specific_angular_momentum",
+            "bernoulli"
+        ]);
+    });
+    let o = run(d.path(), &["build", &file, "-o", "t.h5"]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let f = hdf5::File::open(d.path().join("t.h5")).unwrap();
+    let read = |n: &str| -> Vec<f64> {
+        f.dataset(&format!("state/{n}"))
+            .unwrap()
+            .read_raw()
+            .unwrap()
+    };
+    let (rho, w, k2, l, b) = (
+        read("density"),
+        read("vorticity_z"),
+        read("epicyclic_frequency_sq"),
+        read("specific_angular_momentum"),
+        read("bernoulli"),
+    );
+    let r_in: f64 = 0.62;
+    let dd = r_in * r_in / (2.0 * r_in - 1.0);
+    let c = -1.0 / (2.0 * dd);
+    let (mut inside, mut outside) = (0, 0);
+    for i in 0..rho.len() {
+        assert!(
+            w[i].abs() < 1e-12 && k2[i].abs() < 1e-12,
+            "{i}: {} {}",
+            w[i],
+            k2[i]
+        );
+        if rho[i] > 1e-7 {
+            inside += 1;
+            assert!((l[i] - 1.0).abs() < 1e-13, "{i}: {}", l[i]);
+            assert!((b[i] / c - 1.0).abs() < 1e-12, "{i}: {} vs {c}", b[i]);
+        } else {
+            outside += 1;
+            assert_eq!(l[i], 0.0);
+        }
+    }
+    assert!(inside > 1000 && outside > 1000, "{inside} {outside}");
+}
