@@ -50,6 +50,13 @@ pub struct Plan {
     pub fields: usize,
     /// Bytes of one stored value (8 or 4).
     pub value_bytes: u64,
+    /// Field datasets the file holds (links not counted).
+    pub datasets: usize,
+    /// Values of a field per cell (DG nodes or modes; 1 otherwise).
+    pub per_cell: u64,
+    /// Bytes of the node positions written for the XDMF file (0 when the
+    /// mesh is rectilinear).
+    pub node_bytes: u64,
     /// Bytes of the file.
     pub output_bytes: u64,
     /// Rows of the first axis per slab.
@@ -76,6 +83,20 @@ impl Plan {
         opts: &StreamOptions,
         threads: usize,
         sampler: Option<&crate::sample::Sampler<'_>>,
+    ) -> Plan {
+        Plan::with_groups(loaded, opts, threads, sampler, None)
+    }
+
+    /// [`Plan::new`], with the output's size taken from the groups as the
+    /// file will hold them (`groups`: the fields `output.fields` keeps,
+    /// nodes, modes and faces in their own shapes, links not counted).
+    /// Without them every field is counted with the rule's values per cell.
+    pub fn with_groups(
+        loaded: &Loaded,
+        opts: &StreamOptions,
+        threads: usize,
+        sampler: Option<&crate::sample::Sampler<'_>>,
+        groups: Option<&[GroupPlan]>,
     ) -> Plan {
         let gas = pipeline::gas_constants(loaded);
         // Every field of every group the sampler writes (a perturbed build
@@ -104,19 +125,65 @@ impl Plan {
         } else {
             1
         };
+        let chunk = chunk_shape(&shape, value_bytes as usize);
+        let grid_bytes: u64 = shape.iter().map(|n| 8 * (2 * *n as u64 + 1)).sum();
+        // The Cartesian position of every node, for the XDMF file.
+        let node_bytes = if crate::output::xdmf::rectilinear(&loaded.grid) {
+            0
+        } else {
+            3 * 8
+                * crate::output::xdmf::node_shape(&loaded.grid)
+                    .iter()
+                    .map(|n| *n as u64)
+                    .product::<u64>()
+        };
+        let per_cell = match loaded.sampling {
+            crate::sample::SamplingRule::Nodes { points, .. } => points,
+            crate::sample::SamplingRule::Modes { modes, .. } => modes,
+            _ => 1,
+        };
         // Stored whole chunks: a partial chunk at the end of an axis takes
         // the room of a whole one.
-        let chunk = chunk_shape(&shape, value_bytes as usize);
-        let stored: u64 = shape
-            .iter()
-            .zip(&chunk)
-            .map(|(n, c)| (n.div_ceil(*c) * c) as u64)
-            .product();
-        let grid_bytes: u64 = shape.iter().map(|n| 8 * (2 * *n as u64 + 1)).sum();
-        let output_bytes = specs.len() as u64 * stored * value_bytes
-            + grid_bytes
-            + loaded.json_text.len() as u64
-            + FILE_OVERHEAD;
+        let whole = |s: &[usize]| -> u64 {
+            let c = chunk_shape(s, value_bytes as usize);
+            s.iter()
+                .zip(&c)
+                .map(|(n, c)| (n.div_ceil(*c) * c) as u64)
+                .product::<u64>()
+                * value_bytes
+        };
+        let field_bytes = match groups {
+            Some(groups) => groups
+                .iter()
+                .filter(|g| g.link_to.is_none())
+                .flat_map(|g| &g.fields)
+                .map(|f| whole(&f.placement.shape(&shape)))
+                .sum(),
+            None => {
+                let mut s = shape.clone();
+                s.extend(std::iter::repeat_n(per_cell, shape.len()).filter(|_| per_cell > 1));
+                // Values at faces: every field at the faces normal to each
+                // axis (face nodes trailing), staggered components one each.
+                let faces = &loaded.faces;
+                let mut at_faces = 0;
+                for a in 0..shape.len() {
+                    let mut f = shape.clone();
+                    f[a] += 1;
+                    let one = whole(&f);
+                    if let Some(nodes) = faces.values {
+                        let n = nodes.unwrap_or(1);
+                        f.extend(std::iter::repeat_n(n, shape.len() - 1).filter(|_| n > 1));
+                        at_faces += specs.len() as u64 * whole(&f);
+                    }
+                    if faces.staggered {
+                        at_faces += one;
+                    }
+                }
+                specs.len() as u64 * whole(&s) + at_faces
+            }
+        };
+        let output_bytes =
+            field_bytes + grid_bytes + node_bytes + loaded.json_text.len() as u64 + FILE_OVERHEAD;
         // The writer converts one field of a slab at a time to f32, and
         // the library may hold a chunk per dataset.
         let convert = match opts.precision {
@@ -130,6 +197,14 @@ impl Plan {
             cells,
             fields: specs.len(),
             value_bytes,
+            per_cell: (per_cell as u64).pow(loaded.grid.shape().len() as u32),
+            datasets: groups.map_or(specs.len(), |g| {
+                g.iter()
+                    .filter(|g| g.link_to.is_none())
+                    .map(|g| g.fields.len())
+                    .sum()
+            }),
+            node_bytes,
             output_bytes,
             slab_rows,
             slabs,
@@ -137,6 +212,26 @@ impl Plan {
             reduced_bytes,
             in_flight,
             stream_bytes,
+        }
+    }
+}
+
+impl Plan {
+    /// ` x N values per cell` for DG nodes or modes, else nothing.
+    fn per_cell_text(&self) -> String {
+        if self.per_cell > 1 {
+            format!(" x {} values per cell", self.per_cell)
+        } else {
+            String::new()
+        }
+    }
+
+    /// `, and N of node positions` when they are written, else nothing.
+    fn nodes_text(&self) -> String {
+        if self.node_bytes > 0 {
+            format!(", and {} of node positions", bytes(self.node_bytes))
+        } else {
+            String::new()
         }
     }
 }
@@ -294,12 +389,14 @@ pub fn refuse_if_too_big(plan: &Plan, held: u64, dir: &Path) -> Result<(), Error
     let peak = held + plan.stream_bytes;
     if plan.output_bytes > room.disk {
         return Err(Error::Refused(format!(
-            "the output would take {} ({} cells x {} fields x {} bytes, in whole chunks) but \
-             only {} are free ({}); nothing was written",
+            "the output would take {} ({} cells x {} fields x {} bytes{}, in whole chunks{}) \
+             but only {} are free ({}); nothing was written",
             bytes(plan.output_bytes),
             plan.cells,
             plan.fields,
             plan.value_bytes,
+            plan.per_cell_text(),
+            plan.nodes_text(),
             bytes(room.disk),
             room.disk_source
         )));
@@ -386,7 +483,8 @@ pub fn estimate(
     let verify = t.elapsed();
     let sampler = built.sampler()?;
     let n0 = loaded.grid.shape()[0];
-    let plan = Plan::new(loaded, opts, threads, Some(&sampler));
+    let groups = built.groups()?;
+    let plan = Plan::with_groups(loaded, opts, threads, Some(&sampler), Some(&groups));
     let held = peak_resident();
     // Sample k rows from the middle, k growing until the time is long
     // enough to measure, after one row to warm up (the threads' buffers).
@@ -556,11 +654,13 @@ impl fmt::Display for Estimate {
         writeln!(f, "cells          {} ({})", p.cells, shape.join(" x "))?;
         writeln!(
             f,
-            "output bytes   {} ({}; {} fields of {}-byte values in whole chunks); {} free ({})",
+            "output bytes   {} ({}; {} datasets of {}-byte values{} in whole chunks{}); {} free ({})",
             p.output_bytes,
             bytes(p.output_bytes),
-            p.fields,
+            p.datasets,
             p.value_bytes,
+            p.per_cell_text(),
+            p.nodes_text(),
             bytes(self.room.disk),
             self.room.disk_source
         )?;
