@@ -800,7 +800,12 @@ fn build(
         }
         let written = crate::parallel::build(&loaded, &h5, force, reproducible, &opts, argv)?;
         if let Some(meta) = written {
-            report_written(&loaded, std::slice::from_ref(&h5), &meta.cautions);
+            // The HDF5 file and its XDMF description, as a serial build.
+            report_written(
+                &loaded,
+                &[h5.clone(), h5.with_extension("xmf")],
+                &meta.cautions,
+            );
         }
         return Ok(Outcome::Ok);
     }

@@ -66,10 +66,17 @@ fn issue11_mpi_builds_match_the_serial_build_byte_for_byte() {
             &[],
         );
         assert!(o.status.success(), "-n {ranks}: {}", text(&o));
+        // Rank 0 speaks for all, as a serial build: the HDF5 file and its
+        // XDMF description, once each.
         assert_eq!(
             text(&o).matches("wrote ").count(),
-            1,
+            2,
             "rank 0 speaks for all: {}",
+            text(&o)
+        );
+        assert!(
+            text(&o).contains(&format!("wrote {}", file.replace(".h5", ".xmf"))),
+            "{}",
             text(&o)
         );
     }
