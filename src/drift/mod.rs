@@ -75,6 +75,20 @@ pub struct Level {
     pub velocity: f64,
 }
 
+impl Level {
+    /// A level of `cells` cells before any point is considered.
+    fn empty(cells: usize) -> Level {
+        Level {
+            cells,
+            acceleration: 0.0,
+            at: f64::NAN,
+            point: Vec::new(),
+            drift: 0.0,
+            velocity: 0.0,
+        }
+    }
+}
+
 /// One scheme at the three resolutions.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Scheme {
@@ -258,14 +272,7 @@ fn level(
     disk: bool,
     skip: &[bool],
 ) -> Level {
-    let mut l = Level {
-        cells,
-        acceleration: 0.0,
-        at: f64::NAN,
-        point: Vec::new(),
-        drift: 0.0,
-        velocity: 0.0,
-    };
+    let mut l = Level::empty(cells);
     for i in 0..xs.len() {
         if skip.get(i).copied().unwrap_or(false) {
             continue;

@@ -238,14 +238,7 @@ fn level(e: &Evaluated, metric: Metric, rotating: bool, r: usize) -> (Level, Opt
     let shape = e.grid.shape();
     let d = shape.len();
     let centres: Vec<Vec<f64>> = e.grid.axes().iter().map(Axis::centers).collect();
-    let mut l = Level {
-        cells: e.grid.len(),
-        acceleration: 0.0,
-        at: f64::NAN,
-        point: Vec::new(),
-        drift: 0.0,
-        velocity: 0.0,
-    };
+    let mut l = Level::empty(e.grid.len());
     let mut argmax = None;
     let mut x = vec![0.0; d];
     for c in 0..e.grid.len() {
@@ -503,14 +496,7 @@ fn level_nodes(e: &Evaluated, at: &[Vec<f64>], metric: Metric, rotating: bool, r
     let shape = e.grid.shape();
     let d = shape.len();
     let per = e.cells.rho.len() / e.grid.len().max(1);
-    let mut l = Level {
-        cells: e.grid.len(),
-        acceleration: 0.0,
-        at: f64::NAN,
-        point: Vec::new(),
-        drift: 0.0,
-        velocity: 0.0,
-    };
+    let mut l = Level::empty(e.grid.len());
     let mut argmax = None;
     let mut x = vec![0.0; d];
     for g in 0..e.cells.rho.len() {
