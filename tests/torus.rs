@@ -532,6 +532,16 @@ fn issue8_torus_drift_forecast_leaves_the_floor_out() {
         3,
         "{v}"
     );
+    // On a meridional grid the torus is forecast on its plane (R, z), not
+    // along the midplane its shape ("disk") names.
+    let file = common::variant(d.path(), "thick-torus", |v| {
+        v["grid"] = json!({"R": {"from": 0.3, "to": 3.0, "cells": 32},
+                           "z": {"from": -1.0, "to": 1.0, "cells": 24}});
+    });
+    let o = run(d.path(), &["check", &file]);
+    let out = String::from_utf8_lossy(&o.stdout).to_string();
+    assert!(o.status.success(), "{out}");
+    assert!(out.contains("unsplit over [R, z]"), "{out}");
 }
 
 /// Diagnostic fields of a torus (issue 8, item 7), which used to be

@@ -334,6 +334,18 @@ pub(crate) fn orders(levels: &[Level]) -> Vec<f64> {
 /// perturbation's relative amplitude (from `--amplitude` or the largest
 /// peak of the profile's perturbations) and where it comes from.
 pub fn forecast(inp: &Inputs<'_>, amplitude: Option<(f64, String)>) -> Result<Drift, DriftError> {
+    // A torus varies in R and z whatever the model's shape says: on a
+    // grid with a plane of its own it is forecast there.
+    if inp.outside.is_some() && inp.grid.axes().len() > 1 {
+        if let Some(plan) = multi::plan(inp.grid, inp.bg.frame()) {
+            return match plan.short_axis(inp.grid) {
+                Some(a) => Ok(Drift::NotCovered(format!(
+                    "fewer than five cells along {a}"
+                ))),
+                None => forecast_plane(inp, &plan, amplitude),
+            };
+        }
+    }
     let (geom, coord, axis) = match line_of(inp.model, inp.grid) {
         Ok(l) => l,
         Err(why) => {
