@@ -52,6 +52,8 @@ pub struct Plan {
     pub value_bytes: u64,
     /// Field datasets the file holds (links not counted).
     pub datasets: usize,
+    /// Bytes of the field datasets of the file (without the grid).
+    pub field_bytes: u64,
     /// Values of a field per cell (DG nodes or modes; 1 otherwise).
     pub per_cell: u64,
     /// Bytes of the node positions written for the XDMF file (0 when the
@@ -198,6 +200,7 @@ impl Plan {
             fields: specs.len(),
             value_bytes,
             per_cell: (per_cell as u64).pow(loaded.grid.shape().len() as u32),
+            field_bytes,
             datasets: groups.map_or(specs.len(), |g| {
                 g.iter()
                     .filter(|g| g.link_to.is_none())
@@ -506,9 +509,10 @@ pub fn estimate(
         k = ((k as f64 * grow.max(2.0)) as usize).min(n0);
     };
     let sample = took.mul_f64(n0 as f64 / rows as f64);
-    let (written, write_took) = calibrate_write(built, loaded, path, opts, &slab, &plan)?;
-    let field_bytes = plan.cells * plan.fields as u64 * plan.value_bytes;
-    let write = write_took.mul_f64(field_bytes as f64 / written.max(1) as f64);
+    let (written, write_took, created) = calibrate_write(built, loaded, path, opts, &slab, &plan)?;
+    // The file with its grid, then the build's field bytes at the rate the
+    // calibration wrote them.
+    let write = created + write_took.mul_f64(plan.field_bytes as f64 / written.max(1) as f64);
     let dir = folder_of(path);
     Ok(Estimate {
         peak: held + plan.stream_bytes,
@@ -536,8 +540,8 @@ pub fn folder_of(path: &Path) -> PathBuf {
 /// Write slabs of the build's size, made of the rows of `slab` repeated,
 /// into a scratch file beside `path` with the build's own writer until
 /// about `WRITE_CALIBRATION_BYTES` (at least one slab) or the whole grid
-/// is written; the file is removed. Returns the field bytes written and
-/// the time taken.
+/// is written; the file is removed. Returns the field bytes written, the
+/// time they took, and the time creating the file (with the grid) took.
 fn calibrate_write(
     built: &Built<'_>,
     loaded: &Loaded,
@@ -545,7 +549,7 @@ fn calibrate_write(
     opts: &StreamOptions,
     slab: &crate::fields::Slab,
     plan: &Plan,
-) -> Result<(u64, Duration), Error> {
+) -> Result<(u64, Duration, Duration), Error> {
     let name = path
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
@@ -573,7 +577,10 @@ fn calibrate_write(
         })
         .collect();
     let n0 = plan.shape[0];
-    let row_bytes = plan.fields as u64 * plan.value_bytes * plan.cells / n0 as u64;
+    // Bytes of one row of the first axis as the slab holds it (every
+    // field, with its nodes, modes or faces).
+    let row_bytes = plan.value_bytes * slab.data.iter().map(|d| d.len() as u64).sum::<u64>()
+        / slab.rows.len().max(1) as u64;
     let rows = plan.slab_rows.min(n0);
     let want = (WRITE_CALIBRATION_BYTES / row_bytes.max(1)).max(rows as u64) as usize;
     // One slab of the build's size from the calibration rows.
@@ -600,6 +607,10 @@ fn calibrate_write(
         &groups,
         opts.precision,
     )?;
+    // Creating the file writes the whole grid (and its node positions)
+    // once, as the build does: timed apart, not scaled.
+    let created = t.elapsed();
+    let t = Instant::now();
     let mut written = 0u64;
     for r in slab_ranges(n0.min(want), rows) {
         let mut from = 0;
@@ -616,8 +627,11 @@ fn calibrate_write(
         }
         written += r.len() as u64 * row_bytes;
     }
+    // Closing (which flushes the scratch file to the disk) is left out:
+    // the writes are timed into the page cache, as documented.
+    let took = t.elapsed();
     out.finish(&built.metadata)?;
-    Ok((written, t.elapsed()))
+    Ok((written, took, created))
 }
 
 /// Bytes in binary units, three significant figures.
