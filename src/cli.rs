@@ -477,13 +477,10 @@ pub fn run(cli: Cli, argv: &str) -> Result<Outcome, Error> {
                     }
                 }
             }
-            match pipeline::drift_forecast(&loaded, &bg, &domain, amplitude, &alone, false) {
-                Ok(d) => {
-                    say!("{d}");
-                    more.extend(pipeline::drift_caution(&d));
-                }
-                Err(e) => say!("drift forecast\n  not evaluated: {e}"),
-            }
+            say_forecast(
+                pipeline::drift_forecast(&loaded, &bg, &domain, amplitude, &alone, false),
+                &mut more,
+            );
             for c in pipeline::cautions(&loaded, &bg, &domain)
                 .into_iter()
                 .chain(more)
@@ -1004,6 +1001,18 @@ fn print_estimate(
     Ok(Outcome::Ok)
 }
 
+/// Print the drift forecast of `check` (or why there is none), its
+/// cautions added to `more`.
+fn say_forecast(d: Result<crate::drift::Drift, crate::drift::DriftError>, more: &mut Vec<String>) {
+    match d {
+        Ok(d) => {
+            say!("{d}");
+            more.extend(pipeline::drift_caution(&d));
+        }
+        Err(e) => say!("drift forecast\n  not evaluated: {e}"),
+    }
+}
+
 /// `check` of a torus: its edges, balance inside and floor.
 fn check_torus(loaded: &Loaded, tolerance: f64, amplitude: Option<f64>) -> Result<Outcome, Error> {
     let t = crate::torus_run::torus(loaded)?;
@@ -1030,13 +1039,10 @@ fn check_torus(loaded: &Loaded, tolerance: f64, amplitude: Option<f64>) -> Resul
             }
         }
     }
-    match pipeline::torus_drift_forecast(loaded, &t, amplitude, &alone, false, None) {
-        Ok(d) => {
-            say!("{d}");
-            more.extend(pipeline::drift_caution(&d));
-        }
-        Err(e) => say!("drift forecast\n  not evaluated: {e}"),
-    }
+    say_forecast(
+        pipeline::torus_drift_forecast(loaded, &t, amplitude, &alone, false, None),
+        &mut more,
+    );
     for c in v.cautions.iter().chain(&more) {
         say!("caution: {c}");
     }

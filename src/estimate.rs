@@ -162,26 +162,34 @@ impl Plan {
                 .map(|f| whole(&f.placement.shape(&shape)))
                 .sum(),
             None => {
-                let mut s = shape.clone();
-                s.extend(std::iter::repeat_n(per_cell, shape.len()).filter(|_| per_cell > 1));
-                // Values at faces: every field at the faces normal to each
-                // axis (face nodes trailing), staggered components one each.
-                let faces = &loaded.faces;
-                let mut at_faces = 0;
-                for a in 0..shape.len() {
-                    let mut f = shape.clone();
-                    f[a] += 1;
-                    let one = whole(&f);
-                    if let Some(nodes) = faces.values {
-                        let n = nodes.unwrap_or(1);
-                        f.extend(std::iter::repeat_n(n, shape.len() - 1).filter(|_| n > 1));
-                        at_faces += specs.len() as u64 * whole(&f);
+                // The placements a build of this rule and face request
+                // writes (see `Sampler::faces` for the face layouts).
+                use crate::fields::{Location, Placement};
+                let d = shape.len();
+                let trailing = |n: usize, k: usize| if n > 1 { vec![n; k] } else { Vec::new() };
+                let cell = Placement {
+                    location: Location::Cell,
+                    extra: trailing(per_cell, d),
+                };
+                let mut bytes = specs.len() as u64 * whole(&cell.shape(&shape));
+                for axis in 0..d {
+                    let location = Location::Face { axis };
+                    if let Some(nodes) = loaded.faces.values {
+                        let at = Placement {
+                            location,
+                            extra: trailing(nodes.unwrap_or(1), d - 1),
+                        };
+                        bytes += specs.len() as u64 * whole(&at.shape(&shape));
                     }
-                    if faces.staggered {
-                        at_faces += one;
+                    if loaded.faces.staggered {
+                        let at = Placement {
+                            location,
+                            extra: Vec::new(),
+                        };
+                        bytes += whole(&at.shape(&shape));
                     }
                 }
-                specs.len() as u64 * whole(&s) + at_faces
+                bytes
             }
         };
         let output_bytes =

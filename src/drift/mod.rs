@@ -314,13 +314,8 @@ fn outside_note(inp: &Inputs<'_>) -> Option<String> {
 /// Per point of a line of `grid` with `per_cell` points in each cell,
 /// whether it is left out (see [`outside`]); empty when nothing is.
 fn skip_of(inp: &Inputs<'_>, grid: &Grid, per_cell: usize) -> Vec<bool> {
-    match inp.outside {
-        Some(f) => outside::mask(grid, f)
-            .into_iter()
-            .flat_map(|s| std::iter::repeat_n(s, per_cell))
-            .collect(),
-        None => Vec::new(),
-    }
+    inp.outside
+        .map_or_else(Vec::new, |f| outside::mask_points(grid, f, per_cell))
 }
 
 pub(crate) fn orders(levels: &[Level]) -> Vec<f64> {
@@ -409,13 +404,7 @@ pub fn forecast(inp: &Inputs<'_>, amplitude: Option<(f64, String)>) -> Result<Dr
             inp.cuts,
         )?;
         let v = primitives(&set, coord);
-        let xs: Vec<f64> = e
-            .windows(2)
-            .flat_map(|w| {
-                let (m, h) = (0.5 * (w[0] + w[1]), 0.5 * (w[1] - w[0]));
-                rule.nodes.iter().map(move |t| m + h * t)
-            })
-            .collect();
+        let xs = schemes::node_points(e, &rule.nodes);
         let g = sources(
             inp,
             &grid,

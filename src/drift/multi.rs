@@ -207,10 +207,10 @@ fn evaluate(
     add_forcing(inp, &grid, rule, &cells.rho, &mut g)?;
     let edges: Vec<Vec<f64>> = grid.axes().iter().map(|a| a.edges.clone()).collect();
     let acc = unsplit::finite_volume(plan.metric, &edges, &cells, &g, inp.model.gamma);
-    let skip = match inp.outside {
-        Some(f) => super::outside::mask(&grid, f),
-        None => vec![false; grid.len()],
-    };
+    let skip = inp.outside.map_or_else(
+        || vec![false; grid.len()],
+        |f| super::outside::mask_points(&grid, f, 1),
+    );
     Ok(Evaluated {
         skip,
         grid,
@@ -470,13 +470,10 @@ fn evaluate_nodes(
         &g,
         inp.model.gamma,
     );
-    let skip = match inp.outside {
-        Some(f) => super::outside::mask(&grid, f)
-            .into_iter()
-            .flat_map(|s| std::iter::repeat_n(s, per))
-            .collect(),
-        None => vec![false; n],
-    };
+    let skip = inp.outside.map_or_else(
+        || vec![false; n],
+        |f| super::outside::mask_points(&grid, f, per),
+    );
     Ok((
         Evaluated {
             skip,

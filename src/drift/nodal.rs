@@ -30,7 +30,7 @@
 //! verdicts (see [`super::multi`]).
 
 use super::schemes::{barycentric, derivative_matrix, lagrange_at};
-use super::unsplit::{rusanov, Cells, Metric, State};
+use super::unsplit::{flux, rusanov, Cells, Metric, State};
 
 /// The nodal DG acceleration components at every node (one array per
 /// axis; cell-major, the nodes of a cell as trailing indices in C order,
@@ -68,12 +68,6 @@ pub fn nodal_dg(
         cstride[a] = cstride[a + 1] * shape[a + 1];
         nstride[a] = nstride[a + 1] * q;
     }
-    let state = |g: usize| State {
-        rho: values.rho[g],
-        v: std::array::from_fn(|b| values.v.get(b).map_or(0.0, |v| v[g])),
-        w: values.w[g],
-        p: values.p[g],
-    };
     // The state the polynomial of the line of node `first` (local index 0
     // along b) of cell c takes where `basis` is evaluated.
     let end = |c: usize, b: usize, first: usize, basis: &[f64]| -> State {
@@ -92,14 +86,6 @@ pub fn nodal_dg(
             w: 0.0,
             p,
         }
-    };
-    let flux = |s: &State, b: usize| -> [f64; 4] {
-        let m = s.rho * s.v[b];
-        std::array::from_fn(|k| match k {
-            0 => m,
-            k if k - 1 == b => m * s.v[k - 1] + s.p,
-            k => m * s.v[k - 1],
-        })
     };
     let mut cidx = vec![0usize; d];
     let mut x = vec![0.0; d];
@@ -156,7 +142,10 @@ pub fn nodal_dg(
                     })
                     .collect();
                 let fl: Vec<[f64; 4]> = (0..q)
-                    .map(|j| flux(&state(c * per + first + j * nstride[b]), b).map(|f| area[j] * f))
+                    .map(|j| {
+                        flux(&values.state(c * per + first + j * nstride[b]), b)
+                            .map(|f| area[j] * f)
+                    })
                     .collect();
                 for i in 0..q {
                     let l = first + i * nstride[b];
@@ -183,7 +172,7 @@ pub fn nodal_dg(
         for (l, u) in du.iter().enumerate() {
             point(l, &mut x);
             let g = c * per + l;
-            let s = state(g);
+            let s = values.state(g);
             let inertial = metric.inertial(&x, &s);
             for a in 0..d {
                 let src = s.rho * gravity[a][g] + s.p * geo[l][a] + inertial[a];
@@ -266,13 +255,7 @@ mod tests {
         let (nx, ny, q) = (6, 3, 3);
         let ex: Vec<f64> = (0..=nx).map(|i| 0.1 * i as f64).collect();
         let ey: Vec<f64> = (0..=ny).map(|i| 0.3 * i as f64).collect();
-        let xs: Vec<f64> = ex
-            .windows(2)
-            .flat_map(|w| {
-                let (m, h) = (0.5 * (w[0] + w[1]), 0.5 * (w[1] - w[0]));
-                rule.nodes.iter().map(move |t| m + h * t)
-            })
-            .collect();
+        let xs = super::super::schemes::node_points(&ex, &rule.nodes);
         let line = super::super::schemes::Primitives {
             rho: xs.iter().map(|x| 1.3 * (-x).exp()).collect(),
             u: vec![0.0; xs.len()],

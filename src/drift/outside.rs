@@ -27,8 +27,20 @@ pub(super) fn meridional(grid: &Grid, x: &[f64]) -> (f64, f64) {
     (cyl, get("z").unwrap_or(0.0))
 }
 
+/// [`mask`] repeated for the `per_cell` points (DG nodes) of each cell.
+pub(super) fn mask_points(
+    grid: &Grid,
+    outside: &dyn Fn(f64, f64) -> bool,
+    per_cell: usize,
+) -> Vec<bool> {
+    mask(grid, outside)
+        .into_iter()
+        .flat_map(|s| std::iter::repeat_n(s, per_cell))
+        .collect()
+}
+
 /// Per cell of `grid` (C order), whether the forecast leaves it out.
-pub(super) fn mask(grid: &Grid, outside: &dyn Fn(f64, f64) -> bool) -> Vec<bool> {
+fn mask(grid: &Grid, outside: &dyn Fn(f64, f64) -> bool) -> Vec<bool> {
     let shape = grid.shape();
     let d = shape.len();
     let n = grid.len();

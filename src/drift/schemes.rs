@@ -152,6 +152,18 @@ pub fn finite_volume(
     out
 }
 
+/// The positions of the reference `nodes` (on [−1, 1]) in every cell of
+/// `edges`, cell after cell.
+pub(super) fn node_points(edges: &[f64], nodes: &[f64]) -> Vec<f64> {
+    edges
+        .windows(2)
+        .flat_map(|w| {
+            let (m, h) = (0.5 * (w[0] + w[1]), 0.5 * (w[1] - w[0]));
+            nodes.iter().map(move |t| m + h * t)
+        })
+        .collect()
+}
+
 /// Barycentric weights of the nodes.
 pub(super) fn barycentric(nodes: &[f64]) -> Vec<f64> {
     (0..nodes.len())

@@ -142,7 +142,8 @@ pub(super) struct State {
 }
 
 impl Cells {
-    fn state(&self, c: usize) -> State {
+    /// The primitive state at index `c` (a cell, or a node of a DG file).
+    pub(super) fn state(&self, c: usize) -> State {
         State {
             rho: self.rho[c],
             v: std::array::from_fn(|b| self.v.get(b).map_or(0.0, |v| v[c])),
@@ -152,19 +153,23 @@ impl Cells {
     }
 }
 
+/// The physical flux of mass and momentum (slots 0, 1..=3) along `axis`
+/// of the state `s`.
+pub(super) fn flux(s: &State, axis: usize) -> [f64; 4] {
+    let m = s.rho * s.v[axis];
+    std::array::from_fn(|k| match k {
+        0 => m,
+        k if k - 1 == axis => m * s.v[k - 1] + s.p,
+        k => m * s.v[k - 1],
+    })
+}
+
 /// The local Lax–Friedrichs flux of mass and momentum (slots 0, 1..=3)
 /// through a face normal to `axis` between the states `l` and `r`.
 pub(super) fn rusanov(l: &State, r: &State, axis: usize, gamma: f64) -> [f64; 4] {
     let speed = |s: &State| s.v[axis].abs() + (gamma * s.p / s.rho).sqrt();
     let a = speed(l).max(speed(r));
-    let flux = |s: &State| -> [f64; 4] {
-        let m = s.rho * s.v[axis];
-        std::array::from_fn(|k| match k {
-            0 => m,
-            k if k - 1 == axis => m * s.v[k - 1] + s.p,
-            k => m * s.v[k - 1],
-        })
-    };
+    let flux = |s: &State| flux(s, axis);
     let cons = |s: &State| -> [f64; 4] {
         std::array::from_fn(|k| if k == 0 { s.rho } else { s.rho * s.v[k - 1] })
     };
